@@ -1,0 +1,7 @@
+"""Allow ``python -m bcgen``."""
+
+import sys
+
+from bcgen.cli import main
+
+sys.exit(main())

@@ -1,0 +1,141 @@
+"""Epoch strings ↔ years relative to 1950 CE.
+
+Internally an epoch is a number of years relative to 1950 CE, negative in the
+past ("BP" means before 1950 CE, the radiocarbon convention). At the user
+interface an epoch always carries its reference, because a bare ``6000`` could
+mean 6000 BP, 6000 CE or a model year:
+
+=================  ==========================  ====================
+form               example                     years from 1950 CE
+=================  ==========================  ====================
+kilo-years BP      ``6ka``, ``6 ka BP``         -6000
+mega-years BP      ``3.2Ma``                    -3 200 000
+years BP           ``21000 BP``                 -21000
+years CE / AD      ``1850CE``, ``1850 AD``      -100
+years BCE / BC     ``4050 BCE``                 -5999
+=================  ==========================  ====================
+
+CE/BCE years follow historical reckoning, which has no year 0: 1 BCE is
+followed by 1 CE, so ``N BCE`` is the astronomical year ``1 - N`` and lies
+``N + 1949`` years before 1950 CE (``4050 BCE`` = 5999 BP; 6000 BP is 4051 BCE).
+
+A range for transient work is written ``START..END/STEP`` with each part an
+epoch or duration, for example ``130ka..115ka/1ka`` or ``1850CE..2000CE/10yr``;
+both ends are included when the step divides the span.
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+
+from bcgen.errors import EpochError
+
+ACCEPTED_FORMS = (
+    "'6ka' or '6 ka BP' (thousands of years before 1950 CE), '3.2Ma' (millions of years BP), "
+    "'21000 BP' (years before 1950 CE), '1850CE' or '1850 AD', '4050 BCE' or '4050 BC', "
+    "and ranges 'START..END/STEP' such as '130ka..115ka/1ka'"
+)
+
+_NUMBER = r"(?P<num>[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)"
+_EPOCH_RE = re.compile(
+    rf"^\s*{_NUMBER}\s*(?P<unit>ka|kyr|ma|myr|yr|a|bp|ce|ad|bce|bc)?\s*(?P<bp>bp)?\s*$",
+    re.IGNORECASE,
+)
+_DURATION_SCALE = {"yr": 1.0, "a": 1.0, "ka": 1e3, "kyr": 1e3, "ma": 1e6, "myr": 1e6}
+
+
+def _fail(text: str, why: str) -> EpochError:
+    return EpochError(f"cannot read epoch {text!r}: {why}; accepted forms: {ACCEPTED_FORMS}")
+
+
+def parse_epoch(text: str) -> float:
+    """Parse one epoch string into years relative to 1950 CE (negative in the past).
+
+    Parameters
+    ----------
+    text : str
+        An epoch such as ``"6ka"``, ``"127 ka BP"``, ``"21000 BP"``, ``"1850CE"``
+        or ``"4050 BCE"`` (see the module docstring for all forms).
+
+    Returns
+    -------
+    float
+        Years relative to 1950 CE.
+
+    Raises
+    ------
+    EpochError
+        For a bare number (ambiguous), an unknown unit or an empty string.
+    """
+    if not isinstance(text, str):
+        raise _fail(str(text), "an epoch must be a string with its reference (a bare number is "
+                    "ambiguous)")
+    match = _EPOCH_RE.match(text)
+    if not match:
+        raise _fail(text, "not an epoch")
+    value = float(match["num"])
+    unit = (match["unit"] or "").lower()
+    trailing_bp = match["bp"] is not None
+    if not unit:
+        raise _fail(text, "a bare number is ambiguous (years BP? CE? a model year?)")
+    if unit in ("ka", "kyr", "ma", "myr", "yr", "a"):
+        if value < 0:
+            raise _fail(text, "an age before present cannot be negative; write a CE year "
+                        "instead")
+        return -value * _DURATION_SCALE[unit]
+    if trailing_bp:
+        raise _fail(text, f"'{unit.upper()} BP' mixes two references")
+    if unit == "bp":
+        return -value
+    if value != int(value) or value < 1 and unit in ("bce", "bc"):
+        raise _fail(text, "CE and BCE years are whole numbers from 1 (there is no year 0)")
+    if unit in ("ce", "ad"):
+        if value < 1:
+            raise _fail(text, "CE years start at 1 (there is no year 0; use BCE)")
+        return value - 1950.0
+    # BCE / BC: historical N BCE is astronomical year 1 - N.
+    return (1.0 - value) - 1950.0
+
+
+def parse_duration(text: str) -> float:
+    """Parse a positive duration such as ``1ka``, ``500yr`` or ``0.5 kyr`` into years."""
+    m = re.match(rf"^\s*{_NUMBER}\s*(?P<unit>ka|kyr|ma|myr|yr|a)\s*$", text, re.IGNORECASE)
+    if not m:
+        raise _fail(text, "a step must be a duration such as '1ka', '500yr' or '10yr'")
+    years = float(m["num"]) * _DURATION_SCALE[m["unit"].lower()]
+    if years <= 0:
+        raise _fail(text, "a step must be positive")
+    return years
+
+
+def parse_epochs(text: str) -> np.ndarray:
+    """Parse an epoch or a range ``START..END/STEP`` into an array of years from 1950 CE.
+
+    The range runs from START towards END by STEP in whichever direction END
+    lies; END is included when the step divides the span exactly.
+    """
+    if not isinstance(text, str) or ".." not in text:
+        return np.array([parse_epoch(text)])
+    span, _, step_text = text.partition("/")
+    if not step_text:
+        raise _fail(text, "a range needs a step, as in '130ka..115ka/1ka'")
+    start_text, _, end_text = span.partition("..")
+    start, end, step = parse_epoch(start_text), parse_epoch(end_text), parse_duration(step_text)
+    n = int(np.floor(abs(end - start) / step + 1e-9))
+    if n > 50_000_000:
+        raise _fail(text, f"the range has {n + 1} epochs; the limit is 50,000,000")
+    direction = 1.0 if end >= start else -1.0
+    return start + direction * step * np.arange(n + 1)
+
+
+def format_epoch(years_from_1950: float) -> str:
+    """Format years relative to 1950 CE the way people write them (``6ka``, ``1850CE``)."""
+    t = float(years_from_1950)
+    if t > -1950 and t == round(t) and t % 1000 != 0:
+        return f"{int(t + 1950)}CE"
+    bp = -t
+    if bp % 1000 == 0:
+        return f"{bp / 1000:g}ka"
+    return f"{bp:g} BP"

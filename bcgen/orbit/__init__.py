@@ -1,0 +1,54 @@
+"""Orbital elements of the Earth for any epoch, from a registry of named solutions.
+
+=============  ==============================================================
+solution       what it is
+=============  ==============================================================
+``berger1978`` Berger (1978) trigonometric series (the PMIP protocols' choice)
+``table``      a user-supplied table, interpolated (see :mod:`bcgen.orbit.table`)
+``fixed``      explicit values with a stated perihelion convention
+=============  ==============================================================
+"""
+
+from __future__ import annotations
+
+from bcgen.errors import OrbitError
+from bcgen.orbit import berger1978, fixed, table
+from bcgen.orbit.elements import (
+    PERIHELION_CONVENTIONS,
+    OrbitalElements,
+    convert_perihelion,
+)
+
+#: Registry of orbital solutions: name → module with ``solve``, ``NAME`` and ``REFERENCE``.
+SOLUTIONS = {module.NAME: module for module in (berger1978, table, fixed)}
+
+
+def solve(years_from_1950, solution: str = "berger1978", **options) -> OrbitalElements:
+    """Orbital elements at the given epochs from a named solution.
+
+    Parameters
+    ----------
+    years_from_1950 : float or array_like
+        Epochs in years relative to 1950 CE (see :func:`bcgen.epochs.parse_epoch`).
+    solution : str
+        A name from :data:`SOLUTIONS`.
+    **options
+        Passed to the solution (``path`` for ``table``; the values and their
+        ``perihelion_convention`` for ``fixed``).
+    """
+    try:
+        module = SOLUTIONS[solution]
+    except KeyError:
+        raise OrbitError(
+            f"unknown orbital solution {solution!r}; expected one of {', '.join(SOLUTIONS)}"
+        ) from None
+    return module.solve(years_from_1950, **options)
+
+
+__all__ = [
+    "PERIHELION_CONVENTIONS",
+    "SOLUTIONS",
+    "OrbitalElements",
+    "convert_perihelion",
+    "solve",
+]

@@ -1,0 +1,199 @@
+"""The orbital elements of the Earth for one or many epochs, and their conventions.
+
+bcgen keeps one internal convention for the perihelion and converts to the
+others only at the edges, through :func:`convert_perihelion`.
+
+Internal convention (``perihelion_longitude``)
+    ϖ, the heliocentric longitude of perihelion measured from the moving
+    March (vernal) equinox, in degrees in [0, 360). About 102.0° in 1950 CE.
+    This is the number that the PMIP protocol tables print in their
+    "perihelion − 180°" column, and the ϖ of Berger (1978).
+
+Other conventions a model may use
+    ``sun_longitude_at_perihelion``: the geocentric (apparent) longitude of
+    the Sun at the moment of perihelion, ϖ + 180° (about 282° today).
+
+Each of these can be given in degrees or radians; the unit is part of the
+name of every field and option that carries an angle.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+
+from bcgen.errors import OrbitError
+
+PerihelionConvention = Literal["perihelion_longitude", "sun_longitude_at_perihelion"]
+AngleUnit = Literal["deg", "rad"]
+
+#: Perihelion conventions and what each means (documented in the README; a test checks that).
+PERIHELION_CONVENTIONS: dict[str, str] = {
+    "perihelion_longitude": (
+        "heliocentric longitude of perihelion from the moving March equinox (ϖ; about 102° "
+        "in 1950 CE; the 'perihelion - 180' column of PMIP protocol tables; Berger 1978)"
+    ),
+    "sun_longitude_at_perihelion": (
+        "geocentric longitude of the Sun at perihelion, ϖ + 180° (about 282° in 1950 CE)"
+    ),
+}
+
+_OFFSET_DEG = {"perihelion_longitude": 0.0, "sun_longitude_at_perihelion": 180.0}
+
+
+def convert_perihelion(
+    value,
+    from_convention: str,
+    to_convention: str,
+    from_unit: str = "deg",
+    to_unit: str = "deg",
+):
+    """Convert a longitude of perihelion between conventions and angle units.
+
+    Parameters
+    ----------
+    value : float or array_like
+        Longitude of perihelion in ``from_convention`` and ``from_unit``.
+    from_convention, to_convention : {"perihelion_longitude", "sun_longitude_at_perihelion"}
+        See :data:`PERIHELION_CONVENTIONS`.
+    from_unit, to_unit : {"deg", "rad"}
+        Angle units.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        The same direction expressed in ``to_convention``, reduced to [0, 360°)
+        or [0, 2π).
+    """
+    for conv in (from_convention, to_convention):
+        if conv not in _OFFSET_DEG:
+            raise OrbitError(
+                f"unknown perihelion convention {conv!r}; expected one of "
+                f"{', '.join(sorted(_OFFSET_DEG))}"
+            )
+    for unit in (from_unit, to_unit):
+        if unit not in ("deg", "rad"):
+            raise OrbitError(f"unknown angle unit {unit!r}; expected 'deg' or 'rad'")
+    deg = np.asarray(value, dtype=float)
+    if from_unit == "rad":
+        deg = np.rad2deg(deg)
+    deg = np.mod(deg - _OFFSET_DEG[from_convention] + _OFFSET_DEG[to_convention], 360.0)
+    out = np.deg2rad(deg) if to_unit == "rad" else deg
+    return out if np.ndim(out) else float(out)
+
+
+@dataclass(frozen=True)
+class OrbitalElements:
+    """Eccentricity, obliquity and longitude of perihelion for one or many epochs.
+
+    All array fields share one shape (scalar for one epoch). Validated on
+    creation: 0 ≤ e < 1, 0 ≤ ε ≤ 90°; ϖ is reduced to [0, 360).
+
+    Attributes
+    ----------
+    eccentricity : numpy.ndarray
+        Orbital eccentricity e (dimensionless).
+    obliquity_deg : numpy.ndarray
+        Obliquity ε of the ecliptic, degrees.
+    perihelion_longitude_deg : numpy.ndarray
+        ϖ, heliocentric longitude of perihelion from the moving March equinox,
+        degrees in [0, 360) (the internal convention, see module docstring).
+    years_from_1950 : numpy.ndarray or None
+        Epoch of each element set in years relative to 1950 CE (negative in the
+        past), or None for explicit values not tied to an epoch.
+    solution : str
+        Name of the solution that produced the values (``berger1978``,
+        ``table``, ``fixed``).
+    """
+
+    eccentricity: np.ndarray
+    obliquity_deg: np.ndarray
+    perihelion_longitude_deg: np.ndarray
+    years_from_1950: np.ndarray | None = None
+    solution: str = "fixed"
+
+    def __post_init__(self) -> None:
+        e = np.asarray(self.eccentricity, dtype=float)
+        eps = np.asarray(self.obliquity_deg, dtype=float)
+        varpi = np.mod(np.asarray(self.perihelion_longitude_deg, dtype=float), 360.0)
+        try:
+            shape = np.broadcast_shapes(e.shape, eps.shape, varpi.shape)
+        except ValueError as exc:
+            raise OrbitError(
+                f"orbital elements have incompatible shapes {e.shape}, {eps.shape}, {varpi.shape}"
+            ) from exc
+        if not np.all(np.isfinite(e)) or np.any(e < 0) or np.any(e >= 1):
+            raise OrbitError(
+                f"eccentricity must be in [0, 1) (a paleo orbit stays below about 0.07); "
+                f"got {_show(e)}"
+            )
+        if not np.all(np.isfinite(eps)) or np.any(eps < 0) or np.any(eps > 90):
+            raise OrbitError(
+                f"obliquity must be in [0, 90] degrees (Earth: about 22-24.5); got {_show(eps)}"
+            )
+        if not np.all(np.isfinite(varpi)):
+            raise OrbitError(f"longitude of perihelion must be finite; got {_show(varpi)}")
+        object.__setattr__(self, "eccentricity", np.broadcast_to(e, shape).copy())
+        object.__setattr__(self, "obliquity_deg", np.broadcast_to(eps, shape).copy())
+        object.__setattr__(self, "perihelion_longitude_deg", np.broadcast_to(varpi, shape).copy())
+        if self.years_from_1950 is not None:
+            t = np.asarray(self.years_from_1950, dtype=float)
+            object.__setattr__(self, "years_from_1950", np.broadcast_to(t, shape).copy())
+
+    # --- derived quantities -------------------------------------------------------------
+    @property
+    def shape(self) -> tuple[int, ...]:
+        """Shape shared by all element arrays."""
+        return self.eccentricity.shape
+
+    @property
+    def obliquity_rad(self) -> np.ndarray:
+        """Obliquity ε in radians."""
+        return np.deg2rad(self.obliquity_deg)
+
+    @property
+    def perihelion_longitude_rad(self) -> np.ndarray:
+        """ϖ in radians (internal convention)."""
+        return np.deg2rad(self.perihelion_longitude_deg)
+
+    @property
+    def sun_longitude_at_perihelion_deg(self) -> np.ndarray:
+        """Geocentric longitude of the Sun at perihelion, ϖ + 180°, in [0, 360)."""
+        return np.mod(self.perihelion_longitude_deg + 180.0, 360.0)
+
+    @property
+    def precession_index(self) -> np.ndarray:
+        """Climatic precession parameter e·sin ϖ (Berger 1978)."""
+        return self.eccentricity * np.sin(self.perihelion_longitude_rad)
+
+    @property
+    def years_bp(self) -> np.ndarray | None:
+        """Years before 1950 CE (positive in the past), or None."""
+        return None if self.years_from_1950 is None else -self.years_from_1950
+
+    def __getitem__(self, index) -> OrbitalElements:
+        """Select epochs, like indexing a numpy array."""
+        return OrbitalElements(
+            self.eccentricity[index],
+            self.obliquity_deg[index],
+            self.perihelion_longitude_deg[index],
+            None if self.years_from_1950 is None else self.years_from_1950[index],
+            self.solution,
+        )
+
+    def __len__(self) -> int:
+        return len(self.eccentricity)
+
+    def perihelion(self, convention: str = "perihelion_longitude", unit: str = "deg"):
+        """Longitude of perihelion in any named convention and unit (see module docstring)."""
+        return convert_perihelion(self.perihelion_longitude_deg, "perihelion_longitude",
+                                  convention, "deg", unit)
+
+
+def _show(values: np.ndarray) -> str:
+    flat = np.ravel(values)
+    bad = flat[~((flat >= 0) & np.isfinite(flat))] if flat.size > 1 else flat
+    shown = bad[:3] if bad.size else flat[:3]
+    return ", ".join(f"{v:g}" for v in shown) + (" ..." if flat.size > 3 else "")
