@@ -1,0 +1,1 @@
+"""Bundled text templates of bcgen (installed as the package ``bcgen.templates``)."""
