@@ -5,15 +5,15 @@ past ("BP" means before 1950 CE, the radiocarbon convention). At the user
 interface an epoch always carries its reference, because a bare ``6000`` could
 mean 6000 BP, 6000 CE or a model year:
 
-=================  ==========================  ====================
-form               example                     years from 1950 CE
-=================  ==========================  ====================
-kilo-years BP      ``6ka``, ``6 ka BP``         -6000
-mega-years BP      ``3.2Ma``                    -3 200 000
-years BP           ``21000 BP``                 -21000
-years CE / AD      ``1850CE``, ``1850 AD``      -100
-years BCE / BC     ``4050 BCE``                 -5999
-=================  ==========================  ====================
+=================  =============================  ====================
+form               example                        years from 1950 CE
+=================  =============================  ====================
+kilo-years BP      ``6ka``, ``6 ka BP``           -6000
+mega-years BP      ``3.2Ma``                      -3 200 000
+years BP           ``21000 BP``, ``500 yr BP``    -21000, -500
+years CE / AD      ``1850CE``, ``1850 AD``        -100
+years BCE / BC     ``4050 BCE``                   -5999
+=================  =============================  ====================
 
 CE/BCE years follow historical reckoning, which has no year 0: 1 BCE is
 followed by 1 CE, so ``N BCE`` is the astronomical year ``1 - N`` and lies
@@ -27,6 +27,7 @@ both ends are included when the step divides the span.
 from __future__ import annotations
 
 import re
+from typing import Literal
 
 import numpy as np
 
@@ -70,30 +71,28 @@ def parse_epoch(text: str) -> float:
         For a bare number (ambiguous), an unknown unit or an empty string.
     """
     if not isinstance(text, str):
-        raise _fail(str(text), "an epoch must be a string with its reference (a bare number is "
-                    "ambiguous)")
+        raise _fail(
+            str(text), "an epoch must be a string with its reference (a bare number is ambiguous)"
+        )
     match = _EPOCH_RE.match(text)
     if not match:
         raise _fail(text, "not an epoch")
     value = float(match["num"])
+    if not np.isfinite(value):
+        raise _fail(text, "the number is too large")
     unit = (match["unit"] or "").lower()
     trailing_bp = match["bp"] is not None
     if not unit:
         raise _fail(text, "a bare number is ambiguous (years BP? CE? a model year?)")
-    if unit in ("ka", "kyr", "ma", "myr", "yr", "a"):
-        if value < 0:
-            raise _fail(text, "an age before present cannot be negative; write a CE year "
-                        "instead")
-        return -value * _DURATION_SCALE[unit]
-    if trailing_bp:
+    if unit in ("bp", "ce", "ad", "bce", "bc") and trailing_bp:
         raise _fail(text, f"'{unit.upper()} BP' mixes two references")
-    if unit == "bp":
-        return -value
-    if value != int(value) or value < 1 and unit in ("bce", "bc"):
+    if unit in _DURATION_SCALE or unit == "bp":
+        if value < 0:
+            raise _fail(text, "an age before present cannot be negative; write a CE year instead")
+        return -value * _DURATION_SCALE.get(unit, 1.0) + 0.0  # + 0.0: no -0.0
+    if value != int(value) or value < 1:
         raise _fail(text, "CE and BCE years are whole numbers from 1 (there is no year 0)")
     if unit in ("ce", "ad"):
-        if value < 1:
-            raise _fail(text, "CE years start at 1 (there is no year 0; use BCE)")
         return value - 1950.0
     # BCE / BC: historical N BCE is astronomical year 1 - N.
     return (1.0 - value) - 1950.0
@@ -130,12 +129,60 @@ def parse_epochs(text: str) -> np.ndarray:
     return start + direction * step * np.arange(n + 1)
 
 
-def format_epoch(years_from_1950: float) -> str:
-    """Format years relative to 1950 CE the way people write them (``6ka``, ``1850CE``)."""
+EpochStyle = Literal["auto", "ka", "bp", "ce"]
+
+
+def format_epoch(years_from_1950: float, style: EpochStyle = "auto") -> str:
+    """Format years relative to 1950 CE the way people write them.
+
+    Parameters
+    ----------
+    years_from_1950 : float
+        Epoch in years relative to 1950 CE (negative in the past).
+    style : {"auto", "ka", "bp", "ce"}
+        ``"ka"`` gives ``6ka``, ``"bp"`` gives ``21000 BP`` and ``"ce"`` gives
+        ``1850CE`` or ``4050 BCE`` (whole years only; otherwise ``"bp"``).
+        ``"auto"`` picks ``ka`` for whole thousands of years in the past, ``ce``
+        for other whole years from 1 CE on and ``bp`` for the rest. Epochs after
+        1950 CE are always written as CE years.
+
+    Returns
+    -------
+    str
+        A string that :func:`parse_epoch` reads back to the same value (except
+        for fractional years after 1950 CE, written like ``2000.5CE``).
+    """
     t = float(years_from_1950)
-    if t > -1950 and t == round(t) and t % 1000 != 0:
-        return f"{int(t + 1950)}CE"
-    bp = -t
-    if bp % 1000 == 0:
-        return f"{bp / 1000:g}ka"
-    return f"{bp:g} BP"
+    whole = t == round(t)
+    if style == "auto":
+        style = "ka" if t <= 0 and t % 1000 == 0 else "ce" if whole and t > -1950 else "bp"
+    if t > 0 or (style == "ce" and whole):
+        if not whole:
+            return f"{t + 1950:.12g}CE"
+        year = int(round(t)) + 1950  # astronomical numbering: year 0 is 1 BCE
+        return f"{year}CE" if year >= 1 else f"{1 - year} BCE"
+    if style == "ka":
+        return f"{-t / 1000 + 0.0:.12g}ka"
+    return f"{-t + 0.0:.12g} BP"
+
+
+def epoch_labels(text: str) -> list[str]:
+    """Labels for the epochs of :func:`parse_epochs`, one per epoch.
+
+    One epoch keeps its text as given; the members of a range are formatted in
+    the style of the range's start (``130ka..115ka/1ka`` gives ``130ka``,
+    ``129ka``, ...).
+    """
+    years = parse_epochs(text)
+    if ".." not in text:
+        return [text]
+    start = _EPOCH_RE.match(text.partition("..")[0])
+    unit = (start["unit"] or "").lower() if start else ""
+    style: EpochStyle = (
+        "ka"
+        if unit in ("ka", "kyr", "ma", "myr")
+        else "ce"
+        if unit in ("ce", "ad", "bce", "bc")
+        else "bp"
+    )
+    return [format_epoch(t, style) for t in years]

@@ -62,7 +62,7 @@ def main(argv: list[str] | None = None) -> int:
         return 2
     with warnings.catch_warnings():
         warnings.simplefilter("default", BcgenWarning)
-        warnings.formatwarning = _format_warning
+        warnings.showwarning = _show_warning  # restored when the block ends
         try:
             return int(args._run(args) or 0)
         except BcgenError as exc:
@@ -81,8 +81,8 @@ def _one_line(message: str) -> str:
     return " ".join(message.split())
 
 
-def _format_warning(message, category, filename, lineno, line=None) -> str:
-    return f"bcgen: warning: {_one_line(str(message))}\n"
+def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
+    print(f"bcgen: warning: {_one_line(str(message))}", file=file or sys.stderr)
 
 
 if __name__ == "__main__":  # pragma: no cover

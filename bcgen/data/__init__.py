@@ -1,0 +1,1 @@
+"""Packaged published data tables (see the README of each folder for provenance)."""

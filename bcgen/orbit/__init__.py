@@ -11,12 +11,15 @@ solution       what it is
 
 from __future__ import annotations
 
+import inspect
+
 from bcgen.errors import OrbitError
 from bcgen.orbit import berger1978, fixed, table
 from bcgen.orbit.elements import (
     PERIHELION_CONVENTIONS,
     OrbitalElements,
     convert_perihelion,
+    wrap_angle,
 )
 
 #: Registry of orbital solutions: name → module with ``solve``, ``NAME`` and ``REFERENCE``.
@@ -35,6 +38,16 @@ def solve(years_from_1950, solution: str = "berger1978", **options) -> OrbitalEl
     **options
         Passed to the solution (``path`` for ``table``; the values and their
         ``perihelion_convention`` for ``fixed``).
+
+    Returns
+    -------
+    OrbitalElements
+        Elements with the shape of ``years_from_1950``.
+
+    Raises
+    ------
+    OrbitError
+        For an unknown solution or an option the solution does not take.
     """
     try:
         module = SOLUTIONS[solution]
@@ -42,6 +55,13 @@ def solve(years_from_1950, solution: str = "berger1978", **options) -> OrbitalEl
         raise OrbitError(
             f"unknown orbital solution {solution!r}; expected one of {', '.join(SOLUTIONS)}"
         ) from None
+    accepted = [name for name in inspect.signature(module.solve).parameters][1:]
+    unknown = sorted(set(options) - set(accepted))
+    if unknown:
+        raise OrbitError(
+            f"orbital solution {solution!r} does not take {', '.join(unknown)}; "
+            f"it takes {', '.join(accepted) or 'no options'}"
+        )
     return module.solve(years_from_1950, **options)
 
 
@@ -51,4 +71,5 @@ __all__ = [
     "OrbitalElements",
     "convert_perihelion",
     "solve",
+    "wrap_angle",
 ]

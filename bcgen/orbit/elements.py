@@ -79,9 +79,18 @@ def convert_perihelion(
     deg = np.asarray(value, dtype=float)
     if from_unit == "rad":
         deg = np.rad2deg(deg)
-    deg = np.mod(deg - _OFFSET_DEG[from_convention] + _OFFSET_DEG[to_convention], 360.0)
-    out = np.deg2rad(deg) if to_unit == "rad" else deg
+    deg = deg - _OFFSET_DEG[from_convention] + _OFFSET_DEG[to_convention]
+    out = wrap_angle(np.deg2rad(deg), 2.0 * np.pi) if to_unit == "rad" else wrap_angle(deg)
     return out if np.ndim(out) else float(out)
+
+
+def wrap_angle(angle, full_turn: float = 360.0) -> np.ndarray:
+    """Reduce angles to [0, full_turn), also for tiny negative inputs.
+
+    ``np.mod(-1e-17, 360.0)`` rounds to 360.0; this returns 0.0 instead.
+    """
+    out = np.mod(angle, full_turn)
+    return np.where(out >= full_turn, 0.0, out)
 
 
 @dataclass(frozen=True)
@@ -117,30 +126,37 @@ class OrbitalElements:
     def __post_init__(self) -> None:
         e = np.asarray(self.eccentricity, dtype=float)
         eps = np.asarray(self.obliquity_deg, dtype=float)
-        varpi = np.mod(np.asarray(self.perihelion_longitude_deg, dtype=float), 360.0)
+        varpi = np.asarray(self.perihelion_longitude_deg, dtype=float)
+        t = None if self.years_from_1950 is None else np.asarray(self.years_from_1950, float)
+        shapes = [a.shape for a in (e, eps, varpi, t) if a is not None]
         try:
-            shape = np.broadcast_shapes(e.shape, eps.shape, varpi.shape)
-        except ValueError as exc:
+            shape = np.broadcast_shapes(*shapes)
+        except ValueError:
             raise OrbitError(
-                f"orbital elements have incompatible shapes {e.shape}, {eps.shape}, {varpi.shape}"
-            ) from exc
-        if not np.all(np.isfinite(e)) or np.any(e < 0) or np.any(e >= 1):
-            raise OrbitError(
-                f"eccentricity must be in [0, 1) (a paleo orbit stays below about 0.07); "
-                f"got {_show(e)}"
-            )
-        if not np.all(np.isfinite(eps)) or np.any(eps < 0) or np.any(eps > 90):
-            raise OrbitError(
-                f"obliquity must be in [0, 90] degrees (Earth: about 22-24.5); got {_show(eps)}"
-            )
-        if not np.all(np.isfinite(varpi)):
-            raise OrbitError(f"longitude of perihelion must be finite; got {_show(varpi)}")
-        object.__setattr__(self, "eccentricity", np.broadcast_to(e, shape).copy())
-        object.__setattr__(self, "obliquity_deg", np.broadcast_to(eps, shape).copy())
-        object.__setattr__(self, "perihelion_longitude_deg", np.broadcast_to(varpi, shape).copy())
-        if self.years_from_1950 is not None:
-            t = np.asarray(self.years_from_1950, dtype=float)
-            object.__setattr__(self, "years_from_1950", np.broadcast_to(t, shape).copy())
+                f"orbital elements and epochs have incompatible shapes {shapes}"
+            ) from None
+        _check(
+            e,
+            (e >= 0) & (e < 1),
+            "eccentricity must be in [0, 1) (a paleo orbit stays below about 0.07)",
+        )
+        _check(
+            eps,
+            (eps >= 0) & (eps <= 90),
+            "obliquity must be in [0, 90] degrees (Earth: about 22-24.5)",
+        )
+        _check(varpi, np.isfinite(varpi), "longitude of perihelion must be finite")
+        fields = {
+            "eccentricity": e,
+            "obliquity_deg": eps,
+            "perihelion_longitude_deg": wrap_angle(varpi),
+            "years_from_1950": t,
+        }
+        for name, value in fields.items():
+            if value is not None:
+                value = np.broadcast_to(value, shape).copy()
+                value.flags.writeable = False
+                object.__setattr__(self, name, value)
 
     # --- derived quantities -------------------------------------------------------------
     @property
@@ -161,7 +177,7 @@ class OrbitalElements:
     @property
     def sun_longitude_at_perihelion_deg(self) -> np.ndarray:
         """Geocentric longitude of the Sun at perihelion, ϖ + 180°, in [0, 360)."""
-        return np.mod(self.perihelion_longitude_deg + 180.0, 360.0)
+        return wrap_angle(self.perihelion_longitude_deg + 180.0)
 
     @property
     def precession_index(self) -> np.ndarray:
@@ -188,12 +204,14 @@ class OrbitalElements:
 
     def perihelion(self, convention: str = "perihelion_longitude", unit: str = "deg"):
         """Longitude of perihelion in any named convention and unit (see module docstring)."""
-        return convert_perihelion(self.perihelion_longitude_deg, "perihelion_longitude",
-                                  convention, "deg", unit)
+        return convert_perihelion(
+            self.perihelion_longitude_deg, "perihelion_longitude", convention, "deg", unit
+        )
 
 
-def _show(values: np.ndarray) -> str:
-    flat = np.ravel(values)
-    bad = flat[~((flat >= 0) & np.isfinite(flat))] if flat.size > 1 else flat
-    shown = bad[:3] if bad.size else flat[:3]
-    return ", ".join(f"{v:g}" for v in shown) + (" ..." if flat.size > 3 else "")
+def _check(values: np.ndarray, ok: np.ndarray, what: str) -> None:
+    """Raise OrbitError naming up to three offending values unless all are ok."""
+    bad = np.ravel(values)[~np.ravel(ok)]  # NaN compares False, so it counts as bad
+    if bad.size:
+        shown = ", ".join(f"{v:g}" for v in bad[:3]) + (" ..." if bad.size > 3 else "")
+        raise OrbitError(f"{what}; got {shown}")

@@ -8,8 +8,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from bcgen.orbit.elements import PERIHELION_CONVENTIONS, OrbitalElements, convert_perihelion
 from bcgen.errors import OrbitError
+from bcgen.orbit.elements import PERIHELION_CONVENTIONS, OrbitalElements, convert_perihelion
 
 NAME = "fixed"
 REFERENCE = "explicit values given by the user"
@@ -18,10 +18,10 @@ REFERENCE = "explicit values given by the user"
 def solve(
     years_from_1950=None,
     *,
-    eccentricity: float,
-    obliquity_deg: float,
-    perihelion_deg: float,
-    perihelion_convention: str,
+    eccentricity: float | None = None,
+    obliquity_deg: float | None = None,
+    perihelion_deg: float | None = None,
+    perihelion_convention: str | None = None,
 ) -> OrbitalElements:
     """Orbital elements from explicit values, broadcast to the epochs if any are given.
 
@@ -37,15 +37,28 @@ def solve(
         Longitude of perihelion in degrees, in ``perihelion_convention``.
     perihelion_convention : str
         One of :data:`~bcgen.orbit.elements.PERIHELION_CONVENTIONS` (required).
+
+    Raises
+    ------
+    OrbitError
+        If a value or the perihelion convention is missing or invalid.
     """
+    given = {
+        "eccentricity": eccentricity,
+        "obliquity_deg": obliquity_deg,
+        "perihelion_deg": perihelion_deg,
+        "perihelion_convention": perihelion_convention,
+    }
+    missing = [name for name, value in given.items() if value is None]
+    if missing:
+        raise OrbitError(
+            f"the fixed orbital solution needs {', '.join(given)}; missing {', '.join(missing)}"
+        )
     if perihelion_convention not in PERIHELION_CONVENTIONS:
         raise OrbitError(
             f"the perihelion convention must be stated as one of "
             f"{', '.join(PERIHELION_CONVENTIONS)}; got {perihelion_convention!r}"
         )
     varpi = convert_perihelion(perihelion_deg, perihelion_convention, "perihelion_longitude")
-    if years_from_1950 is None:
-        return OrbitalElements(eccentricity, obliquity_deg, varpi, None, NAME)
-    t = np.asarray(years_from_1950, dtype=float)
-    ones = np.ones_like(t)
-    return OrbitalElements(eccentricity * ones, obliquity_deg * ones, varpi * ones, t, NAME)
+    t = None if years_from_1950 is None else np.asarray(years_from_1950, dtype=float)
+    return OrbitalElements(eccentricity, obliquity_deg, varpi, t, NAME)

@@ -30,6 +30,7 @@ from pathlib import Path
 
 import numpy as np
 
+from bcgen.epochs import format_epoch
 from bcgen.errors import InputFileError, OrbitError
 from bcgen.orbit.elements import OrbitalElements, convert_perihelion
 
@@ -61,9 +62,13 @@ def read_table(path) -> dict[str, np.ndarray]:
 
 
 def _read_csv(path: Path) -> dict[str, np.ndarray]:
+    try:
+        text = path.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputFileError(f"{path}: cannot read as a UTF-8 CSV table ({exc})") from None
     lines = [
         (n, line)
-        for n, line in enumerate(path.read_text(encoding="utf-8").splitlines(), start=1)
+        for n, line in enumerate(text.splitlines(), start=1)
         if line.strip() and not line.lstrip().startswith("#")
     ]
     if len(lines) < 3:
@@ -90,9 +95,9 @@ def _read_netcdf(path: Path) -> dict[str, np.ndarray]:
     try:
         with netCDF4.Dataset(path) as ds:
             return {
-                name: np.ma.filled(var[:].astype(float), np.nan).ravel()
+                name: np.ma.filled(var[:].astype(float), np.nan)
                 for name, var in ds.variables.items()
-                if var.ndim == 1
+                if var.ndim == 1 and var.dtype.kind in "iuf"
             }
     except OSError as exc:
         raise InputFileError(f"{path}: cannot read as NetCDF ({exc})") from None
@@ -116,6 +121,11 @@ def load(path) -> OrbitalElements:
     pname = _pick(cols, PERIHELION_COLUMNS, "perihelion", path)
     if "eccentricity" not in cols:
         raise InputFileError(f"{path}: no 'eccentricity' column among {', '.join(cols)}")
+    used = (tname, "eccentricity", oname, pname)
+    if len({cols[name].size for name in used}) != 1 or cols[tname].size < 2:
+        raise InputFileError(
+            f"{path}: the columns {', '.join(used)} must have the same length, at least 2"
+        )
     t = TIME_COLUMNS[tname](cols[tname])
     order = np.argsort(t)
     t = t[order]
@@ -140,7 +150,8 @@ def interpolate(table: OrbitalElements, years_from_1950) -> OrbitalElements:
     if np.any(outside):
         bad = float(t[outside].flat[0])
         raise OrbitError(
-            f"epoch {-bad:g} BP is outside the orbit table, which covers {-hi:g} to {-lo:g} BP"
+            f"epoch {format_epoch(bad)} is outside the orbit table, which covers "
+            f"{format_epoch(lo)} to {format_epoch(hi)}"
         )
     e = np.interp(t, table.years_from_1950, table.eccentricity)
     eps = np.interp(t, table.years_from_1950, table.obliquity_deg)
@@ -151,6 +162,16 @@ def interpolate(table: OrbitalElements, years_from_1950) -> OrbitalElements:
     return OrbitalElements(e, eps, varpi, t, NAME)
 
 
-def solve(years_from_1950, *, path) -> OrbitalElements:
-    """Orbital elements at the epochs, interpolated from the table at ``path``."""
+def solve(years_from_1950, *, path=None) -> OrbitalElements:
+    """Orbital elements at the epochs, interpolated from the table at ``path``.
+
+    Parameters
+    ----------
+    years_from_1950 : float or array_like
+        Epochs in years relative to 1950 CE, inside the table's range.
+    path : str or os.PathLike
+        A CSV or NetCDF table (see the module docstring for its columns).
+    """
+    if path is None:
+        raise OrbitError("the table orbital solution needs the path of a CSV or NetCDF table")
     return interpolate(load(path), years_from_1950)

@@ -1,0 +1,197 @@
+"""``bcgen orbit``: the Earth's orbital elements for one or more epochs.
+
+Prints e, ε, ϖ, ϖ + 180° and e·sin ϖ for each epoch, as a table for people
+(units and conventions in the header), as JSON or as CSV for scripts.
+"""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import json
+import sys
+import textwrap
+
+import numpy as np
+
+from bcgen.epochs import ACCEPTED_FORMS, epoch_labels, parse_epochs
+from bcgen.errors import OrbitError
+from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS, OrbitalElements, solve
+
+#: Output columns, in order: the JSON keys and the CSV header.
+COLUMNS = (
+    "epoch",
+    "years_bp",
+    "eccentricity",
+    "obliquity_deg",
+    "perihelion_longitude_deg",
+    "sun_longitude_at_perihelion_deg",
+    "precession_index",
+    "solution",
+)
+
+#: Options that only the ``fixed`` solution takes: option → keyword of ``fixed.solve``.
+FIXED_OPTIONS = {
+    "--eccentricity": "eccentricity",
+    "--obliquity-deg": "obliquity_deg",
+    "--perihelion-deg": "perihelion_deg",
+    "--perihelion-convention": "perihelion_convention",
+}
+
+EPILOG = f"""\
+{textwrap.fill(f"epochs: {ACCEPTED_FORMS}. A bare number such as 6000 is refused.", 88)}
+
+conventions:
+  years_bp                         years before 1950 CE (negative after 1950)
+  perihelion_longitude_deg         heliocentric longitude of perihelion from the moving
+                                   March equinox (about 102 in 1950 CE); the number PMIP
+                                   protocol tables print as "perihelion - 180"
+  sun_longitude_at_perihelion_deg  geocentric longitude of the Sun at perihelion
+                                   (perihelion_longitude_deg + 180, mod 360)
+  precession_index                 e * sin(perihelion_longitude)
+
+examples:
+  bcgen orbit 1850CE 6ka 21ka 127ka
+  bcgen orbit 130ka..115ka/1ka --format csv > orbit.csv
+  bcgen orbit 6ka --solution table --table my_orbits.csv
+  bcgen orbit 6ka --solution fixed --eccentricity 0.018682 --obliquity-deg 24.105 \\
+      --perihelion-deg 0.87 --perihelion-convention perihelion_longitude
+"""
+
+
+def register(subparsers) -> argparse.ArgumentParser:
+    """Add the ``orbit`` subcommand to the ``bcgen`` parser."""
+    parser = subparsers.add_parser(
+        "orbit",
+        help="orbital elements (e, obliquity, perihelion) for epochs",
+        description="Print the Earth's orbital elements for one or more epochs.",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument(
+        "epochs",
+        nargs="+",
+        metavar="EPOCH",
+        help="an epoch such as 6ka, '21000 BP', 1850CE, '4050 BCE', or a range 130ka..115ka/1ka",
+    )
+    parser.add_argument(
+        "--solution",
+        choices=list(SOLUTIONS),
+        default="berger1978",
+        help="orbital solution (default: berger1978, the Berger 1978 series)",
+    )
+    parser.add_argument(
+        "--table",
+        metavar="FILE",
+        help="CSV or NetCDF table of orbital elements, with --solution table",
+    )
+    parser.add_argument(
+        "--format",
+        choices=("text", "json", "csv"),
+        default="text",
+        help="output format (default: text)",
+    )
+    fixed = parser.add_argument_group("values for --solution fixed (all four required)")
+    fixed.add_argument("--eccentricity", type=float, metavar="E")
+    fixed.add_argument("--obliquity-deg", type=float, metavar="DEG")
+    fixed.add_argument("--perihelion-deg", type=float, metavar="DEG")
+    fixed.add_argument(
+        "--perihelion-convention",
+        choices=list(PERIHELION_CONVENTIONS),
+        help="convention of --perihelion-deg (required; never guessed)",
+    )
+    return parser
+
+
+def _solution_options(args: argparse.Namespace) -> dict:
+    """Check that the options match the solution and return its keyword arguments."""
+    fixed_given = {
+        option: getattr(args, keyword)
+        for option, keyword in FIXED_OPTIONS.items()
+        if getattr(args, keyword) is not None
+    }
+    if args.solution == "fixed":
+        missing = [option for option in FIXED_OPTIONS if option not in fixed_given]
+        if missing:
+            raise OrbitError(
+                f"--solution fixed needs {', '.join(FIXED_OPTIONS)}; missing {', '.join(missing)}"
+            )
+        return {FIXED_OPTIONS[option]: value for option, value in fixed_given.items()}
+    if fixed_given:
+        raise OrbitError(
+            f"{', '.join(fixed_given)}: only used with --solution fixed "
+            f"(the solution is {args.solution})"
+        )
+    if args.solution == "table":
+        if args.table is None:
+            raise OrbitError("--solution table needs --table FILE (a CSV or NetCDF table)")
+        return {"path": args.table}
+    if args.table is not None:
+        raise OrbitError(
+            f"--table: only used with --solution table (the solution is {args.solution})"
+        )
+    return {}
+
+
+def rows(labels: list[str], elements: OrbitalElements) -> list[dict]:
+    """One dictionary per epoch with the keys of :data:`COLUMNS` (plain Python values)."""
+    columns = {
+        "years_bp": elements.years_bp,
+        "eccentricity": elements.eccentricity,
+        "obliquity_deg": elements.obliquity_deg,
+        "perihelion_longitude_deg": elements.perihelion_longitude_deg,
+        "sun_longitude_at_perihelion_deg": elements.sun_longitude_at_perihelion_deg,
+        "precession_index": elements.precession_index,
+    }
+    lists = {
+        name: (np.asarray(values, dtype=float) + 0.0).tolist() for name, values in columns.items()
+    }
+    return [
+        {"epoch": label, **{name: lists[name][i] for name in lists}, "solution": elements.solution}
+        for i, label in enumerate(labels)
+    ]
+
+
+def format_text(records: list[dict]) -> str:
+    """Format the records as a table for people, with units and conventions in a header."""
+    solution = records[0]["solution"] if records else ""
+    lines = [
+        f"# Earth's orbital elements, solution: {solution}",
+        "# years BP: years before 1950 CE; angles in degrees",
+        "# perihelion: heliocentric longitude of perihelion from the moving March equinox",
+        "#   (PMIP tables: 'perihelion - 180'); Sun at perihelion = perihelion + 180",
+        "# precession index: e * sin(perihelion)",
+    ]
+    width = max([len("epoch")] + [len(r["epoch"]) for r in records])
+    lines.append(
+        f"{'epoch':<{width}}  {'years BP':>10}  {'eccentricity':>12}  {'obliquity':>9}  "
+        f"{'perihelion':>10}  {'Sun at perihelion':>17}  {'precession index':>16}"
+    )
+    for r in records:
+        lines.append(
+            f"{r['epoch']:<{width}}  {r['years_bp']:>10.10g}  {r['eccentricity']:>12.6f}  "
+            f"{r['obliquity_deg']:>9.4f}  {r['perihelion_longitude_deg']:>10.4f}  "
+            f"{r['sun_longitude_at_perihelion_deg']:>17.4f}  {r['precession_index']:>16.6f}"
+        )
+    return "\n".join(lines) + "\n"
+
+
+def run(args: argparse.Namespace) -> int:
+    """Compute and print the orbital elements for ``args.epochs``."""
+    options = _solution_options(args)
+    labels: list[str] = []
+    years: list[np.ndarray] = []
+    for text in args.epochs:
+        years.append(parse_epochs(text))
+        labels.extend(epoch_labels(text))
+    elements = solve(np.concatenate(years), args.solution, **options)
+    records = rows(labels, elements)
+    if args.format == "json":
+        sys.stdout.write(json.dumps(records, indent=2) + "\n")
+    elif args.format == "csv":
+        writer = csv.DictWriter(sys.stdout, fieldnames=COLUMNS, lineterminator="\n")
+        writer.writeheader()
+        writer.writerows(records)
+    else:
+        sys.stdout.write(format_text(records))
+    return 0
