@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import sys
 import warnings
 
@@ -75,6 +76,11 @@ def main(argv: list[str] | None = None) -> int:
                 raise
             print("bcgen: interrupted; no partial output was left", file=sys.stderr)
             return 130
+        except BrokenPipeError:
+            # The reader of our output went away (`bcgen orbit ... | head`): not an error.
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+            return 0
 
 
 def _one_line(message: str) -> str:

@@ -1,0 +1,196 @@
+"""``bcgen months``: fixed-angle month boundaries of a model year for an epoch.
+
+Prints, for each of the 12 months, the fixed-angle boundaries (fractional days
+after 1 January 00:00 of the model year), the Sun's true longitude at the start
+of the month and the calendar's fixed-day month for comparison.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+
+from bcgen.epochs import parse_epoch
+from bcgen.errors import CalendarError, OrbitError
+from bcgen.orbit import SOLUTIONS, OrbitalElements, solve
+from bcgen.solar_calendar.calendars import (
+    CALENDARS,
+    ModelCalendar,
+    canonical_calendar,
+    parse_anchor,
+)
+from bcgen.solar_calendar.months import MonthTable, fixed_angle_months
+
+_MONTHS = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
+
+EPILOG = """\
+examples:
+  bcgen months 6ka
+  bcgen months 127ka --reference 1850CE --format json
+  bcgen months 21ka --calendar 360_day --equinox "03-21 00:00"
+  bcgen months 6ka --perihelion-date "01-03 00:00"
+
+Boundaries are fractional days after 1 January 00:00 of the model year; a month
+that wraps the start of the year has a negative start or an end beyond the year.
+The true longitude of the Sun is geocentric: 0 at the March equinox, 90 deg at
+the June solstice. Each fixed-angle month spans the same arc of true longitude
+as the calendar's fixed-day month in the reference orbit.
+"""
+
+
+def register(subparsers) -> argparse.ArgumentParser:
+    """Add the ``months`` subcommand."""
+    parser = subparsers.add_parser(
+        "months",
+        help="fixed-angle month boundaries for an epoch",
+        description="Fixed-angle month boundaries of a model year for an epoch, with the "
+        "calendar's fixed-day months for comparison.",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument(
+        "epoch", metavar="EPOCH", help="epoch such as 6ka, '127 ka BP', 21000BP or 1850CE"
+    )
+    parser.add_argument(
+        "--calendar",
+        default="noleap",
+        metavar="NAME",
+        help=f"CF calendar: {', '.join(CALENDARS)} (default: noleap)",
+    )
+    anchor = parser.add_mutually_exclusive_group()
+    anchor.add_argument(
+        "--equinox",
+        metavar='"MM-DD HH:MM"',
+        help="date and time of the March equinox in every model year "
+        "(default: 03-21 12:00, as in the PMIP protocols)",
+    )
+    anchor.add_argument(
+        "--perihelion-date",
+        metavar='"MM-DD HH:MM"',
+        help="anchor the orbit by the date and time of perihelion instead",
+    )
+    parser.add_argument(
+        "--reference",
+        default="1950CE",
+        metavar="EPOCH",
+        help="epoch of the reference orbit whose fixed-day months define the "
+        "arcs (default: 1950CE; PMIP4 piControl is 1850CE)",
+    )
+    parser.add_argument(
+        "--solution",
+        default="berger1978",
+        metavar="NAME",
+        help=f"orbital solution: {', '.join(SOLUTIONS)} (default: berger1978)",
+    )
+    parser.add_argument(
+        "--year",
+        type=int,
+        default=1,
+        metavar="N",
+        help="model year, which matters in leap-year calendars (default: 1)",
+    )
+    parser.add_argument(
+        "--format",
+        choices=("text", "json"),
+        default="text",
+        help="text table (default) or JSON list of 12 month records",
+    )
+    return parser
+
+
+def _orbit(epoch_text: str, solution: str, option: str) -> OrbitalElements:
+    years = parse_epoch(epoch_text)
+    if solution not in SOLUTIONS:
+        raise OrbitError(
+            f"--solution: unknown orbital solution {solution!r}; expected one of "
+            f"{', '.join(SOLUTIONS)}"
+        )
+    try:
+        return solve(years, solution)
+    except TypeError:
+        raise OrbitError(
+            f"--solution {solution} needs values this command cannot take (a table file or "
+            f"explicit elements); use it from an experiment spec, or use berger1978 for {option}"
+        ) from None
+
+
+def _calendar(args) -> ModelCalendar:
+    name = canonical_calendar(args.calendar, source="--calendar")
+    if args.perihelion_date is not None:
+        option = "--perihelion-date"
+        anchor = parse_anchor(args.perihelion_date, "perihelion", source=option)
+    elif args.equinox is not None:
+        option = "--equinox"
+        anchor = parse_anchor(args.equinox, "march_equinox", source=option)
+    else:
+        return ModelCalendar(name)
+    try:
+        return ModelCalendar(name, anchor)
+    except CalendarError as exc:
+        raise CalendarError(f"{option}: {exc}; give a date that exists in every year") from None
+
+
+def _describe_orbit(orbit: OrbitalElements) -> str:
+    return (
+        f"eccentricity {float(orbit.eccentricity):.6f}, obliquity "
+        f"{float(orbit.obliquity_deg):.4f} deg, perihelion longitude "
+        f"{float(orbit.perihelion_longitude_deg):.4f} deg (heliocentric, from the moving March "
+        f"equinox; the Sun's true longitude at perihelion is "
+        f"{float(orbit.sun_longitude_at_perihelion_deg):.4f} deg)"
+    )
+
+
+def format_text(table: MonthTable, header: list[str]) -> str:
+    """Format the month table as aligned text under a header of conventions."""
+    lines = [f"# {line}" for line in header]
+    lines.append(
+        f"{'month':<6}{'start_day':>12}{'end_day':>12}{'length_days':>13}"
+        f"{'start_true_longitude_deg':>26}{'fixed_day_start_day':>21}{'fixed_day_length_days':>23}"
+    )
+    lines.append(
+        f"{'':<6}{'(days)':>12}{'(days)':>12}{'(days)':>13}{'(deg)':>26}{'(days)':>21}"
+        f"{'(days)':>23}"
+    )
+    for k in range(12):
+        lines.append(
+            f"{k + 1:>2} {_MONTHS[k]:<3}{table.start_day[k]:>12.4f}{table.end_day[k]:>12.4f}"
+            f"{table.length_days[k]:>13.4f}{table.start_true_longitude_deg[k]:>26.4f}"
+            f"{table.fixed_day_start_day[k]:>21.4f}{table.fixed_day_length_days[k]:>23.4f}"
+        )
+    lines.append(
+        f"{'sum':<6}{'':>24}{table.length_days.sum():>13.4f}{'':>26}{'':>21}"
+        f"{table.fixed_day_length_days.sum():>23.4f}"
+    )
+    return "\n".join(lines)
+
+
+def run(args) -> int:
+    """Compute and print the month table."""
+    calendar = _calendar(args)
+    try:
+        calendar.is_leap(args.year)
+    except CalendarError as exc:
+        raise CalendarError(f"--year: {exc}") from None
+    orbit = _orbit(args.epoch, args.solution, "EPOCH")
+    reference = _orbit(args.reference, args.solution, "--reference")
+    table = fixed_angle_months(orbit, calendar, reference=reference, year=args.year)
+    if args.format == "json":
+        print(json.dumps(table.to_records(), indent=2))
+        return 0
+    epoch = float(orbit.years_from_1950) if orbit.years_from_1950 is not None else 0.0
+    ref_epoch = float(reference.years_from_1950) if reference.years_from_1950 is not None else 0.0
+    header = [
+        f"fixed-angle months for {args.epoch} ({epoch:+g} years from 1950 CE); arcs of true "
+        f"longitude from the fixed-day months of the reference orbit {args.reference} "
+        f"({ref_epoch:+g} years from 1950 CE)",
+        f"orbit ({args.solution}): {_describe_orbit(orbit)}",
+        f"reference orbit ({args.solution}): {_describe_orbit(reference)}",
+        f"{calendar.describe()}; model year {args.year} "
+        f"({calendar.year_length_days(args.year):g} days), anchor at day "
+        f"{calendar.anchor_day(args.year):g}",
+        "days: fractional days after 1 January 00:00 of the model year (a month that wraps "
+        "the year starts below 0 or ends beyond the year length)",
+        "true longitude: geocentric, 0 deg at the March equinox, 90 deg at the June solstice",
+    ]
+    print(format_text(table, header))
+    return 0
