@@ -27,6 +27,10 @@ class CalendarError(BcgenError, ValueError):
     """An unknown calendar or an anchor date that does not exist in it."""
 
 
+class GridError(BcgenError, ValueError):
+    """An impossible or unusable grid (latitudes beyond ±90°, bad bounds, no latitude in a file)."""
+
+
 class SpecError(BcgenError, ValueError):
     """An invalid experiment spec (YAML syntax, unknown key, wrong type or value)."""
 
