@@ -1,0 +1,413 @@
+r"""Insolation integrated over arcs of the orbit, monthly means and annual means.
+
+Kepler's second law (equal areas in equal times) gives the time spent per
+unit of true longitude,
+
+.. math::
+
+    dt = \frac{L}{2\pi} \left(\frac{r}{a}\right)^2 \frac{d\lambda}{\sqrt{1 - e^2}},
+
+with L the length of the (anomalistic = model) year. The factor (r/a)² cancels
+the (a/r)² of the flux, so the energy received between two true longitudes is
+
+.. math::
+
+    \int Q\,dt = \frac{L S_0}{2\pi^2 \sqrt{1 - e^2}}
+        \int_{\lambda_1}^{\lambda_2} q(\varphi, \lambda)\,d\lambda,
+    \qquad q = H_0 \sin\varphi\sin\delta + \cos\varphi\cos\delta\sin H_0,
+
+which depends on the orbit only through ε and √(1 − e²), not through ϖ
+(Huybers 2006, Science 313, 508-511, doi:10.1126/science.1125249; Berger,
+Loutre & Yin 2010, Quat. Sci. Rev. 29, 1968-1982,
+doi:10.1016/j.quascirev.2010.05.007). The λ-integral is done by Gauss-Legendre
+quadrature split at the polar-night edges (:mod:`bcgen.insolation.quadrature`).
+
+Monthly means:
+
+* **fixed-day months** (``fixed_day``): the arithmetic mean of the daily means of the days of
+  the calendar month (the PMIP1 convention; Bonfils et al. 1998);
+* **fixed-angle months** (``fixed_angle``): the exact time mean over the fractional days the
+  month spans, i.e. the energy over its arc of true longitude divided by its
+  length in days.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+
+from bcgen.insolation.daily import (
+    CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+    DailyMethod,
+    InsolationError,
+    as_calendar,
+    check_latitude_deg,
+    check_method,
+    check_solar_constant,
+    daily_factor,
+    daily_insolation,
+    expand_orbit,
+    polar_edge_longitudes_rad,
+)
+from bcgen.insolation.quadrature import integrate_between_kinks
+from bcgen.orbit.elements import OrbitalElements
+from bcgen.solar_calendar.kepler import true_to_mean
+from bcgen.solar_calendar.months import MonthTable, fixed_angle_months, fixed_day_months
+from bcgen.solar_calendar.position import SolarYear
+
+MonthDefinition = Literal["fixed_day", "fixed_angle"]
+
+#: What a monthly mean holds under each month definition (the month definitions themselves
+#: are :data:`bcgen.solar_calendar.months.MONTH_DEFINITIONS`).
+MONTHLY_AVERAGING: dict[str, str] = {
+    "fixed_day": "mean of the daily means of the calendar month's days",
+    "fixed_angle": "exact time mean over the fractional days the month spans (energy over its "
+                   "arc of true longitude, by Kepler's second law, divided by its length)",
+}
+
+#: Mean tropical year, days (365 d 5 h 48 min 45 s; the Astronomical Almanac's value as
+#: quoted in published-values §4.5), the default year length for energies in J m-2.
+TROPICAL_YEAR_DAYS = 365.24219
+SECONDS_PER_DAY = 86400.0
+
+
+def _kinks_in_longitude(lat_rad, obliquity_rad, lower) -> np.ndarray:
+    """Break points of q in λ from ``lower`` on: polar-night edges, solstices, equinoxes.
+
+    The edges are where |φ| = 90° − |δ|, i.e. sin ε sin λ = ±cos φ; NaN where a
+    latitude has none. Shape: broadcast shape + (16,), covering the two revolutions an arc of at
+    most 2π from ``lower`` can touch.
+    """
+    edges = polar_edge_longitudes_rad(lat_rad, obliquity_rad)
+    # The solstices and equinoxes are added because just equatorward of the polar circles q
+    # is smooth but sharply curved at the solstices (polar day or night almost reached).
+    quarters = np.broadcast_to(np.arange(4) * (0.5 * np.pi), edges.shape)
+    base = np.concatenate([edges, quarters], axis=-1)
+    turn = 2.0 * np.pi * np.floor(np.asarray(lower) / (2.0 * np.pi))[..., np.newaxis]
+    return np.concatenate([base + turn + 2.0 * np.pi * j for j in range(2)], axis=-1)
+
+
+def integrate_daily_factor(latitude_rad, start_rad, end_rad, obliquity_rad) -> np.ndarray:
+    """∫ q(φ, λ) dλ from ``start_rad`` to ``end_rad`` (start ≤ end ≤ start + 2π).
+
+    q is the bracket of the daily-mean formula (:func:`~bcgen.insolation.daily.daily_factor`).
+    All arguments broadcast; the result has their broadcast shape.
+    """
+    lat, lo, hi, eps = np.broadcast_arrays(
+        *(np.asarray(v, dtype=float) for v in (latitude_rad, start_rad, end_rad, obliquity_rad))
+    )
+    sin_lat = np.sin(lat)[..., np.newaxis, np.newaxis]
+    cos_lat = np.cos(lat)[..., np.newaxis, np.newaxis]
+    sin_eps = np.sin(eps)[..., np.newaxis, np.newaxis]
+
+    def q(lam: np.ndarray) -> np.ndarray:
+        sin_dec = sin_eps * np.sin(lam)
+        return daily_factor(sin_lat, cos_lat, sin_dec, np.sqrt(1.0 - sin_dec * sin_dec))
+
+    return integrate_between_kinks(q, lo, hi, _kinks_in_longitude(lat, eps, lo))
+
+
+def _energy_scale(orbit: OrbitalElements, s0, year_length_days) -> np.ndarray:
+    """L S0 / (2π² √(1 − e²)): W m-2 day per unit of ∫ q dλ."""
+    e = orbit.eccentricity
+    return year_length_days * s0 / (2.0 * np.pi**2 * np.sqrt(1.0 - e * e))
+
+
+def insolation_energy_between_true_longitudes_j_m2(
+    orbit: OrbitalElements,
+    latitude_deg,
+    start_true_longitude_deg,
+    end_true_longitude_deg,
+    solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+    year_length_days: float = TROPICAL_YEAR_DAYS,
+) -> np.ndarray:
+    r"""TOA energy received while the Sun moves between two true longitudes (J m-2).
+
+    .. math::
+
+        E = \frac{L S_0}{2\pi^2 \sqrt{1 - e^2}} \int_{\lambda_1}^{\lambda_2} q\,d\lambda
+            \times 86400 \ \mathrm{s\,day^{-1}}
+
+    Independent of the longitude of perihelion ϖ (Kepler's second law; Huybers
+    2006; Berger, Loutre & Yin 2010). The arc runs eastward from the start to
+    the end longitude (wrapping through 360° when end < start).
+
+    Parameters
+    ----------
+    orbit : OrbitalElements
+        Orbital elements (leading axes of the result).
+    latitude_deg, start_true_longitude_deg, end_true_longitude_deg : array_like
+        Latitude (degrees north) and the arc of true longitude (degrees),
+        broadcast together.
+    solar_constant_wm2 : float
+        S0, W m-2.
+    year_length_days : float
+        Length of the orbital year in days of 86400 s (default the mean
+        tropical year, 365.24219 days).
+
+    Returns
+    -------
+    numpy.ndarray
+        J m-2, shape ``orbit.shape + broadcast(latitude, start, end).shape``.
+    """
+    lat = np.deg2rad(check_latitude_deg(latitude_deg))
+    s0 = check_solar_constant(solar_constant_wm2)
+    start = np.deg2rad(np.asarray(start_true_longitude_deg, dtype=float))
+    end = np.deg2rad(np.asarray(end_true_longitude_deg, dtype=float))
+    end = start + np.mod(end - start, 2.0 * np.pi)
+    shape = np.broadcast_shapes(lat.shape, start.shape, end.shape)
+    sub = expand_orbit(orbit, len(shape))
+    integral = integrate_daily_factor(lat, start, end, sub.obliquity_rad)
+    return _energy_scale(sub, s0, year_length_days) * integral * SECONDS_PER_DAY
+
+
+def annual_mean_insolation_wm2(
+    orbit: OrbitalElements,
+    latitude_deg,
+    solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+) -> np.ndarray:
+    r"""Exact annual-mean TOA insolation at each latitude (W m-2), calendar-free.
+
+    .. math::
+
+        \langle Q \rangle = \frac{S_0}{2\pi^2 \sqrt{1 - e^2}} \int_0^{2\pi} q\,d\lambda
+
+    Its global mean is S0 / (4√(1 − e²)) and its value at either pole
+    S0 sin ε / (π √(1 − e²)) (both checked in the test suite).
+
+    Returns
+    -------
+    numpy.ndarray
+        W m-2, shape ``orbit.shape + latitude_deg.shape``.
+    """
+    lat = np.deg2rad(check_latitude_deg(latitude_deg))
+    s0 = check_solar_constant(solar_constant_wm2)
+    sub = expand_orbit(orbit, lat.ndim)
+    integral = integrate_daily_factor(lat, 0.0, 2.0 * np.pi, sub.obliquity_rad)
+    return _energy_scale(sub, s0, 1.0) * integral
+
+
+def mean_insolation_between_true_longitudes_wm2(
+    orbit: OrbitalElements,
+    latitude_deg,
+    start_true_longitude_rad,
+    end_true_longitude_rad,
+    solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+) -> np.ndarray:
+    """Time-mean insolation while the Sun moves over an arc of true longitude (W m-2).
+
+    The energy of :func:`insolation_energy_between_true_longitudes_j_m2` divided
+    by the time the arc takes, from Kepler's equation,
+    Δt = L (M(λ2) − M(λ1)) / 2π with M the mean anomaly; L cancels.
+
+    Parameters
+    ----------
+    orbit : OrbitalElements
+        Orbital elements.
+    latitude_deg : float or array_like
+        Latitudes, degrees north.
+    start_true_longitude_rad, end_true_longitude_rad : array_like
+        The arcs, radians, of shape ``orbit.shape + T`` (for instance T = (12,)
+        for months); end > start, at most one revolution apart.
+    solar_constant_wm2 : float
+        S0, W m-2.
+
+    Returns
+    -------
+    numpy.ndarray
+        W m-2, shape ``orbit.shape + latitude_deg.shape + T``.
+    """
+    lat = check_latitude_deg(latitude_deg)
+    s0 = check_solar_constant(solar_constant_wm2)
+    start, end = np.broadcast_arrays(np.asarray(start_true_longitude_rad, dtype=float),
+                                     np.asarray(end_true_longitude_rad, dtype=float))
+    integral, dm = _arc_integrals(orbit, lat, start, end)
+    n_arc = start.ndim - len(orbit.shape)
+    insert = (Ellipsis,) + (np.newaxis,) * lat.ndim + (slice(None),) * n_arc
+    e = expand_orbit(orbit, lat.ndim + n_arc).eccentricity
+    # ⟨Q⟩ = (L S0 / (2π² √(1−e²))) ∫q dλ / (L ΔM / 2π) = S0 ∫q dλ / (π √(1−e²) ΔM)
+    return s0 * integral / (np.pi * np.sqrt(1.0 - e * e) * dm[insert])
+
+
+def _arc_integrals(orbit: OrbitalElements, lat_deg: np.ndarray, start, end):
+    """∫ q dλ over arcs of true longitude, and the mean anomaly the Sun sweeps over each.
+
+    ``start`` and ``end`` (radians) have shape ``orbit.shape + T``; returns the
+    integrals, shape ``orbit.shape + lat.shape + T``, and ΔM, shape
+    ``orbit.shape + T`` (the arc takes ΔM L / 2π days in an orbital year of L days).
+    """
+    n_arc = start.ndim - len(orbit.shape)
+    if n_arc < 0 or start.shape[: len(orbit.shape)] != orbit.shape:
+        raise InsolationError(
+            f"true-longitude arcs of shape {start.shape} do not start with the orbit's shape "
+            f"{orbit.shape}"
+        )
+    arc = expand_orbit(orbit, n_arc)
+    e, varpi = arc.eccentricity, arc.perihelion_longitude_rad
+    # Mean anomalies keep their revolution, so ΔM is the time of the arc even across perihelion.
+    dm = true_to_mean(end - varpi - np.pi, e) - true_to_mean(start - varpi - np.pi, e)
+    insert = (Ellipsis,) + (np.newaxis,) * lat_deg.ndim + (slice(None),) * n_arc
+    lat = np.deg2rad(lat_deg).reshape(lat_deg.shape + (1,) * n_arc)
+    obliquity = expand_orbit(orbit, lat_deg.ndim + n_arc).obliquity_rad
+    return integrate_daily_factor(lat, start[insert], end[insert], obliquity), dm
+
+
+@dataclass(frozen=True)
+class MonthlyInsolation:
+    """Monthly-mean insolation for one model year, with the month definition used.
+
+    Attributes
+    ----------
+    insolation_wm2 : numpy.ndarray
+        W m-2, shape ``orbit.shape + latitude_deg.shape + (12,)``.
+    latitude_deg : numpy.ndarray
+        Latitudes, degrees north.
+    months : bcgen.solar_calendar.months.MonthTable
+        The month boundaries (fractional days after 1 January 00:00 of the
+        model year) and the Sun's true longitude at each start.
+    definition : {"fixed_day", "fixed_angle"}
+        Month definition.
+    averaging : str
+        What each monthly value holds, in words.
+    solar_constant_wm2 : float
+        S0, W m-2.
+    """
+
+    insolation_wm2: np.ndarray
+    latitude_deg: np.ndarray
+    months: MonthTable
+    definition: MonthDefinition
+    averaging: str
+    solar_constant_wm2: float
+
+    def __post_init__(self) -> None:
+        check_month_definition(self.definition)
+        if self.insolation_wm2.shape[-1:] != (12,):
+            raise InsolationError(
+                f"insolation_wm2 must end with 12 months; got shape {self.insolation_wm2.shape}"
+            )
+
+
+def check_month_definition(definition: str) -> str:
+    """Refuse an unknown month definition, listing the known ones."""
+    if definition not in MONTHLY_AVERAGING:
+        raise InsolationError(
+            f"months: unknown month definition {definition!r}; expected one of "
+            f"{', '.join(MONTHLY_AVERAGING)}"
+        )
+    return definition
+
+
+def monthly_insolation(
+    orbit: OrbitalElements,
+    calendar,
+    latitude_deg,
+    solar_constant_wm2: float = CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+    months: MonthDefinition = "fixed_day",
+    reference: OrbitalElements | None = None,
+    year: int = 1,
+    daily_method: DailyMethod = "midday",
+) -> MonthlyInsolation:
+    """Monthly-mean TOA insolation over fixed-day or fixed-angle months (W m-2).
+
+    Parameters
+    ----------
+    orbit : OrbitalElements
+        Orbital elements of the experiment (leading axes of the result).
+    calendar : ModelCalendar or str
+        Model calendar with its anchor.
+    latitude_deg : float or array_like
+        Latitudes, degrees north.
+    solar_constant_wm2 : float
+        S0, W m-2 (default: CMIP6 piControl 1360.747 W m-2).
+    months : {"fixed_day", "fixed_angle"}
+        ``"fixed_day"``: calendar months, value = mean of the daily means made
+        with ``daily_method`` (the PMIP1 convention with ``"midday"``; Bonfils
+        et al. 1998). ``"fixed_angle"``: months spanning the true-longitude arcs
+        of the reference orbit's calendar months, value = exact time mean over
+        the fractional days spanned (``daily_method`` does not apply).
+    reference : OrbitalElements, optional
+        Reference orbit of fixed-angle months (default that of
+        :func:`bcgen.solar_calendar.months.fixed_angle_months`: 1950 CE).
+    year : int
+        Model year.
+    daily_method : {"midday", "day_average"}
+        Daily values averaged into fixed-day months.
+
+    Returns
+    -------
+    MonthlyInsolation
+        Values of shape ``orbit.shape + latitude_deg.shape + (12,)`` with the
+        month table and a sentence saying what the values hold.
+
+    Notes
+    -----
+    In calendars with leap years an orbital year that contains 29 February
+    is 366 days long (see :mod:`bcgen.solar_calendar.calendars`); a
+    fixed-angle month that contains the anchor is split there and each part
+    weighted by the length of its own orbital year.
+    """
+    check_month_definition(months)
+    check_method(daily_method)
+    calendar = as_calendar(calendar)
+    lat = check_latitude_deg(latitude_deg)
+    s0 = float(check_solar_constant(solar_constant_wm2))
+    if months == "fixed_day":
+        table = fixed_day_months(orbit, calendar, year=year)
+        daily = daily_insolation(orbit, calendar, lat, s0, year=year, method=daily_method)
+        values = _mean_over_day_months(daily.insolation_wm2, table.start_day, table.end_day)
+        averaging = f"{MONTHLY_AVERAGING[months]}; daily values: {daily.method_description}"
+    else:
+        table = fixed_angle_months(orbit, calendar, reference=reference, year=year)
+        values = _fixed_angle_means(orbit, calendar, year, table, lat, s0)
+        averaging = MONTHLY_AVERAGING[months]
+    return MonthlyInsolation(values, lat, table, months, averaging, s0)
+
+
+def _fixed_angle_means(orbit, calendar, year, table, lat, s0) -> np.ndarray:
+    """Exact time means over the months of ``table``, split at the anchor (leap-year rule).
+
+    Works for any month table whose months are shorter than an orbital year.
+    """
+    t0 = np.broadcast_to(table.start_day, orbit.shape + (12,))
+    t1 = np.broadcast_to(table.end_day, orbit.shape + (12,))
+    # The arcs from the month's times on the epoch's orbit: the start is the table's
+    # start_true_longitude_deg; the end of December is taken at its own time, because in
+    # leap-year calendars the Sun is not at the same longitude on two successive 1 Januaries.
+    solar = SolarYear(expand_orbit(orbit, 1), calendar, year=year)
+    start = solar.true_longitude_rad(t0)
+    end = start + np.mod(solar.true_longitude_rad(t1) - start, 2.0 * np.pi)
+    anchors = calendar.anchor_days(year, (-2, -1, 0, 1, 2))
+    lengths = np.diff(anchors)
+    tolerance = 1e-9  # days; a month that starts at the anchor belongs to the orbital year it opens
+    k = np.clip(np.searchsorted(anchors, t0 + tolerance, side="right") - 1, 0, lengths.size - 2)
+    crossing = anchors[k + 1] < t1 - tolerance
+    per = expand_orbit(orbit, 1)
+    varpi = per.perihelion_longitude_rad
+    anchor_lam = 0.0 if calendar.anchor.kind == "march_equinox" else varpi + np.pi
+    split = np.where(crossing, start + np.mod(anchor_lam - start, 2.0 * np.pi), end)
+    # Two pieces per month on a new axis: [start, split] in orbital year k, [split, end] in k + 1.
+    lo = np.stack([start, split], axis=-1)
+    hi = np.stack([split, end], axis=-1)
+    weight = np.stack([lengths[k], lengths[k + 1]], axis=-1)  # orbital-year lengths, days
+    integral, dm = _arc_integrals(orbit, lat, lo, hi)
+    days = np.sum(weight * dm, axis=-1) / (2.0 * np.pi)  # month lengths from Kepler's equation
+    insert = (Ellipsis,) + (np.newaxis,) * lat.ndim + (slice(None),) * 2
+    energy = np.sum(weight[insert] * integral, axis=-1)  # / (S0 / (2π² √(1−e²))), W m-2 day
+    e = expand_orbit(orbit, lat.ndim + 1).eccentricity
+    return s0 * energy / (2.0 * np.pi**2 * np.sqrt(1.0 - e * e) * days[insert[:-1]])
+
+
+def _mean_over_day_months(daily_wm2: np.ndarray, start_day, end_day) -> np.ndarray:
+    """Mean of daily values over months of whole days [start, end); daily axis last."""
+    start = np.asarray(start_day, dtype=float).reshape(-1, 12)[0]
+    end = np.asarray(end_day, dtype=float).reshape(-1, 12)[0]
+    if not (np.all(start == np.round(start)) and np.all(end == np.round(end))):
+        raise InsolationError("fixed-day months must start and end on whole days")
+    cumulative = np.concatenate(
+        [np.zeros(daily_wm2.shape[:-1] + (1,)), np.cumsum(daily_wm2, axis=-1)], axis=-1
+    )
+    lo, hi = start.astype(int), end.astype(int)
+    return (cumulative[..., hi] - cumulative[..., lo]) / (hi - lo)

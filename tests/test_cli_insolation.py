@@ -1,0 +1,160 @@
+"""`bcgen insolation`: output formats, options and errors (run in-process, plus one subprocess)."""
+
+import json
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+
+from bcgen.cli import main
+
+
+def run(capsys, *argv):
+    status = main(["insolation", *argv])
+    out, err = capsys.readouterr()
+    return status, out, err
+
+
+def one_error_line(err: str) -> str:
+    lines = err.splitlines()
+    assert len(lines) == 1, err
+    assert lines[0].startswith("bcgen: error: ")
+    assert "Traceback" not in err
+    return lines[0]
+
+
+def test_json_for_the_mid_holocene(capsys):
+    status, out, err = run(capsys, "6ka", "--lat", "90", "65", "0", "-90", "--format", "json")
+    assert status == 0 and err == ""
+    record = json.loads(out)
+    assert record["latitudes_deg"] == [90.0, 65.0, 0.0, -90.0]
+    assert record["months"] == list(range(1, 13))
+    values = np.array(record["insolation_wm2"])
+    assert values.shape == (4, 12) and np.all(values >= 0)
+    assert record["solar_constant_wm2"] == 1360.747  # CMIP6 piControl (published-values §1.1)
+    assert record["calendar"] == "noleap"
+    assert record["anchor"] == {"kind": "march_equinox", "date": "03-21 12:00", "day": 79.5}
+    assert record["month_definition"] == "fixed-day" and record["daily_method"] == "midday"
+    orbit = record["orbit"]
+    # midHolocene protocol orbit (PMIP3/PMIP4 design pages, published-values.md §1.1).
+    assert round(orbit["eccentricity"], 6) == 0.018682
+    assert round(orbit["obliquity_deg"], 3) == 24.105
+    assert round(orbit["perihelion_longitude_deg"], 2) == 0.87
+    assert "perihelion - 180" in orbit["perihelion_longitude_convention"]
+    assert orbit["sun_longitude_at_perihelion_deg"] == pytest.approx(
+        orbit["perihelion_longitude_deg"] + 180.0)
+    # Polar annual mean S0 sin(eps) / (pi sqrt(1 - e^2)) (published-values.md §4.2) from the
+    # orbit the command reports, and the month-length-weighted mean of its own monthly values
+    # (mean of daily means at midday, so only close to the exact value: 0.05 W m-2).
+    e, eps = orbit["eccentricity"], np.deg2rad(orbit["obliquity_deg"])
+    polar = 1360.747 * np.sin(eps) / (np.pi * np.sqrt(1 - e * e))
+    assert record["annual_mean_wm2"][0] == pytest.approx(polar, rel=1e-9)
+    assert record["annual_mean_wm2"][3] == pytest.approx(polar, rel=1e-9)
+    lengths = np.array(record["month_length_days"])
+    assert np.sum(values[0] * lengths) / 365 == pytest.approx(polar, abs=0.05)
+
+
+def test_text_table_for_people(capsys):
+    status, out, err = run(capsys, "6ka", "--lat", "65", "-65")
+    assert status == 0 and err == ""
+    lines = out.splitlines()
+    header = [line for line in lines if line.startswith("#")]
+    assert any("solar constant: 1360.747 W m-2" in line for line in header)
+    assert any("March equinox at 03-21 12:00" in line for line in header)
+    assert any("middle of each model day" in line for line in header)
+    table = [line for line in lines if not line.startswith("#")]
+    assert table[0].split() == ["lat", "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug",
+                                "Sep", "Oct", "Nov", "Dec", "annual"]
+    assert [row.split()[0] for row in table[1:]] == ["65.00", "-65.00"]
+    assert all(len(row.split()) == 14 for row in table[1:])
+
+
+def test_fixed_angle_months_with_own_reference_match_day_averaged_fixed_day(capsys):
+    # Definition of fixed-angle months (issue 3): with the epoch as its own reference they are
+    # the calendar months, and exact time means equal means of exact day averages.
+    _, out, _ = run(capsys, "127ka", "--lat", "80", "0", "--months", "fixed-angle",
+                    "--reference", "127ka", "--format", "json")
+    angle = json.loads(out)
+    _, out, _ = run(capsys, "127ka", "--lat", "80", "0", "--daily-method", "day-average",
+                    "--format", "json")
+    day = json.loads(out)
+    assert angle["month_definition"] == "fixed-angle" and angle["daily_method"] is None
+    assert angle["reference_epoch"] == "127ka"
+    np.testing.assert_allclose(angle["month_start_day"], day["month_start_day"], atol=1e-8)
+    np.testing.assert_allclose(angle["insolation_wm2"], day["insolation_wm2"], atol=1e-5)
+
+
+def test_fixed_angle_months_against_1850_reference(capsys):
+    status, out, err = run(capsys, "127ka", "--lat", "65", "--months", "fixed-angle",
+                           "--reference", "1850CE", "--format", "json")
+    assert status == 0 and err == ""
+    record = json.loads(out)
+    assert record["reference_epoch"] == "1850CE"
+    # piControl orbit (published-values.md §1.1; PMIP3 last-millennium page: 0.01676, 100.327).
+    assert round(record["reference_orbit"]["eccentricity"], 5) == 0.01676
+    lengths = np.array(record["month_length_days"])
+    assert lengths.sum() == pytest.approx(365.0, abs=1e-9)  # noleap months tile the year
+    # 127 ka: perihelion near the June solstice, so the boreal summer months are short
+    # (Kepler's second law): June must be shorter than December.
+    assert lengths[5] < lengths[11]
+
+
+def test_solar_constant_scales_the_values(capsys):
+    _, out, _ = run(capsys, "21ka", "--lat", "45", "--format", "json")
+    base = np.array(json.loads(out)["insolation_wm2"])
+    _, out, _ = run(capsys, "21ka", "--lat", "45", "--solar-constant", "1365", "--format", "json")
+    scaled = np.array(json.loads(out)["insolation_wm2"])
+    np.testing.assert_allclose(scaled, base * 1365 / 1360.747, rtol=1e-12)
+
+
+def test_equinox_and_calendar_options(capsys):
+    status, out, _ = run(capsys, "6ka", "--lat", "0", "--calendar", "360_day", "--equinox",
+                         "03-30 00:00", "--format", "json")
+    assert status == 0
+    record = json.loads(out)
+    assert record["calendar"] == "360_day"
+    assert record["anchor"]["date"] == "03-30 00:00" and record["anchor"]["day"] == 89.0
+    assert record["month_length_days"] == [30.0] * 12
+
+
+@pytest.mark.parametrize(
+    ("argv", "message"),
+    [
+        (["6ka", "--lat", "95"], "--lat: latitudes must be in [-90, 90]"),
+        (["6ka", "--lat", "10", "--reference", "1850CE"], "--reference applies to --months"),
+        (["6ka", "--lat", "10", "--months", "fixed-angle", "--daily-method", "midday"],
+         "--daily-method applies to --months fixed-day only"),
+        (["6ka", "--lat", "10", "--solar-constant", "-5"], "--solar-constant: expected a positive"),
+        (["6ka", "--lat", "10", "--calendar", "lunar"], "--calendar: unknown calendar 'lunar'"),
+        (["6ka", "--lat", "10", "--equinox", "21 March"], "--equinox: cannot read '21 March'"),
+        (["6000", "--lat", "10"], "a bare number is ambiguous"),
+    ],
+)
+def test_errors_are_one_line(capsys, argv, message):
+    status, out, err = run(capsys, *argv)
+    assert status == 2 and out == ""
+    assert message in one_error_line(err)
+
+
+def test_lat_is_required(capsys):
+    with pytest.raises(SystemExit) as exc:
+        main(["insolation", "6ka"])
+    assert exc.value.code == 2
+    assert "--lat" in one_error_line(capsys.readouterr().err)
+
+
+def test_help_cites_the_solar_constant_and_shows_an_example(capsys):
+    with pytest.raises(SystemExit):
+        main(["insolation", "--help"])
+    out = capsys.readouterr().out
+    assert "1360.747" in out and "CMIP6 piControl" in out and "Matthes et al. 2017" in out
+    assert "bcgen insolation 6ka --lat 90 65 0 -90" in out
+
+
+def test_installed_command_runs():
+    done = subprocess.run([sys.executable, "-m", "bcgen", "insolation", "6ka", "--lat", "90",
+                           "65", "0", "-90", "--format", "json"], capture_output=True, text=True,
+                          check=False)
+    assert done.returncode == 0, done.stderr
+    assert len(json.loads(done.stdout)["insolation_wm2"]) == 4
