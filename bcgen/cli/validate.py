@@ -1,0 +1,91 @@
+"""``bcgen validate``: check a model's own insolation (or orbit table) against an experiment spec.
+
+Exit status 0 when the output is consistent with the spec, 1 when it is not
+(the report is printed first, then one line ``bcgen: error: ...`` naming the
+largest error and the most likely mistake), 2 on bad input.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+
+from bcgen.errors import CheckFailed
+from bcgen.validate.compare import DEFAULT_TOLERANCE_WM2
+
+EPILOG = """\
+examples:
+  bcgen validate rsdt_Amon_mymodel_midHolocene.nc --spec configs/protocols/midHolocene.yaml
+  bcgen validate rsdt_day.nc --spec my6ka.yaml --var rsdt --format json
+  bcgen validate orbit_table.csv --spec my6ka.yaml --tolerance-wm2 0.5
+
+MODEL_FILE is NetCDF output holding TOA incoming shortwave (found by standard_name
+toa_incoming_shortwave_flux, or named with --var), daily or monthly means, zonal
+means or latitude-longitude fields, on any CF calendar; or a CSV table (.csv/.txt)
+from the model's orbit routine with columns time_days and declination_deg,
+distance_factor and/or true_longitude_deg.
+
+The verdict is 'consistent' when the largest error is within the tolerance plus a
+noise allowance (estimated from the residual) and no catalogued mistake larger than
+the tolerance fits significantly better than the reference. Findings name the most
+likely mistakes, each with its fitted value and the misfit before and after.
+"""
+
+
+def _non_negative(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a number of W m-2, got {text!r}") from None
+    if not math.isfinite(value) or value < 0:
+        raise argparse.ArgumentTypeError(f"expected a number >= 0, got {text!r}")
+    return value
+
+
+def register(subparsers) -> argparse.ArgumentParser:
+    """Add the ``validate`` subcommand."""
+    parser = subparsers.add_parser(
+        "validate",
+        help="check a model's own insolation against a spec and name what is wrong",
+        description="Compare a model's TOA insolation (or its orbit table) with bcgen's "
+                    "reference for an experiment spec, diagnose common mistakes and give a "
+                    "verdict (exit 0 consistent, 1 inconsistent, 2 bad input).",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument("model_file", metavar="MODEL_FILE",
+                        help="model NetCDF output, or a CSV orbit table (.csv or .txt)")
+    parser.add_argument("--spec", required=True, metavar="SPEC",
+                        help="the experiment spec (YAML) the model should follow")
+    parser.add_argument("--var", metavar="NAME",
+                        help="NetCDF variable (default: the one with standard_name "
+                             "toa_incoming_shortwave_flux)")
+    parser.add_argument("--format", choices=("text", "json"), default="text",
+                        help="text report (default) or JSON")
+    parser.add_argument("--tolerance-wm2", type=_non_negative, default=DEFAULT_TOLERANCE_WM2,
+                        metavar="X", help=f"tolerance on the largest error, W m-2 (default "
+                                          f"{DEFAULT_TOLERANCE_WM2:g}); a noise allowance is "
+                                          f"added")
+    parser.add_argument("--noise-wm2", type=_non_negative, default=None, metavar="SIGMA",
+                        help="noise level of the model output, W m-2 (default: estimated from "
+                             "the residual; 0 turns the noise allowance off)")
+    parser.add_argument("--daily-method", choices=("midday", "day_average"), default=None,
+                        help="how the reference forms daily means: day_average, the exact "
+                             "time mean of the model's time steps (default), or midday, the "
+                             "Sun's position at 12:00 of each day (a model that updates its "
+                             "orbit once a day, or reads bcgen's midday daily products)")
+    return parser
+
+
+def run(args: argparse.Namespace) -> int:
+    """Run ``bcgen validate``; raise CheckFailed (exit 1) when inconsistent."""
+    from bcgen.validate import validate
+    from bcgen.validate.report import summary_line, to_json, to_text
+
+    result = validate(args.model_file, args.spec, var=args.var,
+                      tolerance_wm2=args.tolerance_wm2, noise_wm2=args.noise_wm2,
+                      daily_method=args.daily_method)
+    print(to_json(result) if args.format == "json" else to_text(result))
+    if result.verdict != "consistent":
+        raise CheckFailed(summary_line(result))
+    return 0

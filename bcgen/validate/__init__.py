@@ -1,0 +1,346 @@
+"""Check a model's own orbit and insolation code against bcgen, and name what is wrong.
+
+``bcgen validate MODEL_FILE --spec SPEC`` reads what the model produced (TOA
+incoming shortwave in NetCDF, or a CSV table from its orbit routine; see
+:mod:`bcgen.validate.readers`), computes bcgen's reference for the same
+intervals and latitudes from the experiment spec
+(:mod:`bcgen.validate.reference`), reports the errors per month and latitude
+band with the worst places (:mod:`bcgen.validate.compare`), fits a catalogue
+of common mistakes (:mod:`bcgen.validate.diagnose`) and gives a verdict,
+``consistent`` or ``inconsistent`` (rule in :mod:`bcgen.validate.compare`).
+
+>>> from bcgen.validate import validate
+>>> result = validate("model_rsdt.nc", "configs/protocols/midHolocene.yaml")  # doctest: +SKIP
+>>> result.verdict, result.findings[0].code                                   # doctest: +SKIP
+('inconsistent', 'perihelion_opposite')
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Literal
+
+import numpy as np
+
+from bcgen.errors import BcgenError, InputFileError, SpecError
+from bcgen.insolation.daily import distance_factor as _distance_factor
+from bcgen.solar_calendar.calendars import Anchor, ModelCalendar
+from bcgen.validate import compare as _compare
+from bcgen.validate.compare import DEFAULT_BAND_EDGES_DEG, DEFAULT_TOLERANCE_WM2, Comparison
+from bcgen.validate.diagnose import CODES, Diagnosis, Finding
+from bcgen.validate.readers import (
+    TABLE_COLUMNS,
+    ModelOutput,
+    OrbitTable,
+    is_table_path,
+    month_of,
+    read_model_output,
+    read_orbit_table,
+)
+from bcgen.validate.reference import ForwardModel, Setup, insolation_from_geometry
+
+Verdict = Literal["consistent", "inconsistent"]
+
+
+class ValidateOptionError(BcgenError, ValueError):
+    """An impossible option of ``bcgen validate`` (a negative tolerance or noise level)."""
+
+#: How the reference forms the time mean of each model value by default (see setup_from_spec).
+DEFAULT_DAILY_METHOD = "day_average"
+
+#: Latitudes at which an orbit table is turned into insolation, degrees north.
+TABLE_LATITUDES_DEG = np.arange(-90.0, 91.0, 10.0)
+
+
+@dataclass(frozen=True)
+class ValidationResult:
+    """Everything ``bcgen validate`` found (see :mod:`bcgen.validate.report` for the output).
+
+    Attributes
+    ----------
+    verdict : {"consistent", "inconsistent"}
+    reasons : tuple of str
+        Why the verdict is ``inconsistent`` (empty when consistent).
+    tolerance_wm2, noise_wm2, allowed_max_abs_error_wm2 : float
+        T, the noise level σ used, and T + √(2 ln N) σ.
+    comparison : Comparison
+        Errors overall, per month and latitude band, worst places.
+    findings : tuple of Finding
+        Significant explanations, best first (``unexplained`` when inconsistent
+        and none is significant).
+    output : ModelOutput
+        What was read.
+    setup : Setup
+        The experiment as the reference used it (on the file's calendar).
+    table_errors : dict or None
+        For an orbit table, the errors of each column given.
+    notes : tuple of str
+        Assumptions worth knowing.
+    """
+
+    verdict: Verdict
+    reasons: tuple[str, ...]
+    tolerance_wm2: float
+    noise_wm2: float
+    allowed_max_abs_error_wm2: float
+    comparison: Comparison
+    findings: tuple[Finding, ...]
+    output: ModelOutput
+    setup: Setup
+    table_errors: dict | None = None
+    notes: tuple[str, ...] = ()
+
+    @property
+    def max_abs_error_wm2(self) -> float:
+        """Largest absolute error, W m-2."""
+        return self.comparison.max_abs_error_wm2
+
+    @property
+    def rms_error_wm2(self) -> float:
+        """RMS error, W m-2."""
+        return self.comparison.rms_error_wm2
+
+
+def setup_from_spec(spec, daily_method: str | None = None) -> Setup:
+    """Return the experiment a model is checked against, from a spec (path or ExperimentSpec).
+
+    ``daily_method`` defaults to :data:`DEFAULT_DAILY_METHOD` (``day_average``),
+    not to the spec's ``insolation.daily_method``: that key says how bcgen's own
+    daily products are formed, while a model's daily or monthly mean is the time
+    mean of its time steps, whose exact reference is the day average. The two
+    differ by up to about 1.2 W m-2 at the poles on the equinox days (the day
+    a pole enters or leaves polar night) and by less than 0.05 W m-2 almost
+    everywhere else. Give ``"midday"`` for a model that places the Sun once a
+    day at noon, or that reads bcgen's midday daily products as its forcing.
+    """
+    from bcgen.spec import ExperimentSpec, load_spec
+
+    if not isinstance(spec, ExperimentSpec):
+        spec = load_spec(spec)
+    where = f"{spec.path}: " if spec.path is not None else ""
+    if getattr(spec, "transient", None) is not None:
+        raise SpecError(f"{where}transient: validate checks one time slice; give a spec with "
+                        f"'epoch' for the model year you are checking")
+    cal = spec.calendar
+    anchor = Anchor(cal.anchor, cal.month, cal.day, cal.hour, cal.minute)
+    return Setup(
+        orbit=spec.resolve_orbit(),
+        solar_constant_wm2=float(spec.solar_constant_wm2),
+        calendar=ModelCalendar(cal.name, anchor),
+        daily_method=daily_method or DEFAULT_DAILY_METHOD,
+        epoch_label=spec.epoch or "",
+    )
+
+
+def table_to_output(table: OrbitTable, setup: Setup) -> ModelOutput:
+    """Turn an orbit table into the insolation it implies, a :class:`ModelOutput` of instants.
+
+    Each row's declination and distance factor give the daily-mean insolation
+    at :data:`TABLE_LATITUDES_DEG` with the spec's solar constant (what the
+    model's radiation code would receive at that moment, as a zonal mean). A
+    missing declination is derived from the true longitude and the spec's
+    obliquity, a missing distance factor from the true longitude and the spec's
+    e and ϖ.
+    """
+    orbit = setup.orbit
+    lam = None if table.true_longitude_deg is None else np.deg2rad(table.true_longitude_deg)
+    if table.declination_deg is not None:
+        dec = table.declination_deg
+    else:
+        dec = np.rad2deg(np.arcsin(np.sin(orbit.obliquity_rad) * np.sin(lam)))
+    if table.distance_factor is not None:
+        rho = table.distance_factor
+    elif lam is not None:
+        rho = _distance_factor(lam, orbit.eccentricity, orbit.perihelion_longitude_rad)
+    else:
+        raise InputFileError(f"{table.source}: needs a distance_factor or a true_longitude_deg "
+                             f"column to know the Earth-Sun distance")
+    values = insolation_from_geometry(TABLE_LATITUDES_DEG, dec, rho, setup.solar_constant_wm2)
+    values[~(np.isfinite(dec) & np.isfinite(rho))] = np.nan
+    given = [name for name in ("declination_deg", "distance_factor", "true_longitude_deg")
+             if getattr(table, name) is not None]
+    geometry = {name: getattr(table, name) for name in given}
+    if table.point_insolation_wm2:
+        geometry["point_insolation_wm2"] = table.point_insolation_wm2
+    return ModelOutput(
+        source=table.source,
+        calendar=None,
+        frequency="instant",
+        year=table.year,
+        start_day=table.time_days,
+        end_day=table.time_days.copy(),
+        month=month_of(setup.calendar, table.year, table.time_days),
+        latitude_deg=TABLE_LATITUDES_DEG.copy(),
+        insolation_wm2=values,
+        geometry=geometry,
+        notes=(f"orbit table ({', '.join(given)}) turned into daily-mean insolation at "
+               f"{TABLE_LATITUDES_DEG.size} latitudes with the spec's solar constant",),
+    )
+
+
+def _table_errors(output: ModelOutput, model: ForwardModel) -> dict:
+    """Errors of each column of an orbit table against the reference."""
+    from bcgen.insolation import instantaneous_insolation
+
+    ref = model.geometry(output.start_day, output.year)
+    out = {}
+    points = output.geometry.get("point_insolation_wm2", {})
+    if points:
+        setup, diffs = model.setup, []
+        for (lat, lon), given in points.items():
+            for y in np.unique(output.year):
+                sel = output.year == y
+                expected = instantaneous_insolation(setup.orbit, setup.calendar,
+                                                    output.start_day[sel], lat, lon,
+                                                    setup.solar_constant_wm2, year=int(y))
+                diffs.append(given[sel] - expected)
+        diff = np.concatenate(diffs)
+        diff = diff[np.isfinite(diff)]
+        if diff.size:
+            out["point_insolation_wm2"] = {"max_abs_error": float(np.max(np.abs(diff))),
+                                           "rms_error": float(np.sqrt(np.mean(diff * diff))),
+                                           "unit": "W m-2", "points": len(points)}
+    for name, given in output.geometry.items():
+        if name == "point_insolation_wm2":
+            continue
+        diff = given - ref[name]
+        if name == "true_longitude_deg":
+            diff = np.mod(diff + 180.0, 360.0) - 180.0
+        diff = diff[np.isfinite(diff)]
+        if diff.size:
+            out[name] = {"max_abs_error": float(np.max(np.abs(diff))),
+                         "rms_error": float(np.sqrt(np.mean(diff * diff))),
+                         "unit": "1" if name == "distance_factor" else "degree"}
+    return out
+
+
+def validate_output(
+    output: ModelOutput,
+    setup: Setup,
+    tolerance_wm2: float = DEFAULT_TOLERANCE_WM2,
+    noise_wm2: float | None = None,
+    band_edges_deg=DEFAULT_BAND_EDGES_DEG,
+    n_worst: int = 5,
+) -> ValidationResult:
+    """Compare, diagnose and judge model output that has been read already.
+
+    Parameters
+    ----------
+    output : ModelOutput
+        From :func:`read_model_output` or :func:`table_to_output`.
+    setup : Setup
+        The experiment (from :func:`setup_from_spec`).
+    tolerance_wm2 : float
+        T of the verdict rule (default 1 W m-2).
+    noise_wm2 : float, optional
+        Noise level σ; default: estimated from the residual.
+    band_edges_deg : sequence of float
+        Latitude band edges of the error table.
+    n_worst : int
+        Number of worst places reported.
+    """
+    if not np.isfinite(tolerance_wm2) or tolerance_wm2 < 0:
+        raise ValidateOptionError(f"--tolerance-wm2: expected a number >= 0, got {tolerance_wm2}")
+    if noise_wm2 is not None and (not np.isfinite(noise_wm2) or noise_wm2 < 0):
+        raise ValidateOptionError(f"--noise-wm2: expected a number >= 0, got {noise_wm2}")
+    notes = list(output.notes)
+    if output.calendar and output.calendar != setup.calendar.name:
+        notes.append(f"the file's calendar is {output.calendar} and the spec's "
+                     f"{setup.calendar.name}; the reference uses the file's calendar with the "
+                     f"spec's anchor ({setup.calendar.anchor.label})")
+    setup = setup.on_calendar(output.calendar)
+    model = ForwardModel(output, setup)
+    comparison = _compare.compare(output, model.predict(), band_edges_deg, n_worst)
+    sigma = comparison.noise_wm2 if noise_wm2 is None else float(noise_wm2)
+    allowed = comparison.allowed_max_abs_error_wm2(tolerance_wm2, sigma)
+    diagnosis = Diagnosis(model, output.insolation_wm2)
+    findings = [f for f in diagnosis.run() if f.significant]
+    reasons = []
+    if comparison.max_abs_error_wm2 > allowed:
+        where = comparison.worst[0].describe() if comparison.worst else ""
+        reasons.append(f"max abs error {comparison.max_abs_error_wm2:.2f} W m-2 exceeds the "
+                       f"allowed {allowed:.2f} W m-2 ({where})")
+    big = [f for f in findings if f.largest_effect_wm2 > tolerance_wm2]
+    if big:
+        reasons.append(f"{big[0].code} fits significantly better than the reference and changes "
+                       f"the insolation by up to {big[0].largest_effect_wm2:.2f} W m-2 (more "
+                       f"than the tolerance {tolerance_wm2:g} W m-2)")
+    verdict: Verdict = "inconsistent" if reasons else "consistent"
+    if verdict == "inconsistent" and not findings:
+        findings = [diagnosis.unexplained()]
+    table_errors = _table_errors(output, model) if output.geometry else None
+    point = (table_errors or {}).get("point_insolation_wm2")
+    if point and point["max_abs_error"] > allowed:
+        reasons.append(f"instantaneous insolation at the table's points is off by up to "
+                       f"{point['max_abs_error']:.2f} W m-2 (allowed {allowed:.2f} W m-2)")
+        verdict = "inconsistent"
+        if not findings:
+            findings = [diagnosis.unexplained()]
+    return ValidationResult(verdict, tuple(reasons), float(tolerance_wm2), sigma, allowed,
+                            comparison, tuple(findings), output, setup, table_errors,
+                            tuple(notes))
+
+
+def validate(
+    model_file,
+    spec,
+    *,
+    var: str | None = None,
+    tolerance_wm2: float = DEFAULT_TOLERANCE_WM2,
+    noise_wm2: float | None = None,
+    daily_method: str | None = None,
+    band_edges_deg=DEFAULT_BAND_EDGES_DEG,
+    n_worst: int = 5,
+) -> ValidationResult:
+    """Check a model's output file against an experiment spec.
+
+    Parameters
+    ----------
+    model_file : str or path-like
+        NetCDF model output, or a CSV orbit table (suffix ``.csv`` or ``.txt``).
+    spec : str, path-like or ExperimentSpec
+        The experiment spec (a time slice).
+    var : str, optional
+        NetCDF variable name (default: found by standard name).
+    tolerance_wm2 : float
+        Tolerance T of the verdict, W m-2 (default 1).
+    noise_wm2 : float, optional
+        Noise level σ, W m-2 (default: estimated).
+    daily_method : {"midday", "day_average"}, optional
+        How the reference forms daily means (default ``day_average``, the exact
+        time mean; see :func:`setup_from_spec`).
+    band_edges_deg, n_worst
+        See :func:`validate_output`.
+
+    Returns
+    -------
+    ValidationResult
+    """
+    setup = setup_from_spec(spec, daily_method)
+    if is_table_path(model_file):
+        if var is not None:
+            raise InputFileError(f"{model_file}: --var applies to NetCDF files, not to an orbit "
+                                 f"table")
+        output = table_to_output(read_orbit_table(model_file), setup)
+    else:
+        output = read_model_output(Path(model_file), var)
+    return validate_output(output, setup, tolerance_wm2, noise_wm2, band_edges_deg, n_worst)
+
+
+__all__ = [
+    "CODES",
+    "TABLE_COLUMNS",
+    "Comparison",
+    "Finding",
+    "ModelOutput",
+    "Setup",
+    "ValidateOptionError",
+    "ValidationResult",
+    "read_model_output",
+    "read_orbit_table",
+    "setup_from_spec",
+    "table_to_output",
+    "validate",
+    "validate_output",
+]
