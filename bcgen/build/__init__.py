@@ -1,0 +1,185 @@
+"""The main job: an experiment spec in, every product it asks for out, with a manifest.
+
+:func:`build` resolves the spec once (:class:`~bcgen.build.context.BuildContext`),
+computes every product (:mod:`bcgen.build.products`) before writing anything,
+refuses to overwrite existing outputs without ``force`` before writing
+anything, writes each file atomically, and finishes with a JSON manifest
+(each file with its SHA-256 and what it holds). A transient spec is handed to
+:mod:`bcgen.transient`.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from bcgen import __version__
+from bcgen.build.context import BuildContext
+from bcgen.build.products import PRODUCTS, Output, make_outputs
+from bcgen.errors import OutputError
+from bcgen.spec import ExperimentSpec
+from bcgen.writer import write_netcdf
+
+__all__ = ["PRODUCTS", "BuildResult", "build", "write_text_atomic"]
+
+
+@dataclass
+class BuildResult:
+    """What a build wrote and what it checked."""
+
+    directory: Path
+    files: list[dict] = field(default_factory=list)
+    manifest: Path | None = None
+    context: BuildContext | None = None
+    orbit_checks: tuple = ()
+
+    @property
+    def agrees_with_expected(self) -> bool:
+        """False if any published expected value disagrees with the computed orbit."""
+        return all(check.agrees for check in self.orbit_checks)
+
+
+def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
+          command: str | None = None) -> BuildResult:
+    """Build every product of a spec into ``output_dir`` (default: the spec's ``output.directory``).
+
+    Parameters
+    ----------
+    spec : ExperimentSpec
+        A validated spec (:func:`bcgen.spec.load_spec`).
+    output_dir : path, optional
+        Folder for the outputs; created if missing.
+    force : bool
+        Replace existing outputs.
+    command : str, optional
+        The command line, recorded in each file's ``history``.
+
+    Returns
+    -------
+    BuildResult
+        The files written (name, bytes, sha256, product, description) and the
+        comparison with the spec's expected orbit values, if any.
+    """
+    if spec.is_transient:
+        from bcgen.transient import build_transient
+
+        return build_transient(spec, output_dir, force=force, command=command)
+    directory = Path(output_dir if output_dir is not None else spec.output.directory)
+    ctx = BuildContext(spec, command=command)
+    outputs = make_outputs(ctx)
+    manifest_path = directory / manifest_name(spec)
+    _prepare_directory(directory, [o.file_name for o in outputs] + [manifest_path.name], force)
+    result = BuildResult(directory, context=ctx)
+    if spec.orbit.expected is not None:
+        result.orbit_checks = tuple(spec.orbit.expected.compare(ctx.orbit))
+    encoding_options = {"compression_level": spec.output.compression_level,
+                        "shuffle": spec.output.shuffle}
+    for out in outputs:
+        path = directory / out.file_name
+        if out.dataset is not None:
+            write_netcdf(out.dataset, path, force=force,
+                         encoding=_encoding(out.dataset, **encoding_options))
+        else:
+            write_text_atomic(path, out.text, force=force)
+        result.files.append(_file_record(path, out))
+    result.manifest = _write_manifest(manifest_path, ctx, result, force)
+    return result
+
+
+def manifest_name(spec: ExperimentSpec) -> str:
+    """File name of the build's manifest."""
+    return f"{spec.experiment.name}_manifest.json"
+
+
+def _prepare_directory(directory: Path, names: list[str], force: bool) -> None:
+    if directory.exists() and not directory.is_dir():
+        raise OutputError(f"output folder {directory} is a file; give a folder with -o")
+    try:
+        directory.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise OutputError(f"cannot create output folder {directory}: {exc.strerror}") from None
+    if not os.access(directory, os.W_OK | os.X_OK):
+        raise OutputError(f"output folder {directory} is not writable")
+    if not force:
+        existing = [n for n in names if (directory / n).exists()]
+        if existing:
+            more = f" and {len(existing) - 1} more" if len(existing) > 1 else ""
+            raise OutputError(f"{directory / existing[0]}{more} already exist(s); use --force "
+                              "to overwrite")
+
+
+def _encoding(dataset, compression_level: int, shuffle: bool) -> dict:
+    enc = {}
+    for name, var in dataset.data_vars.items():
+        if var.dtype.kind == "f" and var.ndim > 0 and not name.endswith("_bnds"):
+            enc[name] = {"zlib": compression_level > 0, "complevel": compression_level,
+                         "shuffle": shuffle and compression_level > 0}
+    return enc
+
+
+def write_text_atomic(path: Path, text: str, *, force: bool = False) -> Path:
+    """Write a text file through a temporary file in the same folder; never a partial file."""
+    path = Path(path)
+    if path.exists() and not force:
+        raise OutputError(f"{path} already exists; use --force to overwrite it")
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
+    try:
+        with open(tmp, "w", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    except OSError as exc:
+        raise OutputError(f"cannot write {path}: {exc.strerror or exc}") from None
+    finally:
+        if tmp.exists():
+            tmp.unlink()
+    return path
+
+
+def sha256_of(path: Path) -> str:
+    """SHA-256 of a file's bytes."""
+    digest = hashlib.sha256()
+    with open(path, "rb") as fh:
+        for block in iter(lambda: fh.read(1 << 20), b""):
+            digest.update(block)
+    return digest.hexdigest()
+
+
+def _file_record(path: Path, out: Output) -> dict:
+    record = {"file": path.name, "product": out.product, "description": out.description,
+              "bytes": path.stat().st_size, "sha256": sha256_of(path)}
+    if out.dataset is not None:
+        record["variables"] = sorted(str(v) for v in out.dataset.data_vars)
+    return record
+
+
+def _write_manifest(path: Path, ctx: BuildContext, result: BuildResult, force: bool) -> Path:
+    o = ctx.orbit
+    manifest = {
+        "experiment": ctx.spec.experiment.name,
+        "epoch": ctx.spec.epoch,
+        "bcgen_version": __version__,
+        "spec_file": str(ctx.spec.path) if ctx.spec.path else None,
+        "spec_sha256": ctx.spec.sha256,
+        "created": ctx.created.strftime("%Y-%m-%dT%H:%M:%SZ"),
+        "orbit": {
+            "solution": o.solution,
+            "eccentricity": float(o.eccentricity),
+            "obliquity_deg": float(o.obliquity_deg),
+            "perihelion_longitude_deg": float(o.perihelion_longitude_deg),
+            "sun_longitude_at_perihelion_deg": float(o.sun_longitude_at_perihelion_deg),
+            "precession_index": float(o.precession_index),
+        },
+        "solar_constant_wm2": ctx.spec.solar_constant_wm2,
+        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_text},
+        "files": result.files,
+    }
+    if result.orbit_checks:
+        manifest["expected_orbit_checks"] = [
+            {"name": c.name, "expected": c.expected, "computed": c.computed,
+             "tolerance": c.tolerance, "agrees": c.agrees} for c in result.orbit_checks]
+    return write_text_atomic(path, json.dumps(manifest, indent=2) + "\n", force=force)

@@ -1,0 +1,150 @@
+"""Everything a time-slice build needs, resolved once from the experiment spec."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from functools import cached_property
+
+import numpy as np
+
+from bcgen import __version__
+from bcgen.grids import Grid, gaussian_grid, grid_from_file, regular_grid, zonal_grid
+from bcgen.insolation import annual_mean_insolation_wm2
+from bcgen.orbit import SOLUTIONS, OrbitalElements
+from bcgen.solar_calendar.calendars import Anchor, ModelCalendar
+from bcgen.spec import ExperimentSpec
+from bcgen.writer import provenance_attrs
+
+#: Gauss-Legendre nodes per latitude segment for the printed global annual mean.
+_GLOBAL_MEAN_NODES = 48
+
+
+def model_calendar(spec: ExperimentSpec) -> ModelCalendar:
+    """The spec's calendar with its anchor as a :class:`ModelCalendar`."""
+    cal = spec.calendar
+    return ModelCalendar(cal.name, Anchor(cal.anchor, cal.month, cal.day, cal.hour, cal.minute))
+
+
+def make_grid(spec: ExperimentSpec) -> Grid | None:
+    """The spec's grid (None when the spec has none)."""
+    g = spec.grid
+    if g is None:
+        return None
+    if g.kind == "gaussian":
+        return gaussian_grid(g.nlat, g.nlon)
+    if g.kind == "file":
+        return grid_from_file(g.path, lat_name=g.lat_name, lon_name=g.lon_name)
+    lat_step = g.lat_resolution_deg or g.resolution_deg
+    if g.kind == "zonal":
+        if g.latitudes_deg is not None:
+            return zonal_grid(lat_deg=g.latitudes_deg)
+        return zonal_grid(resolution_deg=lat_step)
+    lon_step = g.lon_resolution_deg or g.resolution_deg
+    if g.latitudes_deg is None and g.longitudes_deg is None:
+        return regular_grid((lat_step, lon_step))
+    lat = g.latitudes_deg if g.latitudes_deg is not None else regular_grid((lat_step, 360)).lat_deg
+    lon = g.longitudes_deg if g.longitudes_deg is not None else regular_grid((180, lon_step)).lon_deg
+    return regular_grid(lat_deg=lat, lon_deg=lon)
+
+
+@dataclass(frozen=True)
+class BuildContext:
+    """The resolved inputs of a time-slice build (orbit, calendar, grid, provenance)."""
+
+    spec: ExperimentSpec
+    command: str | None = None
+
+    @cached_property
+    def orbit(self) -> OrbitalElements:
+        """Orbital elements of the time slice (scalar)."""
+        return self.spec.resolve_orbit()
+
+    @cached_property
+    def reference_orbit(self) -> OrbitalElements:
+        """Reference orbit of fixed-angle months."""
+        return self.spec.resolve_reference_orbit()
+
+    @cached_property
+    def calendar(self) -> ModelCalendar:
+        """Model calendar with its anchor."""
+        return model_calendar(self.spec)
+
+    @cached_property
+    def grid(self) -> Grid | None:
+        """The grid of the insolation products."""
+        return make_grid(self.spec)
+
+    @property
+    def year(self) -> int:
+        """The model year the time-slice files are dated in."""
+        return self.spec.first_model_year
+
+    @cached_property
+    def created(self) -> datetime:
+        """One creation time for every file of the build."""
+        return datetime.now(timezone.utc).replace(microsecond=0)
+
+    @cached_property
+    def unique_latitudes_deg(self) -> tuple[np.ndarray, np.ndarray]:
+        """Distinct latitudes of the grid and the index of each grid point into them."""
+        lat = np.asarray(self.grid.lat_deg, dtype=float)
+        unique, inverse = np.unique(lat, return_inverse=True)
+        return unique, inverse.reshape(lat.shape)
+
+    @cached_property
+    def global_annual_mean_wm2(self) -> float:
+        """Area-weighted global and annual mean TOA insolation from the engine, W m-2.
+
+        Gauss-Legendre quadrature in sin(latitude), split at the polar circles where
+        the annual-mean profile has kinks (so the result is exact to ~1e-10 relative).
+        """
+        x, w = np.polynomial.legendre.leggauss(_GLOBAL_MEAN_NODES)
+        edge = float(np.cos(np.deg2rad(self.orbit.obliquity_deg)))
+        total = 0.0
+        for lo, hi in ((-1.0, -edge), (-edge, edge), (edge, 1.0)):
+            mu = 0.5 * (hi - lo) * x + 0.5 * (hi + lo)
+            annual = annual_mean_insolation_wm2(self.orbit, np.rad2deg(np.arcsin(mu)),
+                                                self.spec.solar_constant_wm2)
+            total += 0.5 * (hi - lo) * float(np.sum(annual * w))
+        return total / 2.0
+
+    def attributes(self, title: str) -> dict[str, str]:
+        """Global attributes of one file: provenance, the spec's own attributes."""
+        spec = self.spec
+        extra = dict(spec.attributes)
+        institution = extra.pop("institution", None)
+        comment = extra.pop("comment", None)
+        references = [r for r in (extra.pop("references", None),) if r]
+        solution = SOLUTIONS[self.orbit.solution]
+        attrs = provenance_attrs(
+            spec.text or "",
+            solution.REFERENCE,
+            title=title,
+            institution=institution,
+            solution=self.orbit.solution,
+            references=references,
+            comment=comment,
+            time_slice=True,
+            command=self.command,
+            created=self.created,
+            extra=extra,
+        )
+        attrs["experiment"] = spec.experiment.name
+        if spec.experiment.description:
+            attrs["experiment_description"] = spec.experiment.description
+        attrs["epoch"] = spec.epoch
+        attrs["epoch_years_bp"] = float(-spec.years_from_1950)
+        attrs["calendar_anchor"] = self.anchor_text
+        if spec.sha256:
+            attrs["bcgen_spec_sha256"] = spec.sha256
+        attrs["bcgen_version"] = __version__
+        return attrs
+
+    @property
+    def anchor_text(self) -> str:
+        """The calendar anchor in words."""
+        a = self.calendar.anchor
+        what = "March equinox" if a.kind == "march_equinox" else "perihelion"
+        return (f"{what} at {a.month:02d}-{a.day:02d} {a.hour:02d}:{a.minute:02d} of the "
+                f"{self.calendar.name} model calendar, every model year")

@@ -1,0 +1,149 @@
+"""``bcgen build``: every product of an experiment spec, a manifest and a summary."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import shlex
+import sys
+
+EXAMPLE = """\
+examples:
+  bcgen build configs/demo.yaml -o demo-output
+  bcgen build configs/protocols/midHolocene.yaml -o out/midHolocene --force
+  bcgen build configs/demo.yaml --format json      # the summary as JSON
+
+The exit status is 0 when everything was written (and any published values in
+orbit.expected agree with the computed orbit), 1 when a published value
+disagrees beyond its written digits, 2 on bad input.
+"""
+
+
+def register(subparsers) -> argparse.ArgumentParser:
+    """Add ``bcgen build`` to the command line."""
+    parser = subparsers.add_parser(
+        "build",
+        help="build every product of an experiment spec",
+        description="Write every product an experiment spec asks for (CF NetCDF, tables, "
+        "rendered templates) and a manifest with the SHA-256 of each file.",
+        epilog=EXAMPLE,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument("spec", metavar="SPEC.yaml", help="experiment spec (YAML)")
+    parser.add_argument("-o", "--output-dir", metavar="DIR",
+                        help="output folder (default: the spec's output.directory)")
+    parser.add_argument("--force", action="store_true", help="overwrite existing outputs")
+    parser.add_argument("--format", choices=("text", "json"), default="text",
+                        help="summary format (default: text)")
+    return parser
+
+
+def run(args: argparse.Namespace) -> int:
+    """Build, print the summary, return the exit status."""
+    from bcgen.build import build
+    from bcgen.spec import load_spec
+
+    spec = load_spec(args.spec)
+    command = "bcgen " + " ".join(shlex.quote(a) for a in sys.argv[1:]) if sys.argv else None
+    result = build(spec, args.output_dir, force=args.force, command=command)
+    summary = summarize(result)
+    if args.format == "json":
+        print(json.dumps(summary, indent=2))
+    elif args.quiet < 1:
+        print(format_summary(summary))
+    if not result.agrees_with_expected:
+        bad = [c for c in result.orbit_checks if not c.agrees]
+        names = ", ".join(f"{c.name} {c.computed:.6g} vs {c.expected:g}" for c in bad)
+        print(f"bcgen: check failed: computed orbit disagrees with orbit.expected in "
+              f"{args.spec}: {names}", file=sys.stderr)
+        return 1
+    return 0
+
+
+def summarize(result) -> dict:
+    """The build summary as a JSON-ready dict."""
+    ctx = result.context
+    summary = {"directory": str(result.directory), "files": result.files,
+               "manifest": str(result.manifest) if result.manifest else None}
+    if ctx is None:
+        summary.update(getattr(result, "transient", None) or {})  # a transient run
+        return summary
+    o, spec = ctx.orbit, ctx.spec
+    summary.update({
+        "experiment": spec.experiment.name,
+        "epoch": spec.epoch,
+        "orbit": {
+            "solution": o.solution,
+            "eccentricity": float(o.eccentricity),
+            "obliquity_deg": float(o.obliquity_deg),
+            "perihelion_longitude_deg": float(o.perihelion_longitude_deg),
+            "sun_longitude_at_perihelion_deg": float(o.sun_longitude_at_perihelion_deg),
+        },
+        "solar_constant_wm2": spec.solar_constant_wm2,
+        "greenhouse_gases": {g.name: {"value": g.value, "units": g.units}
+                             for g in spec.greenhouse_gases},
+        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_text},
+        "global_annual_mean_insolation_wm2": ctx.global_annual_mean_wm2,
+        "expected_orbit_checks": [
+            {"name": c.name, "expected": c.expected, "computed": c.computed,
+             "tolerance": c.tolerance, "agrees": c.agrees} for c in result.orbit_checks],
+    })
+    return summary
+
+
+def _size(n: int) -> str:
+    for unit in ("B", "KiB", "MiB", "GiB"):
+        if n < 1024 or unit == "GiB":
+            return f"{n:.0f} {unit}" if unit == "B" else f"{n:.1f} {unit}"
+        n /= 1024
+    return f"{n} B"
+
+
+def format_summary(s: dict) -> str:
+    """The build summary as text for people."""
+    lines = [f"built {s.get('experiment', '')} ({s.get('epoch', '')}) in {s['directory']}"]
+    if "orbit" in s:
+        o = s["orbit"]
+        lines += [
+            f"  orbit ({o['solution']}): e = {o['eccentricity']:.6f}, obliquity = "
+            f"{o['obliquity_deg']:.4f} deg, perihelion longitude = "
+            f"{o['perihelion_longitude_deg']:.4f} deg (from the March equinox, heliocentric; "
+            f"Sun's longitude at perihelion {o['sun_longitude_at_perihelion_deg']:.4f} deg)",
+            f"  solar constant: {s['solar_constant_wm2']} W m-2; global annual-mean "
+            f"insolation: {s['global_annual_mean_insolation_wm2']:.4f} W m-2",
+            f"  calendar: {s['calendar']['name']}, {s['calendar']['anchor']}",
+        ]
+        if s["greenhouse_gases"]:
+            gases = ", ".join(f"{k.upper()} {v['value']:g} {v['units']}"
+                              for k, v in s["greenhouse_gases"].items())
+            lines.append(f"  greenhouse gases: {gases}")
+        for c in s.get("expected_orbit_checks", ()):
+            verdict = "agrees" if c["agrees"] else "DISAGREES"
+            lines.append(f"  check {c['name']}: computed {c['computed']:.6f}, published "
+                         f"{c['expected']:g} (+-{c['tolerance']:g}): {verdict}")
+    if "model_years" in s:  # a transient run
+        first, last = s["model_years"]
+        lines += [
+            f"  model years {first}-{last}: epochs {s['start_epoch']} to {s['end_epoch']}, "
+            f"{s['acceleration']} years of orbit per model year, {s['years_per_file']} model "
+            f"years per file; orbit {s['orbit_solution']}, solar constant "
+            f"{s['solar_constant_wm2']} W m-2",
+            f"  calendar: {s['calendar']['name']}, {s['calendar']['anchor']}",
+        ]
+        if s.get("greenhouse_gases"):
+            lines.append(f"  greenhouse gases: {s['greenhouse_gases']}")
+        skipped = sum(f.get("status") == "skipped" for f in s["files"])
+        lines.append(f"  {len(s['files']) - skipped} files written, {skipped} already complete "
+                     "and identical (skipped)")
+    lines.append("  files:")
+    if "model_years" in s and len(s["files"]) > 24:  # a long transient run: totals per product
+        for product in dict.fromkeys(f["product"] for f in s["files"]):
+            mine = [f for f in s["files"] if f["product"] == product]
+            lines.append(f"    {product:<48} {_size(sum(f['bytes'] for f in mine)):>10}  "
+                         f"{len(mine)} files, {mine[0]['file']} ... {mine[-1]['file']}")
+    for f in s["files"] if "model_years" not in s or len(s["files"]) <= 24 else ():
+        note = "  (skipped: complete)" if f.get("status") == "skipped" else ""
+        lines.append(f"    {f['file']:<48} {_size(f['bytes']):>10}  {f['description']}{note}")
+    if s.get("manifest"):
+        lines.append(f"  manifest: {s['manifest']}")
+    return "\n".join(lines)

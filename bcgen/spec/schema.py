@@ -1,0 +1,644 @@
+"""The keys of an experiment spec, as data: type, default, allowed values and meaning.
+
+:data:`SCHEMA` is the one description of the format. The loader checks every
+spec against it (unknown keys, types, ranges, closed vocabularies) and the
+documentation and tests list every key from it (:func:`iter_keys`).
+
+Defaults and where they come from
+---------------------------------
+``solar_constant_wm2: 1360.747``
+    The CMIP6 piControl total solar irradiance, the mean of the CMIP6 solar
+    forcing over 1850-01-01 to 1873-01-28 (Matthes et al. 2017, GMD 10,
+    2247-2302, doi:10.5194/gmd-10-2247-2017), which PMIP4 keeps for its
+    paleo time slices (Otto-Bliesner et al. 2017; Kageyama et al. 2017).
+``calendar: {anchor: march_equinox, date: "03-21 12:00"}``
+    The PMIP protocols fix the March (vernal) equinox at 21 March, 12:00 of
+    the model calendar (PMIP3 and PMIP4 experiment-design pages).
+``calendar.name: noleap``
+    A 365-day year without leap days: common practice in PMIP models (no
+    protocol prescribes a calendar).
+``orbit.solution: berger1978``
+    The PMIP protocols compute their orbital parameters with Berger (1978).
+``insolation.reference_epoch: 1950CE``
+    Fixed-angle months span the arcs of true longitude that the months of the
+    model calendar span in the 1950 CE orbit (bcgen's convention, see the
+    architecture notes; 1950 CE is the "present" of the BP time scale).
+``insolation.daily_method: midday``
+    The daily mean of each calendar day is taken with the Sun's position at
+    12:00 of that day; this reproduces the PMIP1 insolation check tables
+    (Bonfils et al. 1998, appendix "About insolation computations").
+``output.compression_level: 4``, ``output.shuffle: true``
+    Common practice: zlib levels above about 4 cost time for little gain on
+    smooth fields, and the shuffle filter helps floating-point data.
+``transient.years_per_file: 100``
+    Common practice for model forcing files (a century per file).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass, field, replace
+from types import MappingProxyType
+from typing import Literal
+
+from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS
+
+KeyType = Literal[
+    "string",
+    "name",
+    "number",
+    "integer",
+    "boolean",
+    "epoch",
+    "choice",
+    "path",
+    "mapping",
+    "variants",
+    "list",
+]
+
+# ---------------------------------------------------------------------------------------------
+# Closed vocabularies
+# ---------------------------------------------------------------------------------------------
+
+#: CF calendar names usable for a model year with an annual cycle (CF 1.13 §4.4.3).
+CALENDARS = (
+    "noleap",
+    "365_day",
+    "360_day",
+    "all_leap",
+    "366_day",
+    "proleptic_gregorian",
+    "standard",
+    "julian",
+)
+#: CF calendar names that cannot hold a repeating year, with the reason given to the user.
+REFUSED_CALENDARS = {
+    "gregorian": "'gregorian' is the deprecated CF name of 'standard'",
+    "none": "the CF calendar 'none' has no annual cycle",
+    "utc": "the CF calendar 'utc' counts leap seconds of real dates, not model years",
+    "tai": "the CF calendar 'tai' counts real atomic time, not model years",
+}
+#: What the calendar date anchors: the March equinox or the perihelion passage.
+ANCHORS = ("march_equinox", "perihelion")
+#: How the daily mean of a calendar day is formed.
+DAILY_METHODS = ("midday", "day_average")
+#: Grid kinds.
+GRID_KINDS = ("regular", "gaussian", "zonal", "file")
+#: Products of a time slice and what each needs.
+PRODUCTS = (
+    "orbit",
+    "solar_constant",
+    "greenhouse_gases",
+    "daily_insolation",
+    "monthly_insolation_fixed_day",
+    "monthly_insolation_fixed_angle",
+    "month_table",
+    "timestep_table",
+    "templates",
+)
+#: Products that a transient run can write for every model year.
+TRANSIENT_PRODUCTS = (
+    "orbit",
+    "greenhouse_gases",
+    "daily_insolation",
+    "monthly_insolation_fixed_day",
+)
+#: Products computed on the grid.
+GRIDDED_PRODUCTS = (
+    "daily_insolation",
+    "monthly_insolation_fixed_day",
+    "monthly_insolation_fixed_angle",
+)
+#: Templates shipped with bcgen, chosen by name in ``templates``.
+BUNDLED_TEMPLATES = ("namelist", "env", "summary_json", "cmip_attributes")
+#: Placeholders of ``output.file_pattern``.
+FILE_PATTERN_FIELDS = {
+    "experiment": "experiment.name",
+    "product": "the product name (orbit, daily_insolation, ...)",
+    "epoch": "the epoch as written in the spec, or START-END for a transient run",
+    "calendar": "calendar.name",
+    "grid": "a short grid label such as 'zonal1deg', 'regular2deg', 'gaussian48' or 'file'",
+    "first_year": "first model year in the file (transient runs)",
+    "last_year": "last model year in the file (transient runs)",
+}
+#: Units of greenhouse-gas values and their factor to a mole fraction (mol mol-1).
+GAS_UNITS = {
+    "ppm": 1e-6,
+    "ppb": 1e-9,
+    "ppt": 1e-12,
+    "1e-6": 1e-6,
+    "1e-9": 1e-9,
+    "1e-12": 1e-12,
+    "1": 1.0,
+}
+#: Greenhouse gases by spec name, with their CF standard name (standard-name table v93).
+GASES = {
+    "co2": "mole_fraction_of_carbon_dioxide_in_air",
+    "ch4": "mole_fraction_of_methane_in_air",
+    "n2o": "mole_fraction_of_nitrous_oxide_in_air",
+    "cfc11": "mole_fraction_of_cfc11_in_air",
+    "cfc12": "mole_fraction_of_cfc12_in_air",
+    "cfc113": "mole_fraction_of_cfc113_in_air",
+    "cfc114": "mole_fraction_of_cfc114_in_air",
+    "cfc115": "mole_fraction_of_cfc115_in_air",
+    "hcfc22": "mole_fraction_of_hcfc22_in_air",
+    "hcfc141b": "mole_fraction_of_hcfc141b_in_air",
+    "hcfc142b": "mole_fraction_of_hcfc142b_in_air",
+    "hfc23": "mole_fraction_of_hfc23_in_air",
+    "hfc32": "mole_fraction_of_hfc32_in_air",
+    "hfc125": "mole_fraction_of_hfc125_in_air",
+    "hfc134a": "mole_fraction_of_hfc134a_in_air",
+    "hfc143a": "mole_fraction_of_hfc143a_in_air",
+    "hfc152a": "mole_fraction_of_hfc152a_in_air",
+    "hfc227ea": "mole_fraction_of_hfc227ea_in_air",
+    "hfc245fa": "mole_fraction_of_hfc245fa_in_air",
+    "sf6": "mole_fraction_of_sulfur_hexafluoride_in_air",
+    "nf3": "mole_fraction_of_nitrogen_trifluoride_in_air",
+    "cf4": "mole_fraction_of_carbon_tetrafluoride_in_air",
+    "pfc116": "mole_fraction_of_pfc116_in_air",
+    "ccl4": "mole_fraction_of_carbon_tetrachloride_in_air",
+    "ch3cl": "mole_fraction_of_methyl_chloride_in_air",
+    "ch3br": "mole_fraction_of_methyl_bromide_in_air",
+    "halon1211": "mole_fraction_of_halon1211_in_air",
+    "halon1301": "mole_fraction_of_halon1301_in_air",
+    "halon2402": "mole_fraction_of_halon2402_in_air",
+}
+#: Ways to interpolate a greenhouse-gas table between its ages.
+GAS_INTERPOLATIONS = ("linear", "nearest")
+#: Global attributes that bcgen writes itself and a spec may not set.
+RESERVED_ATTRIBUTES = (
+    "Conventions",
+    "history",
+    "creation_date",
+    "bcgen_version",
+    "bcgen_spec",
+    "orbital_solution",
+    "tracking_id",
+)
+
+# ---------------------------------------------------------------------------------------------
+# Defaults (each justified in the module docstring)
+# ---------------------------------------------------------------------------------------------
+DEFAULT_SOLAR_CONSTANT_WM2 = 1360.747
+DEFAULT_CALENDAR = "noleap"
+DEFAULT_ANCHOR = "march_equinox"
+DEFAULT_ANCHOR_DATE = "03-21 12:00"
+DEFAULT_SOLUTION = "berger1978"
+DEFAULT_REFERENCE_EPOCH = "1950CE"
+DEFAULT_DAILY_METHOD = "midday"
+DEFAULT_DIRECTORY = "out"
+DEFAULT_FILE_PATTERN = "{experiment}_{product}.nc"
+DEFAULT_TRANSIENT_FILE_PATTERN = "{experiment}_{product}_{first_year}-{last_year}.nc"
+DEFAULT_COMPRESSION_LEVEL = 4
+DEFAULT_YEARS_PER_FILE = 100
+
+
+@dataclass(frozen=True)
+class Key:
+    """One key of the spec format.
+
+    Attributes
+    ----------
+    type : str
+        ``string`` (free text), ``name`` (a string matching ``pattern``),
+        ``number``, ``integer``, ``boolean`` (true/false only), ``epoch``
+        (a string read by :func:`bcgen.epochs.parse_epoch`), ``choice`` (one of
+        ``choices``), ``path`` (a file, relative to the spec's folder),
+        ``mapping`` (fixed ``keys``; or keys from ``key_choices`` or matching
+        ``key_pattern``, each with a value described by ``item``),
+        ``variants`` (a mapping whose ``kind`` selects the keys), ``list``
+        (items described by ``item``).
+    doc : str
+        What the key means, with its unit.
+    """
+
+    type: KeyType
+    doc: str
+    required: bool = False
+    default: object = None
+    choices: tuple[str, ...] = ()
+    noun: str = "value"
+    keys: Mapping[str, Key] | None = None
+    variants: Mapping[str, Mapping[str, Key]] | None = None
+    item: Key | None = None
+    key_pattern: str | None = None
+    key_choices: tuple[str, ...] = ()
+    pattern: str | None = None
+    minimum: float | None = None
+    maximum: float | None = None
+    exclusive_minimum: bool = False
+    exclusive_maximum: bool = False
+    min_items: int = 0
+    example: str = field(default="", compare=False)
+
+    def range_text(self) -> str:
+        """Return the allowed range in interval notation, e.g. ``[0, 1)``; empty if unbounded."""
+        if self.minimum is None and self.maximum is None:
+            return ""
+        lo = "(" if self.exclusive_minimum or self.minimum is None else "["
+        hi = ")" if self.exclusive_maximum or self.maximum is None else "]"
+        lo_v = "-inf" if self.minimum is None else f"{self.minimum:g}"
+        hi_v = "inf" if self.maximum is None else f"{self.maximum:g}"
+        return f"{lo}{lo_v}, {hi_v}{hi}"
+
+
+def _map(**keys: Key) -> Mapping[str, Key]:
+    return MappingProxyType(keys)
+
+
+_LAT = Key("number", "latitude, degrees north", minimum=-90, maximum=90)
+_LON = Key("number", "longitude, degrees east", minimum=-180, maximum=360)
+
+
+def _step(doc: str) -> Key:
+    return Key("number", doc, minimum=0, maximum=180, exclusive_minimum=True)
+
+
+_RESOLUTION = _step(
+    "grid spacing in degrees, of both axes (regular) or of latitude (zonal); "
+    "180 and 360 must be multiples of it"
+)
+_LAT_CENTRES = Key(
+    "list",
+    "latitudes of the cell centres, degrees north, strictly monotonic",
+    item=_LAT,
+    min_items=1,
+)
+_LON_CENTRES = Key(
+    "list",
+    "longitudes of the cell centres, degrees east, strictly increasing and spanning less than 360",
+    item=_LON,
+    min_items=1,
+)
+
+_FIXED_NOTE = "only with solution 'fixed'"
+_ECC = Key("number", "eccentricity e (dimensionless)", minimum=0, maximum=1, exclusive_maximum=True)
+_OBL = Key("number", "obliquity of the ecliptic, degrees", minimum=0, maximum=90)
+_PERI = Key(
+    "number",
+    "longitude of perihelion, degrees, in `perihelion_convention`",
+    minimum=0,
+    maximum=360,
+    exclusive_maximum=True,
+)
+_PERI_CONV = Key(
+    "choice",
+    "the convention of `perihelion_deg`: "
+    + "; ".join(f"{k}: {v}" for k, v in PERIHELION_CONVENTIONS.items()),
+    choices=tuple(PERIHELION_CONVENTIONS),
+    noun="perihelion convention",
+)
+
+_GAS = Key(
+    "mapping",
+    "a gas concentration: a value and its units",
+    keys=_map(
+        value=Key("number", "the concentration, in `units`", required=True, minimum=0),
+        units=Key(
+            "choice",
+            "units of `value`: ppm, ppb, ppt, or the CF/UDUNITS factors "
+            "1e-6, 1e-9, 1e-12, or 1 (a mole fraction)",
+            required=True,
+            choices=tuple(GAS_UNITS),
+            noun="units",
+        ),
+    ),
+)
+
+SCHEMA: Mapping[str, Key] = _map(
+    experiment=Key(
+        "mapping",
+        "what the experiment is",
+        required=True,
+        keys=_map(
+            name=Key(
+                "name",
+                "short name used in file names and attributes: letters, digits, '_', '.', '-'",
+                required=True,
+                pattern=r"[A-Za-z0-9_.-]+",
+            ),
+            description=Key(
+                "string", "one or more sentences saying what the experiment is", default=""
+            ),
+        ),
+    ),
+    epoch=Key(
+        "epoch",
+        "the epoch of a time slice, such as '6ka', '127 ka BP' or '1850CE' "
+        "(see bcgen.epochs); a spec has either 'epoch' or 'transient'",
+        example="6ka",
+    ),
+    transient=Key(
+        "mapping",
+        "a transient run through a range of epochs (instead of 'epoch')",
+        keys=_map(
+            start_epoch=Key("epoch", "epoch of the first model year", required=True),
+            end_epoch=Key("epoch", "epoch of the last model year", required=True),
+            first_model_year=Key(
+                "integer", "the model year that starts the run", default=1, minimum=1
+            ),
+            acceleration=Key(
+                "integer",
+                "orbital acceleration: years of orbit per model year",
+                default=1,
+                minimum=1,
+            ),
+            years_per_file=Key(
+                "integer",
+                "model years in each output file",
+                default=DEFAULT_YEARS_PER_FILE,
+                minimum=1,
+            ),
+            greenhouse_gas_table=Key(
+                "path",
+                "CSV table of greenhouse gases by age (columns "
+                "named with their units), interpolated to each model year",
+            ),
+            greenhouse_gas_interpolation=Key(
+                "choice",
+                "how the gas table is interpolated",
+                default="linear",
+                choices=GAS_INTERPOLATIONS,
+                noun="interpolation",
+            ),
+        ),
+    ),
+    orbit=Key(
+        "mapping",
+        "where the orbital elements come from",
+        keys=_map(
+            solution=Key(
+                "choice",
+                "berger1978 (the series of Berger 1978), table (interpolated "
+                "from `table`) or fixed (explicit values)",
+                default=DEFAULT_SOLUTION,
+                choices=tuple(SOLUTIONS),
+                noun="orbital solution",
+            ),
+            table=Key(
+                "path",
+                "orbit table (CSV or NetCDF, see bcgen.orbit.table); only with solution 'table'",
+            ),
+            eccentricity=replace(_ECC, doc=_ECC.doc + "; " + _FIXED_NOTE),
+            obliquity_deg=replace(_OBL, doc=_OBL.doc + "; " + _FIXED_NOTE),
+            perihelion_deg=replace(_PERI, doc=_PERI.doc + "; " + _FIXED_NOTE),
+            perihelion_convention=replace(_PERI_CONV, doc=_PERI_CONV.doc + "; " + _FIXED_NOTE),
+            idealized=Key(
+                "boolean",
+                "true for a deliberately non-Earth orbit: lifts the check "
+                "that e and obliquity lie in Earth's range",
+                default=False,
+            ),
+            expected=Key(
+                "mapping",
+                "published values the computed orbit is checked against "
+                "(time slices only); each is compared to the digits written",
+                keys=_map(
+                    source=Key("string", "where the values are published", required=True),
+                    eccentricity=_ECC,
+                    obliquity_deg=_OBL,
+                    perihelion_deg=_PERI,
+                    perihelion_convention=replace(
+                        _PERI_CONV, doc=_PERI_CONV.doc + "; required with perihelion_deg"
+                    ),
+                ),
+            ),
+        ),
+    ),
+    solar_constant_wm2=Key(
+        "number",
+        "total solar irradiance at 1 au, W m-2",
+        default=DEFAULT_SOLAR_CONSTANT_WM2,
+        minimum=0,
+        maximum=5000,
+        exclusive_minimum=True,
+    ),
+    greenhouse_gases=Key(
+        "mapping",
+        "gas concentrations by name (" + ", ".join(GASES) + ")",
+        key_choices=tuple(GASES),
+        item=_GAS,
+        noun="gas",
+    ),
+    calendar=Key(
+        "mapping",
+        "the model calendar and how the orbit is placed in it",
+        keys=_map(
+            name=Key(
+                "choice",
+                "CF calendar name",
+                default=DEFAULT_CALENDAR,
+                choices=CALENDARS,
+                noun="calendar",
+            ),
+            anchor=Key(
+                "choice",
+                "the event fixed at `date`",
+                default=DEFAULT_ANCHOR,
+                choices=ANCHORS,
+                noun="anchor",
+            ),
+            date=Key(
+                "string",
+                "'MM-DD HH:MM' of the model calendar at which the anchor event "
+                "happens (default '03-21 12:00' for the March equinox; required with "
+                "anchor 'perihelion')",
+                default=DEFAULT_ANCHOR_DATE,
+            ),
+            model_year=Key(
+                "integer",
+                "the model year a time slice is dated in (transient runs "
+                "use transient.first_model_year)",
+                default=1,
+                minimum=1,
+            ),
+        ),
+    ),
+    grid=Key(
+        "variants",
+        "the grid of the insolation products, chosen by `kind`",
+        variants=_map(
+            regular=_map(
+                resolution_deg=_RESOLUTION,
+                lat_resolution_deg=_step(
+                    "latitude spacing in degrees; 180 must be a multiple of it"
+                ),
+                lon_resolution_deg=_step(
+                    "longitude spacing in degrees; 360 must be a multiple of it"
+                ),
+                latitudes_deg=_LAT_CENTRES,
+                longitudes_deg=_LON_CENTRES,
+            ),
+            gaussian=_map(
+                nlat=Key(
+                    "integer",
+                    "number of Gaussian latitudes (even)",
+                    required=True,
+                    minimum=2,
+                    maximum=20000,
+                ),
+                nlon=Key(
+                    "integer", "number of longitudes (default 2 × nlat)", minimum=1, maximum=40000
+                ),
+            ),
+            zonal=_map(
+                resolution_deg=_RESOLUTION,
+                latitudes_deg=_LAT_CENTRES,
+            ),
+            file=_map(
+                path=Key("path", "a NetCDF file whose latitude/longitude are used", required=True),
+                lat_name=Key(
+                    "string",
+                    "name of the latitude variable (default: found by CF standard_name or units)",
+                ),
+                lon_name=Key(
+                    "string",
+                    "name of the longitude variable (default: found by CF standard_name or units)",
+                ),
+            ),
+        ),
+    ),
+    insolation=Key(
+        "mapping",
+        "how insolation is computed",
+        keys=_map(
+            daily_method=Key(
+                "choice",
+                "midday: the Sun's position at 12:00 of each day; "
+                "day_average: averaged over the day",
+                default=DEFAULT_DAILY_METHOD,
+                choices=DAILY_METHODS,
+                noun="daily method",
+            ),
+            reference_epoch=Key(
+                "epoch",
+                "the epoch of the reference orbit (Berger 1978) whose "
+                "month arcs define fixed-angle months",
+                default=DEFAULT_REFERENCE_EPOCH,
+            ),
+        ),
+    ),
+    products=Key(
+        "list",
+        "what to produce: " + ", ".join(PRODUCTS),
+        required=True,
+        item=Key("choice", "a product", choices=PRODUCTS, noun="product"),
+        min_items=1,
+    ),
+    timestep_table=Key(
+        "mapping",
+        "the per-timestep reference table",
+        keys=_map(
+            timestep_minutes=Key(
+                "number",
+                "model timestep, minutes (a divisor of 1440)",
+                required=True,
+                minimum=0,
+                maximum=1440,
+                exclusive_minimum=True,
+            ),
+            points=Key(
+                "list",
+                "points where instantaneous insolation is tabulated",
+                required=True,
+                min_items=1,
+                item=Key(
+                    "mapping",
+                    "a point",
+                    keys=_map(
+                        lat_deg=replace(_LAT, required=True),
+                        lon_deg=replace(_LON, required=True),
+                    ),
+                ),
+            ),
+            days=Key(
+                "list",
+                "days of the model year to tabulate (1 = 1 January); default all",
+                item=Key("integer", "a day of the model year", minimum=1, maximum=366),
+                min_items=1,
+            ),
+        ),
+    ),
+    templates=Key(
+        "list",
+        "templates to render: a bundled name ("
+        + ", ".join(BUNDLED_TEMPLATES)
+        + ") or the path of your own template",
+        item=Key("string", "a template"),
+        min_items=1,
+    ),
+    output=Key(
+        "mapping",
+        "where and how files are written",
+        keys=_map(
+            directory=Key(
+                "string",
+                "output folder, relative to the working directory (`bcgen build -o` overrides it)",
+                default=DEFAULT_DIRECTORY,
+            ),
+            file_pattern=Key(
+                "string",
+                "NetCDF file name with placeholders "
+                + ", ".join("{" + k + "}" for k in FILE_PATTERN_FIELDS)
+                + f" (default '{DEFAULT_FILE_PATTERN}'; for a transient run "
+                f"'{DEFAULT_TRANSIENT_FILE_PATTERN}')",
+                default=DEFAULT_FILE_PATTERN,
+            ),
+            compression_level=Key(
+                "integer",
+                "zlib level, 0 (none) to 9",
+                default=DEFAULT_COMPRESSION_LEVEL,
+                minimum=0,
+                maximum=9,
+            ),
+            shuffle=Key(
+                "boolean", "apply the HDF5 shuffle filter before compression", default=True
+            ),
+        ),
+    ),
+    attributes=Key(
+        "mapping",
+        "global attributes added to every file (string values), "
+        "e.g. institution, contact, license, references",
+        key_pattern=r"[A-Za-z][A-Za-z0-9_]*",
+        item=Key("string", "an attribute value"),
+        noun="attribute",
+    ),
+)
+
+
+def iter_keys(schema: Mapping[str, Key] = SCHEMA, prefix: str = "") -> Iterator[tuple[str, Key]]:
+    """Yield ``(dotted path, Key)`` for every key of the format, depth first.
+
+    Keys of one variant of ``grid`` are yielded once per variant that has them;
+    list items are shown as ``path[]``.
+    """
+    for name, key in schema.items():
+        path = f"{prefix}{name}"
+        yield path, key
+        if key.keys is not None:
+            yield from iter_keys(key.keys, path + ".")
+        if key.variants is not None:
+            yield (
+                f"{path}.kind",
+                Key(
+                    "choice",
+                    "the kind of grid",
+                    required=True,
+                    choices=tuple(key.variants),
+                    noun="grid kind",
+                ),
+            )
+            seen: set[str] = set()
+            for variant in key.variants.values():
+                for sub_path, sub_key in iter_keys(variant, path + "."):
+                    if sub_path not in seen:
+                        seen.add(sub_path)
+                        yield sub_path, sub_key
+        if key.type == "list" and key.item is not None and key.item.keys is not None:
+            yield from iter_keys(key.item.keys, path + "[].")
+        if key.type == "mapping" and key.item is not None:
+            yield f"{path}.<{key.noun}>", key.item
+            if key.item.keys is not None:
+                yield from iter_keys(key.item.keys, f"{path}.<{key.noun}>.")

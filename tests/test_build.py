@@ -1,0 +1,208 @@
+"""The main job end to end: `bcgen build` on every bundled config and on purpose-made specs.
+
+Published checks here:
+- PMIP4/CMIP6 protocol orbits (published-values.md §1.1; Otto-Bliesner et al. 2017,
+  Kageyama et al. 2017), through each protocol config's `orbit.expected`.
+- The PMIP1 monthly insolation check table (Bonfils et al. 1998, published-values.md §4.7),
+  read back from a built NetCDF file.
+- CF compliance through the IOOS compliance-checker (tests/cf_checker.py).
+"""
+
+from __future__ import annotations
+
+import json
+import hashlib
+from pathlib import Path
+
+import numpy as np
+import pytest
+import xarray as xr
+
+from bcgen.build import build
+from bcgen.cli import main
+from bcgen.errors import OutputError
+from bcgen.spec import load_spec, parse_spec_text
+from cf_checker import assert_cf_compliant
+
+CONFIGS = Path(__file__).resolve().parent.parent / "configs"
+PROTOCOLS = sorted((CONFIGS / "protocols").glob("*.yaml"))
+TIME_SLICE_CONFIGS = [CONFIGS / "demo.yaml", *PROTOCOLS]
+
+
+@pytest.fixture(scope="module")
+def built(tmp_path_factory):
+    """Every bundled time-slice config built once: {config name: (result, folder)}."""
+    out = {}
+    for config in TIME_SLICE_CONFIGS:
+        folder = tmp_path_factory.mktemp(config.stem)
+        out[config.stem] = (build(load_spec(config), folder), folder)
+    return out
+
+
+def test_protocol_configs_exist():
+    # The four PMIP4-CMIP6 Tier-1 time slices (published-values.md §1.1).
+    assert {p.stem for p in PROTOCOLS} >= {"piControl", "midHolocene", "lig127k", "lgm"}
+
+
+@pytest.mark.parametrize("config", PROTOCOLS, ids=lambda p: p.stem)
+def test_protocol_orbit_agrees_with_published_digits(built, config):
+    # Source: PMIP4-CMIP6 protocol values (published-values.md §1.1), carried in each config's
+    # orbit.expected with its source; agreement is to half a unit of the last written digit.
+    result, _ = built[config.stem]
+    assert len(result.orbit_checks) == 3
+    assert all(c.agrees for c in result.orbit_checks), result.orbit_checks
+
+
+@pytest.mark.parametrize("config", TIME_SLICE_CONFIGS, ids=lambda p: p.stem)
+def test_every_netcdf_output_passes_the_cf_checker(built, config):
+    # Standard: CF 1.11 through the IOOS compliance-checker, zero errors.
+    result, folder = built[config.stem]
+    nc_files = [f["file"] for f in result.files if f["file"].endswith(".nc")]
+    assert nc_files
+    for name in nc_files:
+        assert_cf_compliant(folder / name)
+
+
+def test_manifest_lists_every_file_with_its_sha256(built):
+    result, folder = built["demo"]
+    manifest = json.loads(result.manifest.read_text())
+    assert {f["file"] for f in manifest["files"]} == {f["file"] for f in result.files}
+    for entry in manifest["files"]:
+        digest = hashlib.sha256((folder / entry["file"]).read_bytes()).hexdigest()
+        assert entry["sha256"] == digest
+        assert entry["description"]
+
+
+def test_round_trip_with_xarray(built):
+    result, folder = built["midHolocene"]
+    spec = load_spec(CONFIGS / "protocols" / "midHolocene.yaml")
+    orbit = spec.resolve_orbit()
+    by_product = {f["product"]: folder / f["file"] for f in result.files}
+    with xr.open_dataset(by_product["orbit"]) as ds:
+        assert float(ds.eccentricity) == pytest.approx(float(orbit.eccentricity), abs=0)
+        # The two perihelion conventions differ by exactly 180 degrees (ARCHITECTURE.md).
+        diff = float(ds.sun_longitude_at_perihelion) - float(ds.perihelion_longitude)
+        assert diff % 360 == pytest.approx(180.0)
+        assert "March equinox" in ds.perihelion_longitude.attrs["convention"]
+        assert ds.attrs["bcgen_spec"] == spec.text
+    with xr.open_dataset(by_product["daily_insolation"], decode_times=xr.coders.CFDatetimeCoder(use_cftime=True)) as ds:
+        assert ds.time.encoding["calendar"] == "noleap"
+        assert ds.time.size == 365 and ds.lat.size == 180
+        assert ds.time.attrs["climatology"] == "climatology_bnds"
+        assert ds.insolation.attrs["standard_name"] == "toa_incoming_shortwave_flux"
+        assert ds.insolation.attrs["units"] == "W m-2"
+        assert float(ds.insolation.min()) >= 0.0
+    with xr.open_dataset(by_product["greenhouse_gases"]) as ds:
+        # Units 1e-6 / 1e-9 (UDUNITS-2; published-values.md §2.1) with the protocol's values.
+        assert float(ds.co2) == pytest.approx(264.4) and ds.co2.attrs["units"] == "1e-6"
+        assert float(ds.ch4) == pytest.approx(597) and ds.ch4.attrs["units"] == "1e-9"
+
+
+def test_fixed_angle_bounds_are_fractional_and_cover_the_year(built):
+    result, folder = built["lig127k"]
+    path = next(folder / f["file"] for f in result.files
+                if f["product"] == "monthly_insolation_fixed_angle")
+    with xr.open_dataset(path, decode_times=False) as ds:
+        b = ds.climatology_bnds.values
+    lengths = b[:, 1] - b[:, 0]
+    assert lengths.sum() == pytest.approx(365.0, abs=1e-9)
+    assert np.all(b[1:, 0] == b[:-1, 1])  # contiguous, bit-identical shared bounds (CF §7.1)
+    assert np.any(np.abs(lengths - np.round(lengths)) > 1e-3)  # fractional days
+
+
+def test_two_builds_give_identical_data(tmp_path):
+    spec = load_spec(CONFIGS / "demo.yaml")
+    a = build(spec, tmp_path / "a")
+    b = build(spec, tmp_path / "b")
+    for fa, fb in zip(a.files, b.files, strict=True):
+        if fa["file"].endswith(".nc"):
+            with xr.open_dataset(tmp_path / "a" / fa["file"]) as da, \
+                 xr.open_dataset(tmp_path / "b" / fb["file"]) as db:
+                xr.testing.assert_identical(da.drop_attrs(), db.drop_attrs())
+
+
+PMIP1_SPEC = """
+experiment: {name: pmip1-check}
+epoch: 0ka
+orbit:
+  solution: fixed
+  eccentricity: 0.016724
+  obliquity_deg: 23.446
+  perihelion_deg: 102.04
+  perihelion_convention: perihelion_longitude
+solar_constant_wm2: 1365
+calendar: {name: noleap, anchor: march_equinox, date: "03-21 12:00"}
+grid: {kind: zonal, latitudes_deg: [-90, -60, 0, 60, 90]}
+insolation: {daily_method: midday}
+products: [monthly_insolation_fixed_day]
+"""
+
+# Bonfils et al. (1998), "Documentation of the PMIP models", appendix on insolation
+# (published-values.md §4.7): TODAY, 365-day year, vernal equinox 21 March 12:00, W m-2.
+PMIP1_TODAY = {
+    90: [0.00, 0.00, 16.69, 226.23, 428.89, 518.14, 478.16, 316.18, 78.00, 0.00, 0.00, 0.00],
+    60: [40.79, 99.47, 199.95, 320.61, 423.31, 473.71, 449.70, 362.23, 246.58, 135.19, 57.36,
+         26.96],
+    0: [419.41, 433.45, 437.87, 424.80, 402.22, 387.51, 392.10, 411.28, 428.62, 431.65, 421.40,
+        412.83],
+    -60: [474.04, 370.62, 241.20, 124.69, 51.89, 24.98, 35.60, 88.41, 185.96, 313.84, 436.76,
+          503.60],
+    -90: [500.27, 313.10, 64.32, 0.00, 0.00, 0.00, 0.00, 0.00, 7.99, 206.29, 438.09, 550.37],
+}
+
+
+def test_built_file_reproduces_the_pmip1_check_table(tmp_path):
+    spec = parse_spec_text(PMIP1_SPEC, filename="pmip1.yaml")
+    result = build(spec, tmp_path)
+    with xr.open_dataset(tmp_path / result.files[0]["file"]) as ds:
+        for lat, row in PMIP1_TODAY.items():
+            got = ds.insolation.sel(lat=lat).values.astype(float)
+            # Within 0.01 W m-2, the tolerance issue 3 sets for this table (the printed values are
+            # rounded to 0.01; float32 storage adds < 3e-5 W m-2).
+            np.testing.assert_allclose(got, row, atol=0.01, err_msg=f"lat {lat}")
+
+
+def test_existing_outputs_are_not_overwritten_without_force(tmp_path):
+    spec = load_spec(CONFIGS / "demo.yaml")
+    first = build(spec, tmp_path)
+    before = {f["file"]: (tmp_path / f["file"]).read_bytes() for f in first.files}
+    with pytest.raises(OutputError, match="already exist.*--force"):
+        build(spec, tmp_path)
+    after = {name: (tmp_path / name).read_bytes() for name in before}
+    assert after == before
+    build(spec, tmp_path, force=True)
+
+
+def test_cli_build_prints_summary_and_exit_status(tmp_path, capsys):
+    status = main(["build", str(CONFIGS / "protocols" / "lgm.yaml"), "-o", str(tmp_path),
+                   "--format", "json"])
+    assert status == 0
+    summary = json.loads(capsys.readouterr().out)
+    # Global annual mean = S0 / (4 sqrt(1 - e^2)) (published-values.md §4.1).
+    e = summary["orbit"]["eccentricity"]
+    expected = summary["solar_constant_wm2"] / (4 * np.sqrt(1 - e**2))
+    assert summary["global_annual_mean_insolation_wm2"] == pytest.approx(expected, rel=1e-9)
+    assert all(c["agrees"] for c in summary["expected_orbit_checks"])
+
+
+def test_cli_build_exit_1_when_published_values_disagree(tmp_path, capsys):
+    text = (CONFIGS / "protocols" / "midHolocene.yaml").read_text()
+    # A deliberately wrong published value: perihelion 180 degrees off (the classic mistake).
+    bad = text.replace("perihelion_deg: 0.87", "perihelion_deg: 180.87")
+    spec_file = tmp_path / "wrong.yaml"
+    spec_file.write_text(bad)
+    status = main(["build", str(spec_file), "-o", str(tmp_path / "out")])
+    err = capsys.readouterr().err
+    assert status == 1
+    assert "perihelion_deg" in err and err.count("\n") == 1
+
+
+def test_cli_build_bad_spec_is_one_line_exit_2(tmp_path, capsys):
+    spec_file = tmp_path / "typo.yaml"
+    spec_file.write_text("experiment: {name: x}\nepoch: 6ka\nprodcts: [orbit]\n")
+    status = main(["build", str(spec_file), "-o", str(tmp_path / "out")])
+    err = capsys.readouterr().err
+    assert status == 2
+    assert err.startswith("bcgen: error: ") and err.count("\n") == 1
+    assert "typo.yaml:3" in err and "products" in err
+    assert not (tmp_path / "out").exists()
