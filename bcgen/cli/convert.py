@@ -1,0 +1,203 @@
+"""``bcgen convert``: model output from fixed-day months to fixed-angle months.
+
+Reads one NetCDF file or a multi-file set of monthly (fixed-day) or daily means, and
+writes the means over the fixed-angle months of the run's orbit (or, with
+``--to fixed-day``, back from fixed-angle months to the calendar's months). See
+:mod:`bcgen.convert` for the method and the rules.
+"""
+
+from __future__ import annotations
+
+import argparse
+import contextlib
+import sys
+
+from bcgen.errors import BcgenError, OrbitError
+from bcgen.orbit.elements import PERIHELION_CONVENTIONS
+
+#: A progress bar appears (on a terminal only) for conversions longer than this.
+PROGRESS_MIN_SECONDS = 1.0
+
+EPILOG = """\
+examples:
+  bcgen convert tas_Amon_midHolocene_*.nc -o tas_fixed_angle.nc --epoch 6ka
+  bcgen convert pr_day_lig127k.nc -o pr_fixed_angle.nc --spec configs/lig127k.yaml
+  bcgen convert clim.nc -o clim_fa.nc --eccentricity 0.018682 --obliquity-deg 24.105 \\
+      --perihelion-deg 0.87 --perihelion-convention perihelion_longitude
+  bcgen convert big_*.nc -o out.nc --epoch 21ka --scheduler tcp://127.0.0.1:8786
+
+Monthly means are interpolated by Killworth (1996) (or Epstein 1991 for climatologies)
+and integrated exactly over the fractional-day fixed-angle months; daily means are
+averaged exactly. The calendar comes from the input file; the reference orbit
+defaults to 1950 CE and the March equinox to 21 March 12:00 (PMIP protocols).
+"""
+
+
+def register(subparsers) -> argparse.ArgumentParser:
+    """Add the ``convert`` subcommand."""
+    from bcgen.convert.aggregate import DEFAULT_MIN_VALID_FRACTION
+    from bcgen.convert.interpolation import METHODS
+
+    p = subparsers.add_parser(
+        "convert",
+        help="convert model output from fixed-day to fixed-angle months",
+        description="Convert monthly or daily model output from fixed-day (calendar) months "
+                    "to fixed-angle months of the run's orbit.",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    p.add_argument("inputs", nargs="+", metavar="INPUT", help="NetCDF file(s), one time series")
+    p.add_argument("-o", "--output", required=True, metavar="OUTPUT", help="NetCDF file to write")
+    orbit = p.add_argument_group("orbit of the run (one of)")
+    orbit.add_argument("--spec", metavar="SPEC", help="experiment spec (YAML): orbit, calendar "
+                       "anchor and reference orbit")
+    orbit.add_argument("--epoch", metavar="EPOCH", help="epoch such as 6ka or 127ka (Berger 1978)")
+    orbit.add_argument("--eccentricity", type=float, metavar="E", help="explicit eccentricity")
+    orbit.add_argument("--obliquity-deg", type=float, metavar="O", help="explicit obliquity, deg")
+    orbit.add_argument("--perihelion-deg", type=float, metavar="P",
+                       help="explicit longitude of perihelion, deg, in --perihelion-convention")
+    orbit.add_argument("--perihelion-convention", choices=tuple(PERIHELION_CONVENTIONS),
+                       metavar="NAME", help="convention of --perihelion-deg: "
+                       + "; ".join(f"{k}: {v}" for k, v in PERIHELION_CONVENTIONS.items()))
+    p.add_argument("--reference", metavar="EPOCH",
+                   help="epoch of the reference orbit (default: the spec's, else 1950CE)")
+    p.add_argument("--equinox", metavar='"MM-DD HH:MM"',
+                   help="date and time of the March equinox in the model calendar (default: "
+                        "the spec's, else 03-21 12:00)")
+    p.add_argument("--method", choices=tuple(METHODS), default="killworth1996",
+                   help="interpolation of monthly means (default: killworth1996)")
+    p.add_argument("--to", choices=("fixed-angle", "fixed-day"), default="fixed-angle",
+                   help="target months (default: fixed-angle; fixed-day reads fixed-angle "
+                        "months from the time bounds and needs no orbit)")
+    p.add_argument("--cycle", choices=("auto", "climatology", "series"), default="auto",
+                   help="treat the input as a repeating year or a series (default: auto)")
+    p.add_argument("--min-valid-fraction", type=float, default=DEFAULT_MIN_VALID_FRACTION,
+                   metavar="F", help="least covered fraction of a month with missing data "
+                   f"(default: {DEFAULT_MIN_VALID_FRACTION:g})")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="address of a running dask.distributed scheduler to compute on")
+    p.add_argument("--force", action="store_true", help="overwrite OUTPUT if it exists")
+    return p
+
+
+def _explicit(args) -> bool:
+    return any(v is not None for v in (args.eccentricity, args.obliquity_deg,
+                                       args.perihelion_deg, args.perihelion_convention))
+
+
+def _orbit_and_calendar(args):
+    """(orbit, reference, anchor, calendar name) from --spec, --epoch or explicit elements."""
+    from bcgen.epochs import parse_epoch
+    from bcgen.orbit import solve
+    from bcgen.solar_calendar.calendars import parse_anchor
+
+    given = [name for name, on in (("--spec", args.spec is not None),
+                                   ("--epoch", args.epoch is not None),
+                                   ("explicit elements", _explicit(args))) if on]
+    if len(given) != 1:
+        raise OrbitError("give the run's orbit by exactly one of --spec, --epoch or "
+                         "--eccentricity/--obliquity-deg/--perihelion-deg/--perihelion-convention"
+                         + (f" (got {', '.join(given)})" if given else ""))
+    reference = anchor = calendar = None
+    if args.spec is not None:
+        from bcgen.spec import load_spec
+
+        spec = load_spec(args.spec)
+        orbit = spec.resolve_orbit()
+        if orbit.shape not in ((), (1,)):
+            raise OrbitError(f"{args.spec}: a transient spec has one orbit per model year; "
+                             "convert needs one orbit (use --epoch for each segment)")
+        reference = spec.insolation.resolve_reference_orbit()
+        anchor = parse_anchor(spec.calendar.date, spec.calendar.anchor,
+                              source=f"{args.spec}: calendar.date")
+        calendar = spec.calendar.name
+    elif args.epoch is not None:
+        orbit = solve(parse_epoch(args.epoch))
+    else:
+        missing = [opt for opt, v in (("--eccentricity", args.eccentricity),
+                                      ("--obliquity-deg", args.obliquity_deg),
+                                      ("--perihelion-deg", args.perihelion_deg),
+                                      ("--perihelion-convention", args.perihelion_convention))
+                   if v is None]
+        if missing:
+            raise OrbitError(f"explicit elements need {', '.join(missing)} as well")
+        orbit = solve(None, "fixed", eccentricity=args.eccentricity,
+                      obliquity_deg=args.obliquity_deg, perihelion_deg=args.perihelion_deg,
+                      perihelion_convention=args.perihelion_convention)
+    if args.reference is not None:
+        reference = solve(parse_epoch(args.reference))
+    if args.equinox is not None:
+        anchor = parse_anchor(args.equinox, "march_equinox", source="--equinox")
+    return orbit, reference, anchor, calendar
+
+
+@contextlib.contextmanager
+def _scheduler(address: str | None):
+    if address is None:
+        yield None
+        return
+    try:
+        from distributed import Client
+    except ImportError:
+        raise BcgenError("--scheduler needs the 'distributed' package "
+                         "(pip install 'bcgen[distributed]')") from None
+    try:
+        client = Client(address, timeout="10s")
+    except (OSError, TimeoutError) as exc:
+        raise BcgenError(f"--scheduler: cannot reach a dask scheduler at {address} "
+                         f"({' '.join(str(exc).split())})") from None
+    try:
+        yield client
+    finally:
+        client.close()
+
+
+def _progress(enabled: bool):
+    if not enabled:
+        return contextlib.nullcontext()
+    from dask.diagnostics import ProgressBar
+
+    return ProgressBar(minimum=PROGRESS_MIN_SECONDS, out=sys.stderr)
+
+
+def run(args) -> int:
+    """Open, convert and write."""
+    from bcgen.convert.api import to_fixed_angle_months, to_fixed_day_months
+    from bcgen.convert.io import open_inputs, write_output
+
+    if not 0.0 < args.min_valid_fraction <= 1.0:
+        raise BcgenError(f"--min-valid-fraction must be in (0, 1]; got {args.min_valid_fraction}")
+    cyclic = {"auto": None, "climatology": True, "series": False}[args.cycle]
+    if args.to == "fixed-angle":
+        orbit, reference, anchor, calendar = _orbit_and_calendar(args)
+    elif args.spec or args.epoch or _explicit(args):
+        raise OrbitError("--to fixed-day reads the months from the input's time bounds; "
+                         "give no orbit")
+    ds, label = open_inputs(args.inputs)
+    with ds:
+        if args.to == "fixed-angle":
+            out = to_fixed_angle_months(ds, orbit, reference=reference, anchor=anchor,
+                                        calendar=calendar, method=args.method, cyclic=cyclic,
+                                        min_valid_fraction=args.min_valid_fraction,
+                                        source=label)
+        else:
+            out = to_fixed_day_months(ds, method=args.method, cyclic=cyclic,
+                                      min_valid_fraction=args.min_valid_fraction, source=label)
+        with _scheduler(args.scheduler) as client:
+            show = sys.stderr.isatty() and client is None and not args.quiet
+            with _progress(show):
+                path = write_output(out, args.output, force=args.force)
+    if not args.quiet:
+        dim = _time_dim(out)
+        names = [str(k) for k, v in out.data_vars.items()
+                 if dim in v.dims and k != out[dim].attrs.get("bounds")
+                 and k != out[dim].attrs.get("climatology")]
+        print(f"wrote {path}: {out.sizes[dim]} {args.to} months of {', '.join(names)} "
+              f"({out.attrs.get('month_conversion_method')})")
+    return 0
+
+
+def _time_dim(ds) -> str:
+    from bcgen.convert.timeaxis import find_time_dim
+
+    return find_time_dim(ds, "output")

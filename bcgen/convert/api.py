@@ -1,0 +1,515 @@
+"""Convert model output between fixed-day and fixed-angle months (xarray in, xarray out).
+
+:func:`to_fixed_angle_months` takes a Dataset of monthly means (fixed-day months) or of
+daily (or sub-daily) means and returns the means over the fixed-angle months of the
+given orbit (:func:`bcgen.solar_calendar.months.fixed_angle_months`), for every model
+year of a series or for the one year of a climatology. :func:`to_fixed_day_months`
+goes back from fixed-angle months (read from the time bounds) to the calendar months.
+
+How
+---
+- Daily and sub-daily means are averaged exactly over the fractional-day months,
+  overlap-weighted (:mod:`bcgen.convert.aggregate`).
+- Monthly means go through a published mean-preserving interpolation integrated
+  exactly over the new months (:mod:`bcgen.convert.interpolation`; default
+  Killworth 1996). Year boundaries use the neighbouring years of the series; the first
+  and last year follow :data:`~bcgen.convert.interpolation.END_RULES` (cyclic for a
+  climatology).
+- Missing data: see :mod:`bcgen.convert.aggregate` (a month whose source is all
+  missing stays missing; a partly missing one is the mean of its valid part when that
+  covers at least ``min_valid_fraction`` of it).
+- The work is lazy on dask-backed data: each variable goes through
+  :meth:`dask.array.Array.map_blocks`, one task per spatial chunk with the whole time
+  axis (time is made one chunk when needed; the time axis keeps its place, so blocks
+  reach the kernel of :mod:`bcgen.convert.kernels` without a transposing copy). Memory
+  stays bounded by the chunk size, and the same graph runs on a dask.distributed
+  cluster. Numpy-backed data are converted at once by the same kernel.
+
+Variables
+---------
+Every variable with the time axis and a numeric type is converted; variables without
+the time axis are copied unchanged; time-dependent non-numeric variables (dates as
+text, flags with ``flag_values``) are dropped with a warning. All attributes are kept.
+Values are computed in float64 on decoded values (``scale_factor``/``add_offset``
+applied, ``_FillValue`` as NaN) and stored as float32 when the decoded input was
+float32 or an integer of at most 16 bits, else float64; the packing (scale, offset,
+integer type, fill value) is dropped because means of packed integers need not fit
+the packing, and ``valid_min``/``valid_max``/``valid_range`` are converted to unpacked
+values. ``cell_methods`` gets ``time: mean``.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import re
+import uuid
+import warnings
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+import xarray as xr
+
+from bcgen.convert.aggregate import (
+    DEFAULT_MIN_VALID_FRACTION,
+    IntervalWeights,
+    apply_weights,
+    overlap_weights,
+)
+from bcgen.convert.interpolation import END_RULES, METHODS, MeanPreservingPlan
+from bcgen.convert.kernels import RowWeights, bad_columns
+from bcgen.convert.timeaxis import TimeAxis, read_time_axis
+from bcgen.errors import BcgenError, BcgenWarning, OrbitError
+from bcgen.orbit.elements import PERIHELION_CONVENTIONS, OrbitalElements
+from bcgen.solar_calendar.calendars import Anchor, ModelCalendar, parse_anchor
+
+Method = Literal["killworth1996", "epstein1991"]
+
+#: Prefix of the global attributes that record a conversion.
+ATTR_PREFIX = "month_conversion_"
+
+
+class ConversionError(BcgenError, ValueError):
+    """An input or option that the month conversion cannot handle."""
+
+
+class DroppedVariableWarning(BcgenWarning):
+    """A time-dependent variable that is not converted (not numeric, or categorical)."""
+
+
+class CellMethodWarning(BcgenWarning):
+    """A variable whose time statistic is not a mean (its conversion is a mean all the same)."""
+
+
+# --- kernels applied to numpy blocks -------------------------------------------------------
+@dataclass(frozen=True)
+class _AggregatePlan:
+    weights: IntervalWeights
+    min_valid_fraction: float
+    rows: RowWeights
+
+    @classmethod
+    def build(cls, weights: IntervalWeights, min_valid_fraction: float) -> _AggregatePlan:
+        cover = np.zeros(weights.n_target)
+        for b in range(weights.index.shape[1]):  # the order of apply_weights
+            cover += weights.weight_days[:, b]
+        rows = RowWeights.build(weights.index, weights.weight_days, cover,
+                                weights.target_length_days, min_valid_fraction)
+        return cls(weights, min_valid_fraction, rows)
+
+    def __call__(self, x: np.ndarray) -> np.ndarray:
+        return apply_weights(self.weights, x, min_valid_fraction=self.min_valid_fraction)
+
+    def block(self, x: np.ndarray, dtype=np.float64) -> np.ndarray:
+        bad = bad_columns(x)
+        out = self.rows.apply(x, np.empty((self.rows.index.shape[0], x.shape[1]), dtype))
+        if bad is not None:
+            out[:, bad] = self(np.asarray(x[:, bad], dtype=np.float64))
+        return out
+
+
+@dataclass(frozen=True)
+class _Kernel:
+    """Block function: converts the time axis ``axis`` of a numpy block."""
+
+    plan: object
+    dtype: np.dtype
+    axis: int
+    token: str = dataclasses.field(default_factory=lambda: uuid.uuid4().hex)
+
+    def __dask_tokenize__(self):  # the plan is large and made once: name it, do not hash it
+        return ("bcgen.convert", self.token, str(self.dtype), self.axis)
+
+    def __call__(self, block: np.ndarray) -> np.ndarray:
+        view = np.moveaxis(np.asarray(block), self.axis, 0)  # no copy when time is first
+        n = view.shape[0]
+        out = self.plan.block(view.reshape(n, -1), self.dtype)
+        return np.moveaxis(out.reshape((out.shape[0],) + view.shape[1:]), 0, self.axis)
+
+
+# --- orbit and calendar arguments ----------------------------------------------------------
+def _scalar_orbit(orbit, what: str) -> OrbitalElements:
+    if isinstance(orbit, str):
+        from bcgen.epochs import parse_epoch
+        from bcgen.orbit import solve
+
+        return solve(parse_epoch(orbit))
+    if not isinstance(orbit, OrbitalElements):
+        raise OrbitError(f"{what} must be OrbitalElements (bcgen.orbit.solve) or an epoch string; "
+                         f"got {type(orbit).__name__}")
+    if orbit.shape not in ((), (1,)):
+        raise OrbitError(f"{what} must be one orbit; got orbits of shape {orbit.shape}")
+    return orbit if orbit.shape == () else orbit[0]
+
+
+def _model_calendar(axis: TimeAxis, calendar, anchor, source: str) -> ModelCalendar:
+    if isinstance(anchor, str):
+        anchor = parse_anchor(anchor, source="anchor")
+    if calendar is None:
+        name = axis.calendar.name
+        given_anchor = None
+    elif isinstance(calendar, ModelCalendar):
+        name, given_anchor = calendar.name, calendar.anchor
+    else:
+        name, given_anchor = ModelCalendar(str(calendar)).name, None
+    if name != axis.calendar.name:
+        raise ConversionError(f"{source}: the file's calendar is {axis.calendar.name!r} but "
+                              f"calendar {name!r} was given; give the file's calendar or none")
+    final = anchor if anchor is not None else (given_anchor or Anchor())
+    if not isinstance(final, Anchor):
+        raise ConversionError(f"anchor must be an Anchor or 'MM-DD HH:MM'; got {final!r}")
+    return ModelCalendar(name, final)
+
+
+# --- target months -------------------------------------------------------------------------
+def _year_range(axis: TimeAxis) -> list[int]:
+    cal = axis.calendar
+    last = axis.date(axis.edges_days[-1] - 1e-3).year
+    years, y = [], axis.origin_year
+    while y <= last:
+        years.append(y)
+        y = cal.shift_year(y, 1)
+    return years
+
+
+def _fixed_angle_targets(axis: TimeAxis, cal: ModelCalendar, orbit, reference, years):
+    from bcgen.solar_calendar.months import fixed_angle_months
+
+    leap_free = cal.name in ("noleap", "all_leap", "360_day")
+    cache = None
+    starts, last_end = [], None
+    for year in years:
+        table = cache if (leap_free and cache is not None) else fixed_angle_months(
+            orbit, cal, reference=reference, year=year)
+        cache = table
+        offset = axis.year_offset_days(year)
+        starts.append(offset + np.asarray(table.start_day, dtype=float))
+        last_end = offset + float(np.asarray(table.end_day)[-1])
+    start = np.concatenate(starts)
+    end = np.append(start[1:], last_end)
+    month = np.tile(np.arange(1, 13), len(years))
+    year = np.repeat(np.asarray(years), 12)
+    return start, end, month, year
+
+
+def _calendar_month_targets(axis: TimeAxis, years):
+    start, month, year = [], [], []
+    cal = axis.calendar
+    for y in years:
+        start.append(axis.year_offset_days(y) + cal.month_starts_days(y)[:12])
+        month.append(np.arange(1, 13))
+        year.append(np.full(12, y))
+    last = years[-1]
+    end_last = axis.year_offset_days(last) + cal.year_length_days(last)
+    start = np.concatenate(start)
+    return start, np.append(start[1:], end_last), np.concatenate(month), np.concatenate(year)
+
+
+def _select_covered(axis: TimeAxis, start, end, min_valid_fraction):
+    if axis.cyclic:
+        return np.ones(start.shape, dtype=bool)
+    e = axis.edges_days
+    covered = np.clip(np.minimum(end, e[-1]) - np.maximum(start, e[0]), 0.0, None)
+    return covered >= min_valid_fraction * (end - start) * (1 - 1e-12)
+
+
+# --- the conversion ------------------------------------------------------------------------
+def _plan(axis: TimeAxis, start, end, method: str, min_valid_fraction: float):
+    if axis.kind == "daily":
+        w = overlap_weights(axis.edges_days, start, end, period_days=axis.period_days)
+        return _AggregatePlan.build(w, min_valid_fraction)
+    return MeanPreservingPlan.build(axis.edges_days, start, end, method=method,
+                                    cyclic=axis.cyclic, min_valid_fraction=min_valid_fraction)
+
+
+def _out_dtype(var: xr.DataArray) -> np.dtype:
+    dt = var.dtype
+    if dt == np.float32:
+        return np.dtype(np.float32)
+    if np.issubdtype(dt, np.integer) and dt.itemsize <= 2:
+        return np.dtype(np.float32)
+    if "scale_factor" in var.encoding or "add_offset" in var.encoding:
+        packed = np.dtype(var.encoding.get("dtype", dt))
+        if np.issubdtype(packed, np.integer) and packed.itemsize <= 2:
+            return np.dtype(np.float32)
+    return np.dtype(np.float64)
+
+
+def _cell_methods(name: str, old: str | None, dim: str) -> str:
+    if not old:
+        return f"{dim}: mean"
+    match = re.search(rf"\b{re.escape(dim)}:\s*(\w+)", old)
+    if match is None:
+        return f"{old} {dim}: mean"
+    if match.group(1) != "mean":
+        warnings.warn(f"variable {name!r}: cell_methods {old!r} is not a time mean; its "
+                      f"conversion averages it over the new months (cell_methods set to "
+                      f"'{dim}: mean')", CellMethodWarning, stacklevel=4)
+        return re.sub(rf"\b{re.escape(dim)}:\s*\w+(\s+(within|over)\s+\w+)*", f"{dim}: mean",
+                      old, count=1)
+    return old
+
+
+def _unpacked_attrs(var: xr.DataArray, dtype: np.dtype) -> dict:
+    attrs = dict(var.attrs)
+    scale = var.encoding.get("scale_factor", 1.0)
+    offset = var.encoding.get("add_offset", 0.0)
+    for key in ("valid_min", "valid_max", "valid_range", "actual_range"):
+        if key in attrs:
+            attrs[key] = (np.asarray(attrs[key], dtype=np.float64) * scale + offset).astype(dtype)
+    for key in ("missing_value", "_FillValue", "scale_factor", "add_offset", "_Unsigned"):
+        attrs.pop(key, None)
+    return attrs
+
+
+def _convert_variable(var: xr.DataArray, dim: str, kernel_plan, n_out: int) -> xr.DataArray:
+    """Convert one variable along ``dim``, lazily (dask.array.map_blocks) when it is chunked.
+
+    The time axis stays where it is, so the blocks of a (time, lat, lon) variable reach the
+    kernel time-first and contiguous; each block holds the whole time axis.
+    """
+    dtype = _out_dtype(var)
+    axis = var.dims.index(dim)
+    kernel = _Kernel(kernel_plan, dtype, axis)
+    data = var.data
+    if var.chunks is not None:  # dask-backed
+        data = data.rechunk({axis: -1})
+        chunks = data.chunks[:axis] + ((n_out,),) + data.chunks[axis + 1:]
+        data = data.map_blocks(kernel, chunks=chunks, dtype=dtype,
+                               meta=np.empty((0,) * data.ndim, dtype=dtype),
+                               name=f"bcgen-convert-{kernel.token}")
+    else:
+        data = kernel(np.asarray(data))
+    out = xr.DataArray(data, dims=var.dims, name=var.name,
+                       coords={k: c for k, c in var.coords.items() if dim not in c.dims})
+    out.attrs = _unpacked_attrs(var, dtype)
+    out.attrs["cell_methods"] = _cell_methods(str(var.name), var.attrs.get("cell_methods"), dim)
+    fill = np.array(1.0e20, dtype=dtype) if dtype == np.float32 else 1.0e20
+    out.encoding = {"_FillValue": fill, "dtype": dtype}
+    for key in ("zlib", "complevel", "shuffle"):
+        if key in var.encoding:
+            out.encoding[key] = var.encoding[key]
+    return out
+
+
+def _orbit_attrs(prefix: str, orbit: OrbitalElements) -> dict[str, object]:
+    attrs = {
+        f"{prefix}eccentricity": float(orbit.eccentricity),
+        f"{prefix}obliquity_deg": float(orbit.obliquity_deg),
+        f"{prefix}perihelion_longitude_deg": float(orbit.perihelion_longitude_deg),
+        f"{prefix}perihelion_longitude_convention": _ascii(
+            PERIHELION_CONVENTIONS["perihelion_longitude"]),
+        f"{prefix}sun_longitude_at_perihelion_deg": float(orbit.sun_longitude_at_perihelion_deg),
+        f"{prefix}sun_longitude_at_perihelion_convention": _ascii(
+            PERIHELION_CONVENTIONS["sun_longitude_at_perihelion"]),
+        f"{prefix}solution": str(orbit.solution),
+    }
+    if orbit.years_from_1950 is not None:
+        attrs[f"{prefix}years_from_1950"] = float(orbit.years_from_1950)
+    return attrs
+
+
+def _ascii(text: str) -> str:
+    return text.replace("ϖ", "varpi").replace("°", " deg").encode("ascii", "replace").decode()
+
+
+def _convert(ds, axis: TimeAxis, start, end, month, year, *, method, min_valid_fraction,
+             attrs, out_cyclic_years) -> xr.Dataset:
+    dim = axis.dim
+    if method not in METHODS:
+        raise ConversionError(f"unknown method {method!r}; expected one of {', '.join(METHODS)}")
+    if method == "epstein1991" and axis.kind != "daily" and not axis.cyclic:
+        raise ConversionError("method epstein1991 applies to climatologies (12 months of one "
+                              "repeating year) only; use killworth1996 for a series")
+    plan = _plan(axis, start, end, method, min_valid_fraction)
+    skip = {dim}
+    if axis.bounds_name:
+        skip.add(axis.bounds_name)
+    out_vars, dropped = {}, []
+    for name, var in ds.variables.items():
+        if name in skip:
+            continue
+        if dim not in var.dims:
+            out_vars[name] = ds[name] if name in ds.coords or name in ds.data_vars else var
+            continue
+        numeric = np.issubdtype(var.dtype, np.number) and not np.issubdtype(var.dtype,
+                                                                            np.complexfloating)
+        if not numeric or "flag_values" in var.attrs or "flag_masks" in var.attrs:
+            dropped.append(str(name))
+            continue
+        out_vars[name] = _convert_variable(ds[name], dim, plan, start.size)
+    if dropped:
+        warnings.warn(f"variables not converted and left out (not numeric means along "
+                      f"'{dim}'): {', '.join(dropped)}", DroppedVariableWarning, stacklevel=3)
+    time_ds = _time_coordinate(axis, start, end, out_cyclic_years, ds[dim].attrs)
+    data_vars = {k: v for k, v in out_vars.items() if k not in ds.coords}
+    coords = {k: v for k, v in out_vars.items() if k in ds.coords}
+    out = xr.Dataset(data_vars, coords=coords)
+    out = out.assign_coords({dim: time_ds[dim]})
+    bname = next(iter(n for n in time_ds.data_vars))
+    out[bname] = time_ds[bname]
+    if "month" not in out.variables:
+        out = out.assign_coords(month=(dim, month.astype(np.int32), {
+            "long_name": "month of the model year (1 = January)", "units": "1"}))
+    if (not axis.cyclic or out_cyclic_years is None) and "model_year" not in out.variables:
+        out = out.assign_coords(model_year=(dim, year.astype(np.int32), {
+            "long_name": "model year of the month", "units": "1"}))
+    out.attrs = dict(ds.attrs)
+    out.attrs.update(attrs)
+    out.attrs[f"{ATTR_PREFIX}method"] = method
+    out.attrs[f"{ATTR_PREFIX}method_description"] = (
+        METHODS[method][0] if axis.kind != "daily"
+        else "exact overlap-weighted mean of the daily (or sub-daily) means")
+    out.attrs[f"{ATTR_PREFIX}method_reference"] = (
+        METHODS[method][1] if axis.kind != "daily" else "no interpolation needed")
+    out.attrs[f"{ATTR_PREFIX}end_rule"] = END_RULES["cyclic" if axis.cyclic else "extrapolate"]
+    out.attrs[f"{ATTR_PREFIX}source_time_axis"] = {
+        "monthly": "monthly means of fixed-day (calendar) months",
+        "daily": "daily or sub-daily means", "any_months": "means over fixed-angle months"}[
+        axis.kind] + (" (climatology, cyclic)" if axis.cyclic else " (series)")
+    out.attrs[f"{ATTR_PREFIX}missing_data_rule"] = (
+        f"a month is the mean of its valid part when that covers at least "
+        f"{min_valid_fraction:g} of it, else missing")
+    hist = f"bcgen convert: {out.attrs[f'{ATTR_PREFIX}months']} ({method})"
+    out.attrs["history"] = (f"{ds.attrs['history']}\n{hist}" if ds.attrs.get("history")
+                            else hist)
+    return out
+
+
+def _time_coordinate(axis: TimeAxis, start, end, cyclic_years, attrs) -> xr.Dataset:
+    dim = axis.dim
+    tvar_attrs = {k: v for k, v in attrs.items()
+                  if k not in ("bounds", "climatology", "units", "calendar")}
+    bname = axis.bounds_name or f"{dim}_bnds"
+    mid = 0.5 * (start + end)
+    cal = axis.calendar
+    lower, upper = start.copy(), end.copy()
+    link = "bounds"
+    if cyclic_years is not None:  # CF climatology (§7.4): first year's start, last year's end
+        link = "climatology"
+        y1, y2 = cyclic_years
+        lower = start - axis.year_offset_days(axis.origin_year) + axis.year_offset_days(y1)
+        upper = end - axis.year_offset_days(axis.origin_year) + axis.year_offset_days(y2)
+    units = f"days since {axis.origin_year:04d}-01-01 00:00:00"
+    times = np.array([axis.date(t) for t in mid], dtype=object)
+    bnds = np.array([[axis.date(a), axis.date(b)] for a, b in zip(lower, upper, strict=True)],
+                    dtype=object)
+    tvar_attrs.update({"standard_name": "time", "axis": "T", link: bname})
+    time = xr.Variable((dim,), times, tvar_attrs,
+                       encoding={"units": units, "calendar": cal.name, "dtype": "float64",
+                                 "_FillValue": None})
+    bounds = xr.Variable((dim, "bnds"), bnds, {},
+                         encoding={"units": units, "calendar": cal.name, "dtype": "float64",
+                                   "_FillValue": None})
+    return xr.Dataset({bname: bounds}, coords={dim: time})
+
+
+def to_fixed_angle_months(
+    ds: xr.Dataset,
+    orbit,
+    *,
+    reference=None,
+    anchor: Anchor | str | None = None,
+    calendar: ModelCalendar | str | None = None,
+    method: Method = "killworth1996",
+    cyclic: bool | None = None,
+    min_valid_fraction: float = DEFAULT_MIN_VALID_FRACTION,
+    source: str = "input",
+) -> xr.Dataset:
+    """Means over fixed-angle months from fixed-day monthly or daily means.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Model output with a decoded CF time axis (numpy- or dask-backed; chunk in space,
+        time is made one chunk).
+    orbit : OrbitalElements or str
+        The run's orbit (one epoch), or an epoch such as ``"6ka"`` (Berger 1978).
+    reference : OrbitalElements or str, optional
+        Orbit whose fixed-day months define the arcs of true longitude (default 1950 CE,
+        see :func:`bcgen.solar_calendar.months.fixed_angle_months`).
+    anchor : Anchor or str, optional
+        Equinox anchor, e.g. ``"03-21 12:00"`` (default: 21 March 12:00, PMIP).
+    calendar : ModelCalendar or str, optional
+        Must match the file's calendar; a ModelCalendar also gives the anchor.
+    method : {"killworth1996", "epstein1991"}
+        Interpolation of monthly means (ignored for daily input).
+    cyclic : bool, optional
+        Force a climatology or a series (default: detected, see :mod:`bcgen.convert.timeaxis`).
+    min_valid_fraction : float
+        Missing-data rule, see :mod:`bcgen.convert.aggregate`.
+    source : str
+        Name of the input for error messages.
+
+    Returns
+    -------
+    xarray.Dataset
+        Same variables on the fixed-angle months, with time bounds, ``month`` and
+        (for series) ``model_year`` coordinates and global attributes recording the
+        method, orbit, reference orbit, anchor and end rule.
+    """
+    axis = read_time_axis(ds, source, cyclic=cyclic)
+    cal = _model_calendar(axis, calendar, anchor, source)
+    orbit = _scalar_orbit(orbit, "orbit")
+    if reference is None:
+        from bcgen.orbit import solve
+
+        reference = solve(0.0)
+    reference = _scalar_orbit(reference, "reference")
+    years = [axis.origin_year] if axis.cyclic else _year_range(axis)
+    start, end, month, year = _fixed_angle_targets(axis, cal, orbit, reference, years)
+    keep = _select_covered(axis, start, end, min_valid_fraction)
+    if not keep.any():
+        raise ConversionError(f"{source}: no fixed-angle month is covered by the data")
+    start, end, month, year = start[keep], end[keep], month[keep], year[keep]
+    attrs = {f"{ATTR_PREFIX}months": "fixed-angle months: each month spans the arc of true "
+             "solar longitude that the fixed-day month spans in the reference orbit",
+             f"{ATTR_PREFIX}calendar": cal.name,
+             f"{ATTR_PREFIX}anchor": cal.anchor.describe()}
+    attrs.update(_orbit_attrs("orbit_", orbit))
+    attrs.update(_orbit_attrs("reference_orbit_", reference))
+    return _convert(ds, dataclasses.replace(axis, calendar=cal), start, end,
+                    month, year, method=method, min_valid_fraction=min_valid_fraction,
+                    attrs=attrs, out_cyclic_years=axis.climatology)
+
+
+def to_fixed_day_months(
+    ds: xr.Dataset,
+    *,
+    method: Method = "killworth1996",
+    cyclic: bool | None = None,
+    min_valid_fraction: float = DEFAULT_MIN_VALID_FRACTION,
+    source: str = "input",
+) -> xr.Dataset:
+    """Go back: calendar-month means from means over fixed-angle months.
+
+    The fixed-angle months are read from the time bounds (as written by
+    :func:`to_fixed_angle_months`), so no orbit is needed. Interpolation and rules as
+    in :func:`to_fixed_angle_months`.
+    """
+    axis = read_time_axis(ds, source, cyclic=cyclic, expect="any_months")
+    if axis.cyclic:
+        years = [axis.date(0.5 * (axis.edges_days[0] + axis.edges_days[-1])).year]
+    else:
+        years = _year_range(axis)
+        first = axis.date(axis.edges_days[0]).year
+        if first < years[0]:
+            years.insert(0, first)
+    start, end, month, year = _calendar_month_targets(axis, years)
+    keep = _select_covered(axis, start, end, min_valid_fraction)
+    if not keep.any():
+        raise ConversionError(f"{source}: no calendar month is covered by the data")
+    start, end, month, year = start[keep], end[keep], month[keep], year[keep]
+    attrs = {f"{ATTR_PREFIX}months": "fixed-day months: the calendar's months",
+             f"{ATTR_PREFIX}calendar": axis.calendar.name}
+    for key in list(ds.attrs):
+        if key.startswith(ATTR_PREFIX):
+            attrs.setdefault(f"source_{key}", ds.attrs[key])
+    dropped_keys = {k for k in ds.attrs if k.startswith(ATTR_PREFIX)}
+    clean = ds.copy()
+    clean.attrs = {k: v for k, v in ds.attrs.items() if k not in dropped_keys}
+    drop = [c for c in ("month", "model_year") if c in clean.coords]
+    clean = clean.drop_vars(drop)
+    return _convert(clean, axis, start, end, month, year, method=method,
+                    min_valid_fraction=min_valid_fraction, attrs=attrs,
+                    out_cyclic_years=axis.climatology)

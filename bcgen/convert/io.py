@@ -1,0 +1,178 @@
+"""Opening model output for conversion, and writing the result.
+
+:func:`open_inputs` opens one file or a multi-file set with cftime dates, refusing
+(one line naming the file) a missing file, a file without a time axis, mixed
+calendars, and time axes that are neither monthly nor daily or that leave gaps
+between files. The data are dask-backed and chunked for conversion: the whole time
+axis in one chunk, space cut so that one chunk holds about :data:`CHUNK_BYTES`.
+
+:func:`write_output` writes through :func:`bcgen.writer.write_netcdf` (atomic,
+refuses to overwrite without ``force``), with the data variables' compression taken
+from the input.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Sequence
+from pathlib import Path
+
+import numpy as np
+import xarray as xr
+
+from bcgen.convert.timeaxis import find_time_dim, read_time_axis
+from bcgen.errors import InputFileError
+
+#: Target size of one chunk of input (all times × a block of space), bytes.
+CHUNK_BYTES = 48 * 1024 * 1024
+
+
+def _decoder():
+    return xr.coders.CFDatetimeCoder(use_cftime=True)
+
+
+def _open_one(path: Path, chunks=None) -> xr.Dataset:
+    try:
+        return xr.open_dataset(path, decode_times=_decoder(), chunks=chunks)
+    except (OSError, ValueError, RuntimeError) as exc:
+        raise InputFileError(f"{path}: cannot open as NetCDF ({' '.join(str(exc).split())})") \
+            from None
+
+
+def check_inputs(paths: Sequence[os.PathLike | str]) -> list[Path]:
+    """Check each input file on its own and the joins between them; return the paths sorted.
+
+    Files are ordered by their first time. Raises :class:`~bcgen.errors.InputFileError`
+    naming the file for a missing file, no time axis, another calendar than the first
+    file's, time steps that are neither monthly nor daily, or a gap/overlap between files.
+    """
+    if not paths:
+        raise InputFileError("no input file given")
+    found = []
+    for raw in paths:
+        path = Path(raw)
+        if not path.is_file():
+            raise InputFileError(f"{path}: no such file")
+        with _open_one(path) as ds:
+            axis = read_time_axis(ds, str(path), cyclic=False)
+            found.append((axis.date(axis.edges_days[0]), axis.date(axis.edges_days[-1]),
+                          axis.calendar.name, axis.kind, path))
+    first_cal, first_path = found[0][2], found[0][4]
+    for _, _, cal, kind, path in found:
+        if cal != first_cal:
+            raise InputFileError(f"{path}: calendar {cal} differs from {first_path} ({first_cal}); "
+                                 "the files of one conversion must share a calendar")
+        if kind != found[0][3]:
+            raise InputFileError(f"{path}: holds {kind} means but {first_path} {found[0][3]} "
+                                 "means")
+    found.sort(key=lambda item: item[0])
+    for (_, e0, _, _, p0), (s1, _, _, _, p1) in zip(found[:-1], found[1:], strict=True):
+        if s1 != e0:
+            what = "a gap" if s1 > e0 else "an overlap"
+            raise InputFileError(f"{p1}: starts at {s1} but {p0} ends at {e0} ({what} between "
+                                 "files); expected consecutive files")
+    return [item[4] for item in found]
+
+
+def conversion_chunks(ds: xr.Dataset, time_dim: str, target_bytes: int = CHUNK_BYTES) -> dict:
+    """Chunks for conversion: time whole, the first spatial dimension cut to ~``target_bytes``.
+
+    The first non-time dimension of the largest variable is cut; the others stay whole
+    (so a chunk is a slab of latitude rows, matching how NetCDF stores (time, lat, lon)).
+    """
+    variables = [v for v in ds.data_vars.values() if time_dim in v.dims and v.ndim > 1]
+    if not variables:
+        return {time_dim: -1}
+    big = max(variables, key=lambda v: v.size * v.dtype.itemsize)
+    others = [d for d in big.dims if d != time_dim]
+    row = ds.sizes[time_dim] * 8 * int(np.prod([ds.sizes[d] for d in others[1:]], dtype=np.int64))
+    rows = int(max(1, min(ds.sizes[others[0]], target_bytes // max(row, 1))))
+    chunks = {time_dim: -1, others[0]: rows}
+    chunks.update({d: -1 for d in others[1:]})
+    return chunks
+
+
+def open_inputs(paths: Sequence[os.PathLike | str], *, chunk_bytes: int = CHUNK_BYTES):
+    """Open model output for conversion; returns ``(dataset, source_label)``.
+
+    Parameters
+    ----------
+    paths : sequence of path
+        One file or a multi-file set (ordered by time, joined along the time axis).
+    chunk_bytes : int
+        Target chunk size in bytes (float64 working copy of one chunk).
+    """
+    if len(paths) == 1:  # errors about its time axis name it when it is read
+        path = Path(paths[0])
+        if not path.is_file():
+            raise InputFileError(f"{path}: no such file")
+        ds = _open_one(path)
+        dim = find_time_dim(ds, str(path))
+        return ds.chunk(conversion_chunks(ds, dim, chunk_bytes)), str(path)
+    ordered = check_inputs(paths)
+    label = f"{ordered[0]} ... {ordered[-1]}"
+    with xr.open_dataset(ordered[0], decode_times=False) as first:
+        dim = find_time_dim(xr.decode_cf(first.isel({d: slice(0, 1) for d in first.dims})),
+                            str(ordered[0]))
+        n_time = 0
+        for path in ordered:
+            with xr.open_dataset(path, decode_times=False) as other:
+                n_time += other.sizes[dim]
+        probe = first.isel({dim: slice(0, 1)}).isel({dim: np.zeros(n_time, dtype=int)})
+        chunks = conversion_chunks(probe, dim, chunk_bytes)
+    try:
+        ds = xr.open_mfdataset(
+            ordered, decode_times=_decoder(), combine="by_coords", data_vars="minimal",
+            coords="minimal", compat="override",
+            chunks={k: v for k, v in chunks.items() if k != dim},
+        )
+    except (OSError, ValueError) as exc:
+        raise InputFileError(f"{label}: cannot join the files along time "
+                             f"({' '.join(str(exc).split())})") from None
+    return ds.chunk({dim: -1}), label
+
+
+def output_encoding(ds: xr.Dataset) -> dict[str, dict]:
+    """Per-variable NetCDF encoding of a converted dataset.
+
+    Time units, calendars and fill values as set by the conversion; no fill value on
+    coordinates and bounds (CF 2.5.1, 7.1). Data variables keep the input's zlib
+    compression: compressed ones are stored in HDF5 chunks that match the conversion's
+    blocks (whole time axis × a slab of space), uncompressed ones contiguously (the
+    fastest layout to write and to read back).
+    """
+    enc: dict[str, dict] = {}
+    time_dim = find_time_dim(ds, "output")
+    linked = {str(v.attrs[k]) for v in ds.variables.values() for k in ("bounds", "climatology")
+              if k in v.attrs}
+    for name, var in ds.variables.items():
+        e = {k: v for k, v in var.encoding.items()
+             if k in ("units", "calendar", "dtype", "_FillValue", "zlib", "complevel", "shuffle")}
+        if name in ds.coords or name in linked:
+            e["_FillValue"] = None  # CF 2.5.1 / 7.1: no fill value on coordinates and bounds
+        elif np.issubdtype(var.dtype, np.floating) and var.ndim >= 1:
+            if not e.get("zlib"):
+                e = {k: v for k, v in e.items() if k not in ("zlib", "complevel", "shuffle")}
+                e.update(zlib=False, shuffle=False)
+            if var.chunks is not None:
+                e["chunksizes"] = _storage_chunks(var, time_dim)
+        if e:
+            enc[str(name)] = e
+    return enc
+
+
+def _storage_chunks(var, time_dim: str, time_steps: int = 120) -> tuple[int, ...]:
+    """HDF5 chunks: the conversion's spatial blocks, cut every ``time_steps`` along time.
+
+    Each block is then written as whole HDF5 chunks (no read-back), and a map of one
+    time step or a series at one point reads only a few megabytes.
+    """
+    return tuple(min(int(max(c)), time_steps) if dim == time_dim else int(max(c))
+                 for dim, c in zip(var.dims, var.chunks, strict=True))
+
+
+def write_output(ds: xr.Dataset, path: os.PathLike | str, *, force: bool = False) -> Path:
+    """Write the converted dataset atomically (see :func:`bcgen.writer.write_netcdf`)."""
+    from bcgen.writer import write_netcdf
+
+    return write_netcdf(ds, path, force=force, encoding=output_encoding(ds))
