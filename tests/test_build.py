@@ -206,3 +206,48 @@ def test_cli_build_bad_spec_is_one_line_exit_2(tmp_path, capsys):
     assert err.startswith("bcgen: error: ") and err.count("\n") == 1
     assert "typo.yaml:3" in err and "products" in err
     assert not (tmp_path / "out").exists()
+
+
+GRID_SPECS = {
+    "regular_360day": """
+experiment: {name: regular-check}
+epoch: 127ka
+grid: {kind: regular, resolution_deg: 5.0}
+calendar: {name: 360_day, date: "03-21 12:00"}
+products: [daily_insolation, monthly_insolation_fixed_day, monthly_insolation_fixed_angle]
+""",
+    "gaussian_gregorian": """
+experiment: {name: gaussian-check}
+epoch: 21ka
+grid: {kind: gaussian, nlat: 32}
+calendar: {name: proleptic_gregorian, model_year: 2001}
+products: [daily_insolation, monthly_insolation_fixed_angle]
+""",
+    "zonal_julian": """
+experiment: {name: julian-check}
+epoch: 127ka
+grid: {kind: zonal, resolution_deg: 30}
+calendar: {name: julian}
+products: [daily_insolation, monthly_insolation_fixed_angle]
+""",
+}
+
+
+@pytest.mark.parametrize("name", GRID_SPECS)
+def test_other_grids_and_calendars_pass_the_cf_checker(tmp_path, name):
+    # Standard: CF 1.11 via the IOOS compliance-checker; zero errors on lat-lon, Gaussian and
+    # zonal grids in 360_day, proleptic_gregorian and julian calendars (no year 0: the
+    # time slice is dated in year 2 so that a month starting before 1 January has a date).
+    spec = parse_spec_text(GRID_SPECS[name], filename=f"{name}.yaml")
+    result = build(spec, tmp_path)
+    for record in result.files:
+        assert_cf_compliant(tmp_path / record["file"])
+    daily = next(tmp_path / f["file"] for f in result.files
+                 if f["product"] == "daily_insolation")
+    with xr.open_dataset(daily, decode_times=False) as ds:
+        days = {"regular_360day": 360, "gaussian_gregorian": 365, "zonal_julian": 365}[name]
+        assert ds.time.size == days
+        if name == "regular_360day":
+            assert ds.insolation.dims == ("time", "lat", "lon")
+            # Daily means do not depend on longitude.
+            assert float(ds.insolation.std("lon").max()) == 0.0

@@ -35,6 +35,10 @@ from bcgen.spec.output import OutputSpec, TemplateRef, TimestepTableSpec, check_
 from bcgen.spec.transient import TransientSpec
 
 
+#: CF calendars without a year 0 (CF 1.11 §4.4.1).
+NO_YEAR_ZERO_CALENDARS = ("standard", "julian")
+
+
 @dataclass(frozen=True)
 class ExperimentSpec:
     """A validated experiment spec (see ``configs/demo.yaml`` for the documented format).
@@ -133,7 +137,10 @@ class ExperimentSpec:
                 )
             check_epoch("epoch", self.epoch)
             if self.calendar.model_year is None:
-                object.__setattr__(self, "calendar", replace(self.calendar, model_year=1))
+                # Year 2 in calendars without a year 0 (CF §4.4.1), so that a fixed-angle
+                # month that starts before 1 January can still be dated.
+                default = 2 if self.calendar.name in NO_YEAR_ZERO_CALENDARS else 1
+                object.__setattr__(self, "calendar", replace(self.calendar, model_year=default))
         else:
             if self.calendar.model_year is not None:
                 raise FieldError(
@@ -270,7 +277,8 @@ class ExperimentSpec:
         """The first (for a time slice, the only) model year."""
         if self.transient is not None:
             return self.transient.first_model_year
-        return self.calendar.model_year or 1
+        return self.calendar.model_year or (
+            2 if self.calendar.name in NO_YEAR_ZERO_CALENDARS else 1)
 
     @property
     def sha256(self) -> str | None:
