@@ -1,24 +1,149 @@
 """bcgen: boundary conditions for paleoclimate model experiments.
 
-The public API is small and explicit; see the README's API reference.
+The public API is small and explicit (:data:`__all__`; the README's "API reference"
+lists every name with its signature). ``import bcgen`` is light: the names are loaded
+from their modules on first use (PEP 562), so xarray, dask, netCDF4 and YAML are
+imported only by the functions that need them.
+
+>>> import bcgen
+>>> orbit = bcgen.solve(bcgen.parse_epoch("6ka"))
+>>> round(float(orbit.eccentricity), 6)
+0.018682
+
+``bcgen.build`` and ``bcgen.validate`` are also the names of subpackages; after either
+is imported the attribute is that subpackage, which is made callable (it calls the
+function of the same name), so ``bcgen.build(spec, "out")`` always works.
 """
 
 from __future__ import annotations
 
+import importlib
+import sys
+import types
+
 __version__ = "0.1.0"
 
-from bcgen.epochs import parse_epoch, parse_epochs  # noqa: E402
-from bcgen.errors import BcgenError, BcgenWarning, OutsideValidityWarning  # noqa: E402
-from bcgen.orbit import OrbitalElements, convert_perihelion, solve  # noqa: E402
+from bcgen.errors import (  # noqa: E402  (the error classes are tiny and import nothing)
+    BcgenError,
+    BcgenWarning,
+    CalendarError,
+    CheckFailed,
+    EpochError,
+    GridError,
+    InputFileError,
+    OrbitError,
+    OutputError,
+    OutsideValidityWarning,
+    SpecError,
+)
+
+#: Public name → the module it is loaded from on first use.
+_LAZY = {
+    "parse_epoch": "bcgen.epochs",
+    "parse_epochs": "bcgen.epochs",
+    "format_epoch": "bcgen.epochs",
+    "solve": "bcgen.orbit",
+    "OrbitalElements": "bcgen.orbit",
+    "convert_perihelion": "bcgen.orbit",
+    "PERIHELION_CONVENTIONS": "bcgen.orbit",
+    "SOLUTIONS": "bcgen.orbit",
+    "ModelCalendar": "bcgen.solar_calendar.calendars",
+    "Anchor": "bcgen.solar_calendar.calendars",
+    "SolarYear": "bcgen.solar_calendar.position",
+    "fixed_day_months": "bcgen.solar_calendar.months",
+    "fixed_angle_months": "bcgen.solar_calendar.months",
+    "daily_insolation": "bcgen.insolation",
+    "monthly_insolation": "bcgen.insolation",
+    "instantaneous_insolation": "bcgen.insolation",
+    "annual_mean_insolation_wm2": "bcgen.insolation",
+    "load_spec": "bcgen.spec",
+    "parse_spec_text": "bcgen.spec",
+    "build": "bcgen.build",
+    "to_fixed_angle_months": "bcgen.convert",
+    "to_fixed_day_months": "bcgen.convert",
+    "validate": "bcgen.validate",
+}
+
+#: Subpackages that share their name with a public function.
+_CALLABLE_SUBPACKAGES = ("build", "validate")
 
 __all__ = [
+    "Anchor",
     "BcgenError",
     "BcgenWarning",
+    "CalendarError",
+    "CheckFailed",
+    "EpochError",
+    "GridError",
+    "InputFileError",
+    "ModelCalendar",
+    "OrbitError",
     "OrbitalElements",
+    "OutputError",
     "OutsideValidityWarning",
+    "PERIHELION_CONVENTIONS",
+    "SOLUTIONS",
+    "SolarYear",
+    "SpecError",
     "__version__",
+    "annual_mean_insolation_wm2",
+    "build",
     "convert_perihelion",
+    "daily_insolation",
+    "fixed_angle_months",
+    "fixed_day_months",
+    "format_epoch",
+    "instantaneous_insolation",
+    "load_spec",
+    "monthly_insolation",
     "parse_epoch",
     "parse_epochs",
+    "parse_spec_text",
     "solve",
+    "to_fixed_angle_months",
+    "to_fixed_day_months",
+    "validate",
 ]
+
+
+class _CallableSubpackage(types.ModuleType):
+    """A subpackage that can be called as the function of the same name (``bcgen.build``)."""
+
+    def __call__(self, *args, **kwargs):
+        return getattr(self, self.__name__.rpartition(".")[2])(*args, **kwargs)
+
+    @property
+    def __wrapped__(self):  # inspect.signature(bcgen.build) shows the function's
+        return getattr(self, self.__name__.rpartition(".")[2])
+
+
+class _Package(types.ModuleType):
+    """The ``bcgen`` module: makes ``bcgen.build``/``bcgen.validate`` callable when imported."""
+
+    def __setattr__(self, name: str, value) -> None:
+        if name in _CALLABLE_SUBPACKAGES and isinstance(value, types.ModuleType):
+            value.__class__ = _CallableSubpackage
+        super().__setattr__(name, value)
+
+
+def __getattr__(name: str):
+    """Load a public name from its module on first use (PEP 562)."""
+    if name not in _LAZY:
+        raise AttributeError(f"module 'bcgen' has no attribute {name!r}")
+    module = importlib.import_module(_LAZY[name])
+    if name in _CALLABLE_SUBPACKAGES:
+        return module  # callable: see _CallableSubpackage
+    value = getattr(module, name)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))
+
+
+sys.modules[__name__].__class__ = _Package
+for _name in _CALLABLE_SUBPACKAGES:  # imported before this point (never, but be sure)
+    if f"{__name__}.{_name}" in sys.modules:
+        setattr(sys.modules[__name__], _name, sys.modules[f"{__name__}.{_name}"])
+del _name

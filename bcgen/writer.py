@@ -484,7 +484,20 @@ def _create_temporary(path: Path) -> Path:
 
 
 def _to_netcdf(dataset, tmp: Path, encoding: dict) -> None:
-    dataset.to_netcdf(tmp, mode="w", format="NETCDF4", engine="netcdf4", encoding=encoding)
+    # Dask-backed data are written by a thread pool of our own, shut down (waiting for the
+    # blocks in flight) before returning or raising: after an interrupt, a worker thread that
+    # is still writing would otherwise reopen the temporary file after it was removed.
+    from concurrent.futures import ThreadPoolExecutor
+
+    import dask
+
+    pool = ThreadPoolExecutor(max_workers=dask.system.CPU_COUNT)
+    try:
+        with dask.config.set(pool=pool):
+            dataset.to_netcdf(tmp, mode="w", format="NETCDF4", engine="netcdf4",
+                              encoding=encoding)
+    finally:
+        pool.shutdown(wait=True, cancel_futures=True)
 
 
 def _move_into_place(tmp: Path, path: Path, force: bool) -> None:

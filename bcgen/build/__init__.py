@@ -3,8 +3,10 @@
 :func:`build` resolves the spec once (:class:`~bcgen.build.context.BuildContext`),
 computes every product (:mod:`bcgen.build.products`) before writing anything,
 refuses to overwrite existing outputs without ``force`` before writing
-anything, writes each file atomically, and finishes with a JSON manifest
-(each file with its SHA-256 and what it holds). A transient spec is handed to
+anything, writes every file and a JSON manifest (each file with its SHA-256
+and what it holds) into a hidden staging folder inside the output folder, and
+moves them into place only when all are complete, so that a failure (disk
+full) or an interrupt leaves the output folder as it was. A transient spec is handed to
 :mod:`bcgen.transient`.
 """
 
@@ -13,6 +15,8 @@ from __future__ import annotations
 import hashlib
 import json
 import os
+import shutil
+import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -71,21 +75,41 @@ def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
     ctx = BuildContext(spec, command=command)
     outputs = make_outputs(ctx)
     manifest_path = directory / manifest_name(spec)
-    _prepare_directory(directory, [o.file_name for o in outputs] + [manifest_path.name], force)
+    names = [o.file_name for o in outputs] + [manifest_path.name]
     result = BuildResult(directory, context=ctx)
     if spec.orbit.expected is not None:
         result.orbit_checks = tuple(spec.orbit.expected.compare(ctx.orbit))
     encoding_options = {"compression_level": spec.output.compression_level,
                         "shuffle": spec.output.shuffle}
-    for out in outputs:
-        path = directory / out.file_name
-        if out.dataset is not None:
-            write_netcdf(out.dataset, path, force=force,
-                         encoding=_encoding(out.dataset, **encoding_options))
-        else:
-            write_text_atomic(path, out.text, force=force)
-        result.files.append(_file_record(path, out))
-    result.manifest = _write_manifest(manifest_path, ctx, result, force)
+    # Every file is first written into a hidden staging folder and moved into place only
+    # when all are complete: a failure or an interrupt leaves the folder as it was.
+    created = not directory.exists()
+    stage = None
+    try:
+        _prepare_directory(directory, names, force)
+        stage = Path(tempfile.mkdtemp(prefix=".bcgen-build-", dir=directory))
+        for out in outputs:
+            path = stage / out.file_name
+            if out.dataset is not None:
+                write_netcdf(out.dataset, path,
+                             encoding=_encoding(out.dataset, **encoding_options))
+            else:
+                write_text_atomic(path, out.text)
+            result.files.append(_file_record(path, out))
+        _write_manifest(stage / manifest_path.name, ctx, result, force)
+        for name in names:
+            _move_into_place(stage / name, directory / name, force)
+    except OutputError as exc:  # name the file where it was going, not the staging folder
+        message = str(exc) if stage is None else str(exc).replace(str(stage), str(directory))
+        raise OutputError(message) from None
+    except OSError as exc:
+        raise OutputError(f"cannot write in {directory}: {exc.strerror or exc}") from None
+    finally:
+        if stage is not None:
+            shutil.rmtree(stage, ignore_errors=True)
+        if created and directory.is_dir() and not any(directory.iterdir()):
+            directory.rmdir()
+    result.manifest = manifest_path
     return result
 
 
@@ -109,6 +133,22 @@ def _prepare_directory(directory: Path, names: list[str], force: bool) -> None:
             more = f" and {len(existing) - 1} more" if len(existing) > 1 else ""
             raise OutputError(f"{directory / existing[0]}{more} already exist(s); use --force "
                               "to overwrite")
+
+
+def _move_into_place(staged: Path, path: Path, force: bool) -> None:
+    if force:
+        os.replace(staged, path)
+        return
+    try:
+        os.link(staged, path)  # fails if ``path`` appeared meanwhile: never clobber
+    except FileExistsError:
+        raise OutputError(f"{path} already exists; use --force to overwrite it") from None
+    except OSError:  # a file system without hard links
+        if path.exists():
+            raise OutputError(f"{path} already exists; use --force to overwrite it") from None
+        os.replace(staged, path)
+        return
+    os.unlink(staged)
 
 
 def _encoding(dataset, compression_level: int, shuffle: bool) -> dict:

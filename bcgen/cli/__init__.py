@@ -4,7 +4,15 @@ Each subcommand lives in ``bcgen/cli/<name>.py`` and exposes
 ``register(subparsers) -> argparse.ArgumentParser`` and ``run(args) -> int``.
 Errors derived from :class:`bcgen.errors.BcgenError` are printed as one line
 ``bcgen: error: ...`` with their exit status (2 for bad input, 1 for a check
-that failed by design); ``--debug`` shows the traceback instead.
+that failed by design); ``--debug`` shows the traceback instead. An interrupt
+(Ctrl-C) prints one line and exits with status 130.
+
+``-q``/``--quiet``, ``-v``/``--verbose`` and ``--debug`` are accepted before and
+after the subcommand (``bcgen -q build ...`` and ``bcgen build -q ...``):
+``-q`` drops the confirmation lines of commands that write files (``-qq`` also
+drops warnings); ``-v`` adds the time taken, on stderr. Results (tables, JSON)
+are printed whatever the level. bcgen prints no colour or other terminal
+escapes, and progress bars only when stderr is a terminal.
 """
 
 from __future__ import annotations
@@ -13,6 +21,7 @@ import argparse
 import importlib
 import os
 import sys
+import time
 import warnings
 
 from bcgen import __version__
@@ -38,10 +47,9 @@ def build_parser() -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("--version", action="version", version=f"bcgen {__version__}")
-    parser.add_argument("--debug", action="store_true", help="show tracebacks on errors")
-    parser.add_argument("-q", "--quiet", action="count", default=0, help="print less")
-    parser.add_argument("-v", "--verbose", action="count", default=0, help="print more")
+    _add_common_options(parser, "")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    registered = []
     for name in COMMANDS:
         try:
             module = importlib.import_module(f"bcgen.cli.{name}")
@@ -50,22 +58,48 @@ def build_parser() -> argparse.ArgumentParser:
                 continue
             raise
         sub_parser = module.register(sub)
+        _add_common_options(sub_parser, "sub_")
         sub_parser.set_defaults(_run=module.run)
+        registered.append(name)
+    parser.commands = tuple(registered)  # the subcommands available, in order
     return parser
+
+
+def _add_common_options(parser: argparse.ArgumentParser, prefix: str) -> None:
+    """``--debug``, ``-q`` and ``-v``; after the subcommand they land in ``sub_*`` (see main)."""
+    group = parser.add_argument_group("common options (before or after the command)")
+    group.add_argument("-q", "--quiet", dest=f"{prefix}quiet", action="count", default=0,
+                       help="print less: no confirmation lines (-qq: no warnings either)")
+    group.add_argument("-v", "--verbose", dest=f"{prefix}verbose", action="count", default=0,
+                       help="print more: the time taken, on stderr")
+    group.add_argument("--debug", dest=f"{prefix}debug", action="store_true",
+                       help="show a traceback instead of the one-line error")
 
 
 def main(argv: list[str] | None = None) -> int:
     """Run the ``bcgen`` command line; return the exit status."""
-    parser = build_parser()
-    args = parser.parse_args(argv)
+    started = time.perf_counter()
+    try:
+        parser = build_parser()
+        args = parser.parse_args(argv)
+    except KeyboardInterrupt:  # Ctrl-C while starting up
+        print("bcgen: interrupted; no partial output was left", file=sys.stderr)
+        return 130
+    # Options given after the subcommand add to those given before it.
+    args.quiet += getattr(args, "sub_quiet", 0)
+    args.verbose += getattr(args, "sub_verbose", 0)
+    args.debug = args.debug or getattr(args, "sub_debug", False)
     if not getattr(args, "_run", None):
-        parser.print_help(sys.stderr)
+        print(f"bcgen: error: no command given; expected one of {', '.join(parser.commands)} "
+              "(see 'bcgen --help')", file=sys.stderr)
         return 2
     with warnings.catch_warnings():
         warnings.simplefilter("default", BcgenWarning)
+        if args.quiet >= 2:
+            warnings.simplefilter("ignore")
         warnings.showwarning = _show_warning  # restored when the block ends
         try:
-            return int(args._run(args) or 0)
+            status = int(args._run(args) or 0)
         except BcgenError as exc:
             if args.debug:
                 raise
@@ -81,6 +115,10 @@ def main(argv: list[str] | None = None) -> int:
             devnull = os.open(os.devnull, os.O_WRONLY)
             os.dup2(devnull, sys.stdout.fileno())
             return 0
+    if args.verbose:
+        print(f"bcgen: {args.command} took {time.perf_counter() - started:.2f} s",
+              file=sys.stderr)
+    return status
 
 
 def _one_line(message: str) -> str:

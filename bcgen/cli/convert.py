@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import contextlib
+import json
 import sys
 
 from bcgen.errors import BcgenError, OrbitError
@@ -25,6 +26,7 @@ examples:
   bcgen convert clim.nc -o clim_fa.nc --eccentricity 0.018682 --obliquity-deg 24.105 \\
       --perihelion-deg 0.87 --perihelion-convention perihelion_longitude
   bcgen convert big_*.nc -o out.nc --epoch 21ka --scheduler tcp://127.0.0.1:8786
+  bcgen convert clim.nc -o clim_fa.nc --epoch 6ka --format json   # report as JSON
 
 Monthly means are interpolated by Killworth (1996) (or Epstein 1991 for climatologies)
 and integrated exactly over the fractional-day fixed-angle months; daily means are
@@ -77,6 +79,9 @@ def register(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--scheduler", metavar="ADDRESS",
                    help="address of a running dask.distributed scheduler to compute on")
     p.add_argument("--force", action="store_true", help="overwrite OUTPUT if it exists")
+    p.add_argument("--format", choices=("text", "json"), default="text",
+                   help="report the file written as a text line (default) or as JSON (file, "
+                        "bytes, months, variables and the conversion's metadata)")
     return p
 
 
@@ -121,9 +126,14 @@ def _orbit_and_calendar(args):
                    if v is None]
         if missing:
             raise OrbitError(f"explicit elements need {', '.join(missing)} as well")
-        orbit = solve(None, "fixed", eccentricity=args.eccentricity,
-                      obliquity_deg=args.obliquity_deg, perihelion_deg=args.perihelion_deg,
-                      perihelion_convention=args.perihelion_convention)
+        from bcgen.cli.orbit import name_fixed_option
+
+        try:
+            orbit = solve(None, "fixed", eccentricity=args.eccentricity,
+                          obliquity_deg=args.obliquity_deg, perihelion_deg=args.perihelion_deg,
+                          perihelion_convention=args.perihelion_convention)
+        except OrbitError as exc:
+            raise OrbitError(name_fixed_option(str(exc))) from None
     if args.reference is not None:
         reference = solve(parse_epoch(args.reference))
     if args.equinox is not None:
@@ -187,14 +197,38 @@ def run(args) -> int:
             show = sys.stderr.isatty() and client is None and not args.quiet
             with _progress(show):
                 path = write_output(out, args.output, force=args.force)
-    if not args.quiet:
-        dim = _time_dim(out)
-        names = [str(k) for k, v in out.data_vars.items()
-                 if dim in v.dims and k != out[dim].attrs.get("bounds")
-                 and k != out[dim].attrs.get("climatology")]
+    dim = _time_dim(out)
+    names = [str(k) for k, v in out.data_vars.items()
+             if dim in v.dims and k != out[dim].attrs.get("bounds")
+             and k != out[dim].attrs.get("climatology")]
+    if args.format == "json":
+        print(json.dumps(_report(args, path, out, dim, names), indent=2))
+    elif not args.quiet:
         print(f"wrote {path}: {out.sizes[dim]} {args.to} months of {', '.join(names)} "
               f"({out.attrs.get('month_conversion_method')})")
     return 0
+
+
+#: Global attributes of the output that the JSON report repeats.
+_REPORTED_PREFIXES = ("month_conversion_", "orbit_", "reference_orbit_")
+
+
+def _report(args, path, out, dim: str, names: list[str]) -> dict:
+    """Return what ``--format json`` prints: the file written and the conversion's metadata."""
+    def plain(value):
+        return value.item() if hasattr(value, "item") else value
+
+    return {
+        "file": str(path),
+        "bytes": path.stat().st_size,
+        "inputs": [str(p) for p in args.inputs],
+        "to": args.to,
+        "months": int(out.sizes[dim]),
+        "variables": names,
+        "calendar": out[dim].encoding.get("calendar") or out[dim].attrs.get("calendar"),
+        "metadata": {k: plain(v) for k, v in out.attrs.items()
+                     if k.startswith(_REPORTED_PREFIXES)},
+    }
 
 
 def _time_dim(ds) -> str:

@@ -11,7 +11,7 @@ import argparse
 import json
 
 from bcgen.epochs import parse_epoch
-from bcgen.errors import CalendarError, OrbitError
+from bcgen.errors import CalendarError, EpochError, OrbitError
 from bcgen.orbit import SOLUTIONS, OrbitalElements, solve
 from bcgen.solar_calendar.calendars import (
     CALENDARS,
@@ -99,7 +99,12 @@ def register(subparsers) -> argparse.ArgumentParser:
 
 
 def _orbit(epoch_text: str, solution: str, option: str) -> OrbitalElements:
-    years = parse_epoch(epoch_text)
+    try:
+        years = parse_epoch(epoch_text)
+    except EpochError as exc:
+        if not option.startswith("--"):
+            raise
+        raise EpochError(f"{option}: {exc}") from None
     if solution not in SOLUTIONS:
         raise OrbitError(
             f"--solution: unknown orbital solution {solution!r}; expected one of "

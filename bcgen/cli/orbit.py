@@ -103,6 +103,22 @@ def register(subparsers) -> argparse.ArgumentParser:
     return parser
 
 
+#: Start of the messages of impossible explicit elements → the option that gave the value.
+_FIXED_MESSAGES = {
+    "eccentricity": "--eccentricity",
+    "obliquity": "--obliquity-deg",
+    "longitude of perihelion": "--perihelion-deg",
+}
+
+
+def name_fixed_option(message: str) -> str:
+    """Prefix the message of an impossible explicit element with the option that gave it."""
+    for start, option in _FIXED_MESSAGES.items():
+        if message.startswith(start):
+            return f"{option}: {message}"
+    return message
+
+
 def _solution_options(args: argparse.Namespace) -> dict:
     """Check that the options match the solution and return its keyword arguments."""
     fixed_given = {
@@ -184,7 +200,12 @@ def run(args: argparse.Namespace) -> int:
     for text in args.epochs:
         years.append(parse_epochs(text))
         labels.extend(epoch_labels(text))
-    elements = solve(np.concatenate(years), args.solution, **options)
+    try:
+        elements = solve(np.concatenate(years), args.solution, **options)
+    except OrbitError as exc:
+        if args.solution != "fixed":
+            raise
+        raise OrbitError(name_fixed_option(str(exc))) from None
     records = rows(labels, elements)
     if args.format == "json":
         sys.stdout.write(json.dumps(records, indent=2) + "\n")

@@ -398,12 +398,20 @@ def epstein1991_coefficients(means, edges_days) -> np.ndarray:
 
 
 def epstein1991_matrix(edges_days, target_start_days, target_end_days) -> np.ndarray:
-    """Matrix from interval means to target-interval means (cyclic), shape (n_target, n)."""
+    """Matrix from interval means to target-interval means (cyclic), shape (n_target, n).
+
+    Time is counted from the centre of the first interval, as in Epstein (1991), whose
+    months are centred on whole numbers: with an even number of equal intervals and the
+    origin on an edge, the means of the last cosine over every interval would all be 0
+    (a singular system).
+    """
     e = np.asarray(edges_days, dtype=float)
     n = e.size - 1
     period = e[-1] - e[0]
-    source = _harmonic_means(e[:-1], e[1:], period, n)
-    target = _harmonic_means(target_start_days, target_end_days, period, n)
+    origin = 0.5 * (e[0] + e[1])
+    source = _harmonic_means(e[:-1] - origin, e[1:] - origin, period, n)
+    target = _harmonic_means(np.asarray(target_start_days, dtype=float) - origin,
+                             np.asarray(target_end_days, dtype=float) - origin, period, n)
     return target @ np.linalg.inv(source)
 
 

@@ -1,7 +1,8 @@
 """Opening model output for conversion, and writing the result.
 
 :func:`open_inputs` opens one file or a multi-file set with cftime dates, refusing
-(one line naming the file) a missing file, a file without a time axis, mixed
+(one line naming the file) a missing or unreadable file, a file without a time axis or
+without a calendar attribute on it (a model's calendar is never guessed), mixed
 calendars, and time axes that are neither monthly nor daily or that leave gaps
 between files. The data are dask-backed and chunked for conversion: the whole time
 axis in one chunk, space cut so that one chunk holds about :data:`CHUNK_BYTES`.
@@ -17,6 +18,7 @@ import os
 from collections.abc import Sequence
 from pathlib import Path
 
+import cftime
 import numpy as np
 import xarray as xr
 
@@ -33,10 +35,24 @@ def _decoder():
 
 def _open_one(path: Path, chunks=None) -> xr.Dataset:
     try:
-        return xr.open_dataset(path, decode_times=_decoder(), chunks=chunks)
+        ds = xr.open_dataset(path, decode_times=_decoder(), chunks=chunks)
     except (OSError, ValueError, RuntimeError) as exc:
-        raise InputFileError(f"{path}: cannot open as NetCDF ({' '.join(str(exc).split())})") \
-            from None
+        raise InputFileError(f"{path}: cannot open as NetCDF ({_open_failure(exc)})") from None
+    for name, var in ds.coords.items():  # a model's calendar is never guessed
+        if (var.ndim == 1 and var.dims[0] == name and var.dtype == object and var.size
+                and isinstance(var.values[0], cftime.datetime)
+                and "calendar" not in var.encoding and "calendar" not in var.attrs):
+            ds.close()
+            raise InputFileError(f"{path}: time coordinate '{name}' has no calendar attribute; "
+                                 "expected the model's CF calendar (e.g. calendar = \"noleap\")")
+    return ds
+
+
+def _open_failure(exc: BaseException) -> str:
+    text = " ".join(str(exc).split())
+    if "did not find a match in any of xarray's" in text:  # no known file signature
+        return "not a NetCDF or HDF5 file"
+    return text
 
 
 def check_inputs(paths: Sequence[os.PathLike | str]) -> list[Path]:

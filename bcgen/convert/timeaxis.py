@@ -3,7 +3,9 @@
 Rules (documented for users in :mod:`bcgen.convert`)
 ----------------------------------------------------
 - The time axis is the one coordinate holding dates (decoded CF time). Its calendar is
-  the CF ``calendar`` of the file (``standard`` when absent, CF §4.4.1).
+  the CF ``calendar`` of the file; a file without one is refused when it is opened
+  (:mod:`bcgen.convert.io`), since CF's default (``standard``, CF §4.4.1) is rarely a
+  model's calendar. Dates held in memory as numpy datetimes are ``standard``.
 - Intervals come from the CF bounds variable (``bounds`` attribute) when there is one.
   Without bounds, each time stamp stands for the calendar month that contains it
   (monthly data: one stamp per month, consecutive months) or, for daily and

@@ -203,8 +203,10 @@ def read_model_output(path, var: str | None = None) -> ModelOutput:
     try:
         ds = xr.open_dataset(path, decode_times=False, chunks={})
     except Exception as exc:  # noqa: BLE001 - any reader failure is a bad input file
-        raise InputFileError(f"{path}: cannot read as NetCDF ({type(exc).__name__}: "
-                             f"{_first_line(exc)})") from None
+        detail = f"{type(exc).__name__}: {_first_line(exc)}"
+        if "did not find a match in any of xarray's" in detail:  # no known file signature
+            detail = "not a NetCDF or HDF5 file"
+        raise InputFileError(f"{path}: cannot read as NetCDF ({detail})") from None
     with ds:
         name = _find_variable(ds, path, var)
         da = ds[name]
@@ -349,7 +351,10 @@ def _read_time(ds, dim: str, where: str, notes: list[str]):
         raise InputFileError(f"{where}: time units {units!r}; expected '<days|hours|minutes|"
                              f"seconds> since <date>'")
     factor = _TIME_UNIT_DAYS[match[1].lower()]
-    raw_calendar = time.attrs.get("calendar", "standard")
+    raw_calendar = time.attrs.get("calendar")
+    if raw_calendar is None:  # CF's default ('standard') is rarely a model's: never guessed
+        raise InputFileError(f"{where}: time coordinate '{dim}' has no calendar attribute; "
+                             "expected the model's CF calendar (e.g. calendar = \"noleap\")")
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", BcgenWarning)
