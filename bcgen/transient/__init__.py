@@ -1,0 +1,395 @@
+"""Transient runs: orbit, insolation and greenhouse gases for every model year, streamed to files.
+
+:func:`build_transient` writes each product of a transient spec as CF time
+series on the model calendar, split into files of ``years_per_file`` model
+years, plus a JSON manifest (:mod:`bcgen.transient.manifest`).
+
+Model years and epochs
+    Model year ``first_model_year + k`` has the orbit and greenhouse gases of
+    the epoch ``start_epoch + k × acceleration`` years, towards ``end_epoch``
+    (:class:`bcgen.spec.TransientSpec`). With acceleration 10 each model year
+    advances the orbit by 10 years.
+
+Streaming
+    Each file is computed and written a chunk of model years at a time
+    (:mod:`bcgen.transient.series`, :mod:`bcgen.transient.stream`), so the
+    peak memory depends on the grid and the chunk size, not on the number of
+    model years.
+
+Interruption and re-runs
+    A file is written under a temporary name and renamed into place when it
+    is complete; Ctrl-C deletes the temporary file, and the files completed
+    before it stay valid and recorded in the manifest. A re-run skips every
+    file whose SHA-256 and parameters match its manifest record and builds
+    the rest; other existing files are rebuilt with ``force`` and refused
+    without it.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from bcgen import __version__
+from bcgen.build import BuildResult, manifest_name
+from bcgen.epochs import format_epoch
+from bcgen.errors import OutputError, SpecError
+from bcgen.spec import ExperimentSpec
+from bcgen.transient.gases import GasTable, load_gas_table
+from bcgen.transient.manifest import decide, read_manifest, records_by_file, write_manifest
+from bcgen.transient.pipeline import ChunkProducer
+from bcgen.transient.progress import Progress
+from bcgen.transient.series import SERIES, RunContext, Series
+from bcgen.transient.stream import SeriesFile, sha256_of
+from bcgen.writer import time_axis
+
+__all__ = ["GasTable", "TransientBuildResult", "build_transient", "load_gas_table", "plan_files"]
+
+#: Compute the next chunk in a worker thread while the main thread writes (see
+#: :mod:`bcgen.transient.pipeline`); False computes and writes in turn in one thread.
+THREADED = True
+
+
+@dataclass
+class TransientBuildResult(BuildResult):
+    """What a transient build wrote (``files``: every file of the run, each with its status)."""
+
+    transient: dict = field(default_factory=dict)
+
+    @property
+    def written(self) -> list[dict]:
+        """Records of the files written by this run."""
+        return [f for f in self.files if f.get("status") == "written"]
+
+    @property
+    def skipped(self) -> list[dict]:
+        """Records of the files that were already complete and identical."""
+        return [f for f in self.files if f.get("status") == "skipped"]
+
+
+@dataclass(frozen=True)
+class FileJob:
+    """One file of the run: a product over a range of model years."""
+
+    product: str
+    first_year: int
+    last_year: int
+    file_name: str
+    parameters: dict = field(compare=False)
+
+    @property
+    def n_years(self) -> int:
+        """Model years in the file."""
+        return self.last_year - self.first_year + 1
+
+
+def plan_files(spec: ExperimentSpec) -> list[FileJob]:
+    """Every file of a transient run, in the order they are built (by model years, then product)."""
+    tr = spec.transient
+    if tr is None:
+        raise SpecError("plan_files needs a transient spec")
+    spec_hash = spec.sha256 or hashlib.sha256(repr(spec).encode()).hexdigest()
+    inputs = _input_hashes(spec)
+    jobs = []
+    for first, last in tr.file_ranges():
+        e0, e1 = (float(e) for e in tr.epochs_of_model_years(np.array([first, last])))
+        for product in spec.products:
+            name = spec.file_name(product, first, last)
+            parameters = {
+                "spec_sha256": spec_hash,
+                "bcgen_version": __version__,
+                "product": product,
+                "file": name,
+                "first_model_year": first,
+                "last_model_year": last,
+                "first_epoch_years_from_1950": e0,
+                "last_epoch_years_from_1950": e1,
+                "inputs_sha256": inputs,
+            }
+            jobs.append(FileJob(product, first, last, name, parameters))
+    names = [j.file_name for j in jobs]
+    if len(set(names)) != len(names):
+        dupe = next(n for n in names if names.count(n) > 1)
+        raise SpecError(
+            f"output.file_pattern gives several files the name {dupe}; include "
+            "{product} and {first_year} in the pattern"
+        )
+    return jobs
+
+
+def build_transient(
+    spec: ExperimentSpec,
+    output_dir=None,
+    *,
+    force: bool = False,
+    command: str | None = None,
+    progress: bool | None = None,
+) -> TransientBuildResult:
+    """Build every file of a transient spec into ``output_dir``, skipping complete ones.
+
+    Parameters
+    ----------
+    spec : ExperimentSpec
+        A validated transient spec (``spec.transient`` set).
+    output_dir : path, optional
+        Folder for the files and the manifest (default: the spec's ``output.directory``).
+    force : bool
+        Rebuild existing files that cannot be skipped (instead of refusing).
+    command : str, optional
+        The command line, recorded in each file's ``history``.
+    progress : bool, optional
+        Draw a progress bar on stderr; default: only when stderr is a terminal.
+
+    Returns
+    -------
+    TransientBuildResult
+        Each file of the run (``status`` "written" or "skipped"), the manifest
+        path and a summary of the run in ``transient``.
+
+    Raises
+    ------
+    OutputError
+        An existing file that is not complete and identical (without ``force``),
+        an unwritable folder; the message names the file.
+    InputFileError
+        A greenhouse-gas table that does not cover the run (naming file and age).
+    """
+    if spec.transient is None:
+        raise SpecError("build_transient needs a spec with a 'transient' section")
+    directory = Path(output_dir if output_dir is not None else spec.output.directory)
+    _prepare_directory(directory)
+    ctx = RunContext(spec, command=command)
+    series = {p: SERIES[p](ctx) for p in spec.products if p in SERIES}
+    unknown = [p for p in spec.products if p not in SERIES]
+    if unknown:
+        raise SpecError(
+            f"product {unknown[0]!r} is not available in a transient run; expected "
+            f"one of {', '.join(SERIES)}"
+        )
+    if "greenhouse_gases" in series:
+        ctx.prepare(gases=True)  # read and check the table before anything is written
+    jobs = plan_files(spec)
+    manifest_path = directory / manifest_name(spec)
+    old = records_by_file(read_manifest(manifest_path, force=force))
+    todo = {
+        j.file_name: decide(
+            directory / j.file_name,
+            j.parameters,
+            old.get(j.file_name),
+            force=force,
+            manifest_path=manifest_path,
+        )
+        for j in jobs
+    }
+    records = {j.file_name: old[j.file_name] for j in jobs if todo[j.file_name] == "skip"}
+    header = _manifest_header(ctx)
+    result = TransientBuildResult(
+        directory, manifest=manifest_path, transient=_summary(ctx, series)
+    )
+    work = sum(j.n_years for j in jobs if todo[j.file_name] == "build")
+    bar = Progress(work, f"{spec.experiment.name}: model years", enabled=progress)
+    pending = [j for j in jobs if todo[j.file_name] == "build"]
+    ctx.prepare(gases="greenhouse_gases" in series)  # inputs are read before the thread starts
+    writer = _FileWriter(ctx, series, directory, manifest_path, header, records, bar)
+    try:
+        with ChunkProducer(pending, series, threaded=THREADED) as producer:
+            for message in producer:
+                writer.handle(message)
+                del message
+    finally:
+        writer.discard()
+        bar.close()
+    result.files = [
+        {**records[j.file_name], "status": "skipped" if todo[j.file_name] == "skip" else "written"}
+        for j in jobs
+    ]
+    return result
+
+
+class _FileWriter:
+    """The main thread's side: writes the messages of :class:`ChunkProducer` into files.
+
+    Each file is written through a temporary file (:class:`SeriesFile`); when it
+    is complete its record goes into the manifest and then the file into place.
+    """
+
+    def __init__(
+        self,
+        ctx: RunContext,
+        series: dict[str, Series],
+        directory: Path,
+        manifest_path: Path,
+        header: dict,
+        records: dict,
+        bar: Progress,
+    ) -> None:
+        self.ctx, self.series, self.directory = ctx, series, directory
+        self.manifest_path, self.header, self.records, self.bar = (
+            manifest_path,
+            header,
+            records,
+            bar,
+        )
+        self.sf: SeriesFile | None = None
+        self.step = 0
+
+    def handle(self, message: tuple) -> None:
+        """Act on one message: start a file, write a chunk, or finish the file."""
+        kind = message[0]
+        if kind == "start":
+            self.start(*message[1:])
+        elif kind == "chunk":
+            self.chunk(*message[1:])
+        elif kind == "end":
+            self.finish(message[1])
+
+    def start(self, job: FileJob, n_steps: int, first_bounds: np.ndarray) -> None:
+        """Create the file and define its dimensions, coordinates and variables."""
+        ctx, spec = self.ctx, self.ctx.spec
+        series = self.series[job.product]
+        self.sf = sf = SeriesFile(
+            self.directory / job.file_name,
+            compression_level=spec.output.compression_level,
+            shuffle=spec.output.shuffle,
+        )
+        self.job, self.n_steps, self.step, self.variables = job, n_steps, 0, None
+        sf.define_dimension("time", n_steps)
+        sf.define_dimension("bnds", 2)
+        # Units, calendar and the other attributes of the time axis from bcgen.writer.
+        axis = time_axis(first_bounds, ctx.calendar.name, ctx.reference_year)
+        sf.define_variable("time", "f8", ("time",), dict(axis["time"].attrs))
+        sf.define_variable("time_bnds", "f8", ("time", "bnds"))
+        if series.gridded:
+            _define_grid(sf, ctx)
+        self.variables = series.define(sf)
+        sf.set_attributes(ctx.attributes(series.title, job.first_year, job.last_year))
+
+    def chunk(self, n_years: int, bounds: np.ndarray, values: dict) -> None:
+        """Write the time steps and values of a chunk of model years."""
+        sf, series = self.sf, self.series[self.job.product]
+        # The time of a step is the middle of its bounds, as bcgen.writer.time_axis sets it.
+        sf.write_chunk("time", self.step, bounds.mean(axis=1))
+        sf.write_chunk("time_bnds", self.step, bounds)
+        for name in list(values):
+            series.write(sf, name, values.pop(name))
+        self.step += bounds.shape[0]
+        self.bar.advance(n_years)
+
+    def finish(self, job: FileJob) -> None:
+        """Close the file, record it in the manifest, then rename it into place."""
+        sf = self.sf
+        if self.step != self.n_steps:  # pragma: no cover - a bug, not a user error
+            raise OutputError(f"{sf.path}: wrote {self.step} time steps, expected {self.n_steps}")
+        sha = sf.close()
+        e0 = job.parameters["first_epoch_years_from_1950"]
+        e1 = job.parameters["last_epoch_years_from_1950"]
+        record = {
+            "file": job.file_name,
+            "product": job.product,
+            "description": self.series[job.product].description,
+            "bytes": os.path.getsize(sf.tmp),
+            "sha256": sha,
+            "first_model_year": job.first_year,
+            "last_model_year": job.last_year,
+            "first_epoch": format_epoch(e0),
+            "last_epoch": format_epoch(e1),
+            "time_steps": self.n_steps,
+            "variables": sorted(self.variables),
+            "parameters": job.parameters,
+        }
+        # The record goes into the manifest before the file goes into place: an interruption
+        # between the two leaves a record without its file, which a re-run builds again.
+        write_manifest(self.manifest_path, self.header, [*self.records.values(), record])
+        sf.publish(force=True)
+        self.records[job.file_name] = record
+        self.sf = None
+
+    def discard(self) -> None:
+        """Delete the temporary file of an unfinished file, if any."""
+        if self.sf is not None:
+            self.sf.discard()
+            self.sf = None
+
+
+def _define_grid(sf: SeriesFile, ctx: RunContext) -> None:
+    grid_ds = ctx.grid.to_dataset()
+    for dim, size in grid_ds.sizes.items():
+        if dim != "bnds":
+            sf.define_dimension(dim, size)
+    for name, var in grid_ds.variables.items():
+        sf.define_variable(name, var.dtype, var.dims, dict(var.attrs), data=var.values)
+
+
+def _manifest_header(ctx: RunContext) -> dict:
+    spec, tr = ctx.spec, ctx.transient
+    table = tr.greenhouse_gas_table
+    return {
+        "experiment": spec.experiment.name,
+        "bcgen_version": __version__,
+        "spec_file": str(spec.path) if spec.path else None,
+        "spec_sha256": spec.sha256,
+        "created": ctx.created.strftime("%Y-%m-%dT%H:%M:%SZ"),
+        "transient": {
+            "start_epoch": tr.start_epoch,
+            "end_epoch": tr.end_epoch,
+            "start_years_from_1950": tr.start_years_from_1950,
+            "end_years_from_1950": tr.end_years_from_1950,
+            "first_model_year": tr.first_model_year,
+            "last_model_year": tr.last_model_year,
+            "n_model_years": tr.n_model_years,
+            "acceleration": tr.acceleration,
+            "years_per_file": tr.years_per_file,
+            "model_year_mapping": "model year first_model_year + k has the epoch "
+            "start_epoch + k * acceleration years (towards end_epoch)",
+            "greenhouse_gas_table": str(table.name) if table else None,
+            "greenhouse_gas_interpolation": tr.greenhouse_gas_interpolation if table else None,
+        },
+        "orbit_solution": spec.orbit.solution,
+        "solar_constant_wm2": spec.solar_constant_wm2,
+        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_text},
+        "time_units": f"days since {ctx.reference_year:04d}-01-01 00:00:00",
+    }
+
+
+def _summary(ctx: RunContext, series: dict[str, Series]) -> dict:
+    tr = ctx.transient
+    out = {
+        "experiment": ctx.spec.experiment.name,
+        "epoch": tr.label,
+        "model_years": [tr.first_model_year, tr.last_model_year],
+        "start_epoch": tr.start_epoch,
+        "end_epoch": tr.end_epoch,
+        "acceleration": tr.acceleration,
+        "years_per_file": tr.years_per_file,
+        "orbit_solution": ctx.spec.orbit.solution,
+        "solar_constant_wm2": ctx.spec.solar_constant_wm2,
+        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_text},
+    }
+    if "greenhouse_gases" in series:
+        out["greenhouse_gases"] = series["greenhouse_gases"].method_text
+    return out
+
+
+def _input_hashes(spec: ExperimentSpec) -> dict[str, str]:
+    """SHA-256 of every input file the spec names (a changed input invalidates the files)."""
+    paths = {
+        "orbit.table": spec.orbit.table,
+        "transient.greenhouse_gas_table": spec.transient.greenhouse_gas_table,
+        "grid.path": spec.grid.path if spec.grid is not None and spec.grid.kind == "file" else None,
+    }
+    return {key: sha256_of(path) for key, path in paths.items() if path is not None}
+
+
+def _prepare_directory(directory: Path) -> None:
+    if directory.exists() and not directory.is_dir():
+        raise OutputError(f"output folder {directory} is a file; give a folder with -o")
+    try:
+        directory.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise OutputError(f"cannot create output folder {directory}: {exc.strerror}") from None
+    if not os.access(directory, os.W_OK | os.X_OK):
+        raise OutputError(f"output folder {directory} is not writable")

@@ -1,0 +1,128 @@
+"""The manifest of a transient run: what each file holds, and whether a re-run may skip it.
+
+The manifest (``<experiment>_manifest.json`` in the output folder, the name a
+time-slice build uses too) is rewritten, atomically, after each completed file,
+so it always describes the files on disk. For each file it records:
+
+- ``file``, ``product``, ``description``, ``bytes``, ``sha256``, ``variables``;
+- ``first_model_year``, ``last_model_year``, the epochs of both
+  (``first_epoch``/``last_epoch`` as text and ``*_years_from_1950``) and the
+  number of time steps;
+- ``parameters``: everything the file's contents depend on -- the spec's
+  SHA-256, the bcgen version, the product, the model years and their epochs,
+  and the SHA-256 of every input file the spec names (orbit table,
+  greenhouse-gas table, grid file).
+
+A re-run skips a file only when it is present, its SHA-256 equals the recorded
+one and its recorded parameters equal those of the new run. Any other existing
+file is rebuilt with ``--force`` and refused without it, naming the file.
+
+The record of a file is written *before* the file is renamed into place; an
+interruption between the two leaves a record without its file, which a re-run
+simply builds again.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Iterable
+from pathlib import Path
+from typing import Literal
+
+from bcgen.errors import OutputError
+from bcgen.transient.stream import sha256_of
+
+#: Value of the manifest's ``kind`` key for a transient run.
+KIND = "transient"
+
+Decision = Literal["skip", "build"]
+
+
+def read_manifest(path: Path, *, force: bool) -> dict | None:
+    """Read an existing manifest (None if there is none).
+
+    A manifest that cannot be read, or that belongs to a time-slice build, is
+    an error without ``force`` and ignored with it.
+    """
+    if not path.exists():
+        return None
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+        if not isinstance(data, dict) or not isinstance(data.get("files", []), list):
+            raise ValueError("not a bcgen manifest")
+    except (OSError, UnicodeDecodeError, ValueError) as exc:
+        if force:
+            return None
+        raise OutputError(
+            f"{path}: cannot read the existing manifest ({exc}); use --force to "
+            "rebuild and replace it"
+        ) from None
+    if data.get("kind") != KIND:
+        if force:
+            return None
+        raise OutputError(
+            f"{path} is the manifest of a time-slice build of the same experiment; "
+            "use another output folder, or --force to replace it"
+        )
+    return data
+
+
+def records_by_file(manifest: dict | None) -> dict[str, dict]:
+    """Return the file records of a manifest, by file name."""
+    if not manifest:
+        return {}
+    return {
+        r["file"]: r
+        for r in manifest.get("files", [])
+        if isinstance(r, dict) and isinstance(r.get("file"), str)
+    }
+
+
+def decide(
+    path: Path, parameters: dict, old: dict | None, *, force: bool, manifest_path: Path
+) -> Decision:
+    """Whether to skip or build one file (or refuse, raising :class:`OutputError`).
+
+    Parameters
+    ----------
+    path : pathlib.Path
+        The file.
+    parameters : dict
+        Its parameters in this run.
+    old : dict or None
+        Its record in the existing manifest.
+    force : bool
+        Rebuild files that cannot be skipped instead of refusing.
+    manifest_path : pathlib.Path
+        The manifest (named in messages).
+    """
+    if not path.exists():
+        return "build"
+    if path.is_dir():
+        raise OutputError(f"cannot write {path}: it is a folder")
+    if old is None:
+        reason = f"is not recorded in {manifest_path.name}"
+    elif old.get("parameters") != parameters:
+        changed = sorted(
+            k
+            for k in set(parameters) | set(old.get("parameters") or {})
+            if (old.get("parameters") or {}).get(k) != parameters.get(k)
+        )
+        reason = f"was made with other settings ({', '.join(changed)} differ)"
+    elif old.get("sha256") != sha256_of(path):
+        reason = f"differs from the file recorded in {manifest_path.name} (SHA-256 mismatch)"
+    else:
+        return "skip"
+    if force:
+        return "build"
+    raise OutputError(f"{path} already exists and {reason}; use --force to rebuild it")
+
+
+def write_manifest(path: Path, header: dict, records: Iterable[dict]) -> Path:
+    """Write the manifest atomically (temporary file, then rename)."""
+    from bcgen.build import write_text_atomic
+
+    manifest = dict(header)
+    manifest["kind"] = KIND
+    manifest["files"] = list(records)
+    return write_text_atomic(path, json.dumps(manifest, indent=2) + "\n", force=True)

@@ -1,0 +1,607 @@
+"""The products of a transient run, one model-year chunk at a time.
+
+Each product is a :class:`Series`: it says how many time steps a model year
+has and where they lie (:meth:`Series.year_bounds`), defines its variables in
+a :class:`~bcgen.transient.stream.SeriesFile`, and computes its values for a
+chunk of model years (:meth:`Series.compute`). Nothing here decides which
+files to write; :func:`bcgen.transient.build_transient` does.
+
+Model years and epochs (:class:`bcgen.spec.TransientSpec`): model year
+``first_model_year + k`` has the orbit (and gases) of the epoch
+``start_epoch + k × acceleration`` years.
+
+Time axis: one axis for the whole run, ``days since <first_model_year>-01-01``
+on the model calendar, each step with its bounds (:func:`bcgen.writer.time_axis`).
+In calendars with leap years each model year has its own days (365 or 366
+daily steps, its own month lengths), and its insolation is computed for that
+year of the calendar, exactly as a time slice dated in that year would be.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from datetime import datetime, timezone
+from functools import cached_property
+
+import cftime
+import numpy as np
+
+from bcgen import __version__
+from bcgen.cf import FIXED_YEAR_DAYS, variable_attrs
+from bcgen.errors import InputFileError
+from bcgen.grids import Grid
+from bcgen.insolation import daily_insolation, monthly_insolation
+from bcgen.insolation.daily import DAILY_METHODS, DAY_AVERAGE_NODES
+from bcgen.insolation.monthly import MONTHLY_AVERAGING
+from bcgen.orbit import SOLUTIONS, OrbitalElements
+from bcgen.solar_calendar.calendars import ModelCalendar
+from bcgen.spec import ExperimentSpec
+from bcgen.transient.gases import INTERPOLATION_METHODS, GasTable, load_gas_table, output_units
+from bcgen.transient.stream import SeriesFile
+from bcgen.writer import provenance_attrs
+
+#: Bytes of float64 work arrays one insolation chunk may use (sets the model years per
+#: chunk; the peak memory of a build is a small multiple of it, whatever the run's length).
+COMPUTE_BUDGET_BYTES = 32 * 1024 * 1024
+#: Bytes of one slab of gridded values handed to the NetCDF library in one write.
+WRITE_BUDGET_BYTES = 16 * 1024 * 1024
+#: Model years per chunk of the yearly series (orbit, greenhouse gases).
+YEARLY_CHUNK_YEARS = 10_000
+#: Rough count of float64 temporaries per value inside the daily-insolation engine.
+_TEMPORARIES = 4
+
+#: Attributes of the precession index (as in the time-slice product; no CF standard name).
+PRECESSION_INDEX_ATTRS = {
+    "long_name": "climatic precession parameter e sin(perihelion_longitude)",
+    "units": "1",
+    "convention": "eccentricity times the sine of the heliocentric longitude of perihelion "
+    "from the moving March equinox (Berger 1978)",
+}
+EPOCH_ATTRS = {
+    "long_name": "epoch whose orbit (and greenhouse gases) the model year has, years before "
+    "1950 CE",
+    "units": "year",
+    "comment": "model year first_model_year + k has the epoch start_epoch + k * acceleration "
+    "years (see the global attributes)",
+}
+_YEARLY = "held constant through each model year: the value at the epoch of the model year"
+
+
+# --- the resolved run -------------------------------------------------------------------------
+@dataclass
+class RunContext:
+    """Everything a transient build needs, resolved once from the spec."""
+
+    spec: ExperimentSpec
+    command: str | None = None
+    created: datetime = field(
+        default_factory=lambda: datetime.now(timezone.utc).replace(microsecond=0)
+    )
+
+    def __post_init__(self) -> None:
+        if self.spec.transient is None:
+            raise ValueError("RunContext needs a transient spec")
+        self.transient = self.spec.transient
+        self.reference_year = self.transient.first_model_year
+        self._year_length: dict[int, int] = {}
+
+    @cached_property
+    def calendar(self) -> ModelCalendar:
+        """The model calendar with its anchor."""
+        from bcgen.build.context import model_calendar
+
+        return model_calendar(self.spec)
+
+    @cached_property
+    def grid(self) -> Grid | None:
+        """The grid of the insolation products (None if the spec has none)."""
+        from bcgen.build.context import make_grid
+
+        return make_grid(self.spec)
+
+    @cached_property
+    def unique_latitudes(self) -> tuple[np.ndarray, np.ndarray]:
+        """Distinct latitudes of the grid and the index of each grid point into them."""
+        lat = np.asarray(self.grid.lat_deg, dtype=float)
+        unique, inverse = np.unique(lat, return_inverse=True)
+        return unique, inverse.reshape(lat.shape)
+
+    @cached_property
+    def gas_table(self) -> GasTable | None:
+        """The greenhouse-gas table, checked to cover every model year (None without one)."""
+        path = self.transient.greenhouse_gas_table
+        if path is None:
+            return None
+        table = load_gas_table(path)
+        tr = self.transient
+        ends = np.array([tr.first_model_year, tr.last_model_year])
+        try:  # the epochs run linearly from the first to the last model year
+            table.check_covers(tr.epochs_of_model_years(ends))
+        except InputFileError:  # name the first model year outside the table
+            years = tr.model_years()
+            table.check_covers(tr.epochs_of_model_years(years), years)
+        return table
+
+    def prepare(self, gases: bool = False) -> None:
+        """Read every input file now (grid, orbit table, gas table if ``gases``).
+
+        The compute thread of :mod:`bcgen.transient.pipeline` must not call the
+        netCDF library, which reads grid files and NetCDF orbit tables.
+        """
+        _ = self.calendar
+        if self.spec.grid is not None:
+            _ = self.unique_latitudes
+        if gases:
+            _ = self.gas_table
+        _ = self.orbit_table
+
+    @cached_property
+    def orbit_table(self) -> OrbitalElements | None:
+        """The orbit table of solution ``table``, read once (None for other solutions)."""
+        if self.spec.orbit.solution != "table":
+            return None
+        from bcgen.orbit import table
+
+        return table.load(self.spec.orbit.table)
+
+    @property
+    def anchor_text(self) -> str:
+        """The calendar anchor in words."""
+        a = self.calendar.anchor
+        what = "March equinox" if a.kind == "march_equinox" else "perihelion"
+        return (
+            f"{what} at {a.month:02d}-{a.day:02d} {a.hour:02d}:{a.minute:02d} of the "
+            f"{self.calendar.name} model calendar, every model year"
+        )
+
+    # --- years and epochs --------------------------------------------------------------------
+    def epochs(self, years: np.ndarray) -> np.ndarray:
+        """Epochs (years from 1950 CE) of model years."""
+        return self.transient.epochs_of_model_years(years)
+
+    def orbit(self, years: np.ndarray) -> OrbitalElements:
+        """Orbital elements of model years (one set per year)."""
+        if self.orbit_table is not None:
+            from bcgen.orbit import table
+
+            return table.interpolate(self.orbit_table, self.epochs(years))
+        return self.spec.orbit.resolve(self.epochs(years))
+
+    def year_length(self, year: int) -> int:
+        """Days in a model year of the calendar (cached)."""
+        fixed = FIXED_YEAR_DAYS.get(self.calendar.name)
+        if fixed is not None:
+            return fixed
+        if year not in self._year_length:
+            if len(self._year_length) > 4096:
+                self._year_length.clear()
+            self._year_length[year] = int(round(self.calendar.year_length_days(int(year))))
+        return self._year_length[year]
+
+    def year_start_days(self, years: np.ndarray) -> np.ndarray:
+        """Days from 1 January of the first model year to 1 January of each of ``years``."""
+        years = np.asarray(years, dtype=np.int64)
+        fixed = FIXED_YEAR_DAYS.get(self.calendar.name)
+        if fixed is not None:
+            return (years - self.reference_year).astype(float) * fixed
+        cal = self.calendar
+        ref = cftime.datetime(
+            self.reference_year, 1, 1, calendar=cal.name, has_year_zero=cal.has_year_zero
+        )
+        return np.array(
+            [
+                (
+                    cftime.datetime(
+                        int(y), 1, 1, calendar=cal.name, has_year_zero=cal.has_year_zero
+                    )
+                    - ref
+                ).days
+                for y in years
+            ],
+            dtype=float,
+        )
+
+    def year_key(self, year: int) -> tuple:
+        """Years with equal keys have the same insolation for the same orbit.
+
+        The Sun's position in model year y depends on the calendar only through the
+        anchors of the years y-3 … y+4 (:class:`~bcgen.solar_calendar.position.SolarYear`)
+        and the days and months of y, i.e. through the lengths of the years y-4 … y+4.
+        Calendars without leap years have one key.
+        """
+        if self.calendar.name in FIXED_YEAR_DAYS:
+            return ()
+        cal = self.calendar
+        key = tuple(self.year_length(cal.shift_year(int(year), k)) for k in range(-4, 5))
+        if cal.name == "standard" and 1577 <= year <= 1587:  # the Gregorian reform of 1582
+            key += (int(year),)
+        return key
+
+    # --- metadata ----------------------------------------------------------------------------
+    def attributes(self, title: str, first: int, last: int) -> dict[str, object]:
+        """Global attributes of one file of model years ``first`` … ``last``."""
+        spec, tr = self.spec, self.transient
+        extra = dict(spec.attributes)
+        institution = extra.pop("institution", None)
+        comment = extra.pop("comment", None)
+        references = [r for r in (extra.pop("references", None),) if r]
+        attrs = provenance_attrs(
+            spec.text or "",
+            SOLUTIONS[spec.orbit.solution].REFERENCE,
+            title=title,
+            institution=institution,
+            solution=spec.orbit.solution,
+            references=references,
+            comment=comment,
+            time_slice=False,
+            command=self.command,
+            created=self.created,
+            extra=extra,
+        )
+        e0, e1 = self.epochs(np.array([first, last]))
+        attrs.update(
+            {
+                "experiment": spec.experiment.name,
+                "experiment_description": spec.experiment.description or None,
+                "transient_start_epoch": tr.start_epoch,
+                "transient_end_epoch": tr.end_epoch,
+                "orbital_acceleration": np.int32(tr.acceleration),
+                "model_year_mapping": (
+                    f"model year {tr.first_model_year} + k has the orbit of the epoch "
+                    f"{tr.start_epoch} + k * {tr.acceleration} years (towards {tr.end_epoch}), "
+                    f"k = 0 ... {tr.n_model_years - 1}"
+                ),
+                "first_model_year": np.int32(first),
+                "last_model_year": np.int32(last),
+                "first_epoch_years_bp": float(-e0),
+                "last_epoch_years_bp": float(-e1),
+                "calendar_anchor": self.anchor_text,
+                "bcgen_spec_sha256": spec.sha256,
+                "bcgen_version": __version__,
+            }
+        )
+        return attrs
+
+
+# --- products ---------------------------------------------------------------------------------
+class Series:
+    """One product of a transient run (subclasses: orbit, gases, daily and monthly insolation)."""
+
+    product: str = ""
+    gridded: bool = False
+
+    def __init__(self, ctx: RunContext) -> None:
+        self.ctx = ctx
+        self._bounds_cache: dict[tuple, np.ndarray] = {}
+
+    @property
+    def description(self) -> str:
+        """What the files hold, one line."""
+        raise NotImplementedError
+
+    @property
+    def title(self) -> str:
+        """The files' title."""
+        raise NotImplementedError
+
+    def year_bounds(self, year: int) -> np.ndarray:
+        """(n, 2) bounds of the model year's time steps, days after its 1 January (cached)."""
+        key = self.ctx.year_key(int(year))
+        bounds = self._bounds_cache.get(key)
+        if bounds is None:
+            bounds = self._year_bounds(int(year))
+            bounds.flags.writeable = False
+            self._bounds_cache[key] = bounds
+        return bounds
+
+    def _year_bounds(self, year: int) -> np.ndarray:
+        return np.array([[0.0, float(self.ctx.year_length(year))]])
+
+    def steps(self, first: int, last: int) -> int:
+        """Count the time steps of model years ``first`` … ``last``."""
+        if not self.ctx.year_key(first):  # a calendar without leap years
+            return (last - first + 1) * len(self.year_bounds(first))
+        return sum(len(self.year_bounds(y)) for y in range(first, last + 1))
+
+    def chunk_years(self) -> int:
+        """Model years computed at once."""
+        return YEARLY_CHUNK_YEARS
+
+    def bounds(self, years: np.ndarray) -> np.ndarray:
+        """(T, 2) bounds of the time steps of ``years``, days since the first model year."""
+        starts = self.ctx.year_start_days(years)
+        return np.concatenate(
+            [self.year_bounds(int(y)) + s for y, s in zip(years, starts, strict=True)]
+        )
+
+    def define(self, sf: SeriesFile) -> list[str]:
+        """Define the data variables; return their names."""
+        raise NotImplementedError
+
+    def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:
+        """Values of the data variables for ``years``, time steps first."""
+        raise NotImplementedError
+
+    def write(self, sf: SeriesFile, name: str, values: np.ndarray) -> None:
+        """Append one chunk of a data variable to the file."""
+        sf.append(name, values)
+
+
+class OrbitSeries(Series):
+    """Orbital elements of every model year (both perihelion conventions, e sin ϖ, epoch)."""
+
+    product = "orbit"
+    description = (
+        "orbital elements per model year (e, obliquity, perihelion in two conventions, "
+        "e sin w, epoch)"
+    )
+
+    @property
+    def title(self) -> str:  # noqa: D102
+        return f"Orbital elements per model year for {self.ctx.spec.experiment.name}"
+
+    def define(self, sf: SeriesFile) -> list[str]:  # noqa: D102
+        names = []
+        for name in (
+            "eccentricity",
+            "obliquity",
+            "perihelion_longitude",
+            "sun_longitude_at_perihelion",
+        ):
+            attrs = variable_attrs(name)
+            attrs["cell_methods"] = "time: mean"
+            attrs["comment"] = f"{attrs.get('comment', '')}; {_YEARLY}".lstrip("; ")
+            sf.define_variable(name, "f8", ("time",), attrs, compress=True)
+            names.append(name)
+        sf.define_variable(
+            "precession_index",
+            "f8",
+            ("time",),
+            {**PRECESSION_INDEX_ATTRS, "cell_methods": "time: mean", "comment": _YEARLY},
+            compress=True,
+        )
+        sf.define_variable("epoch_years_bp", "f8", ("time",), EPOCH_ATTRS, compress=True)
+        return [*names, "precession_index", "epoch_years_bp"]
+
+    def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:  # noqa: D102
+        o = self.ctx.orbit(years)
+        return {
+            "eccentricity": o.eccentricity,
+            "obliquity": o.obliquity_deg,
+            "perihelion_longitude": o.perihelion_longitude_deg,
+            "sun_longitude_at_perihelion": o.sun_longitude_at_perihelion_deg,
+            "precession_index": o.precession_index,
+            "epoch_years_bp": -self.ctx.epochs(years),
+        }
+
+
+class GasSeries(Series):
+    """Greenhouse-gas mole fractions of every model year (from the table, or constant)."""
+
+    product = "greenhouse_gases"
+
+    @property
+    def gases(self) -> tuple[str, ...]:
+        """Gas names, in the order of the table's columns or of the spec."""
+        table = self.ctx.gas_table
+        return (
+            table.gases
+            if table is not None
+            else tuple(g.name for g in self.ctx.spec.greenhouse_gases)
+        )
+
+    @property
+    def method_text(self) -> str:
+        """How the values were obtained, in words."""
+        table = self.ctx.gas_table
+        if table is None:
+            return "constant values from greenhouse_gases of the spec"
+        method = self.ctx.transient.greenhouse_gas_interpolation
+        return f"{INTERPOLATION_METHODS[method]} ({method}; table {table.path.name})"
+
+    @property
+    def description(self) -> str:  # noqa: D102
+        return (
+            f"greenhouse-gas mole fractions per model year ({', '.join(self.gases)}); "
+            + self.method_text
+        )
+
+    @property
+    def title(self) -> str:  # noqa: D102
+        return f"Greenhouse gases per model year for {self.ctx.spec.experiment.name}"
+
+    def define(self, sf: SeriesFile) -> list[str]:  # noqa: D102
+        from bcgen.spec import schema as S
+
+        table = self.ctx.gas_table
+        for gas in self.gases:
+            units = output_units(gas)
+            if gas in ("co2", "ch4", "n2o"):
+                attrs = variable_attrs(gas, time_kind="mean")
+            else:
+                attrs = {
+                    "standard_name": S.GASES[gas],
+                    "units": units,
+                    "long_name": f"{gas} mole fraction in dry air (ppt)",
+                    "cell_methods": "time: mean",
+                }
+            attrs["comment"] = f"{_YEARLY}; {self.method_text}"
+            if table is not None:
+                attrs["interpolation_method"] = self.ctx.transient.greenhouse_gas_interpolation
+                attrs["units_in_table"] = table.units[gas]
+            else:
+                attrs["units_in_spec"] = self.ctx.spec.gas(gas).units
+            sf.define_variable(gas, "f8", ("time",), attrs, compress=True)
+        sf.define_variable("epoch_years_bp", "f8", ("time",), EPOCH_ATTRS, compress=True)
+        if table is not None:
+            sf.set_attributes(
+                {
+                    "greenhouse_gas_table": table.path.name,
+                    "greenhouse_gas_interpolation": self.ctx.transient.greenhouse_gas_interpolation,
+                    "greenhouse_gas_interpolation_method": INTERPOLATION_METHODS[
+                        self.ctx.transient.greenhouse_gas_interpolation
+                    ],
+                }
+            )
+        return [*self.gases, "epoch_years_bp"]
+
+    def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:  # noqa: D102
+        epochs = self.ctx.epochs(years)
+        table = self.ctx.gas_table
+        if table is not None:
+            values = table.interpolate(epochs, self.ctx.transient.greenhouse_gas_interpolation)
+        else:
+            values = {}
+            for gas in self.ctx.spec.greenhouse_gases:
+                factor = {"1e-6": 1e6, "1e-9": 1e9, "1e-12": 1e12}[output_units(gas.name)]
+                values[gas.name] = np.full(len(years), gas.mole_fraction * factor)
+        return {**values, "epoch_years_bp": -epochs}
+
+
+class InsolationSeries(Series):
+    """Insolation on the grid, computed on its distinct latitudes and spread over it."""
+
+    gridded = True
+    definition = ""
+
+    @property
+    def method(self) -> str:
+        """The daily method of the spec."""
+        return self.ctx.spec.insolation.daily_method
+
+    def chunk_years(self) -> int:  # noqa: D102
+        n_unique = self.ctx.unique_latitudes[0].size
+        nodes = DAY_AVERAGE_NODES if self.method == "day_average" else 1
+        per_year = n_unique * 366 * nodes * 8 * _TEMPORARIES
+        return max(1, COMPUTE_BUDGET_BYTES // per_year)
+
+    def define(self, sf: SeriesFile) -> list[str]:  # noqa: D102
+        attrs = variable_attrs("insolation", time_kind="mean")
+        attrs["comment"] = self.description
+        attrs.update(self.extra_attrs())
+        dims = ("time", *self.ctx.grid.dims)
+        sf.define_variable("insolation", "f4", dims, attrs, compress=True)
+        return ["insolation"]
+
+    def extra_attrs(self) -> dict[str, str]:
+        """Attributes particular to the product."""
+        return {}
+
+    def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:
+        """Compute (T, n_unique_latitudes) float64 rows, grouping years of one calendar kind."""
+        ctx = self.ctx
+        lat, _ = ctx.unique_latitudes
+        orbit = ctx.orbit(years)
+        counts = np.array([len(self.year_bounds(int(y))) for y in years])
+        offsets = np.concatenate([[0], np.cumsum(counts)])
+        rows = np.empty((offsets[-1], lat.size))
+        groups: dict[tuple, list[int]] = {}
+        for i, y in enumerate(years):
+            groups.setdefault(ctx.year_key(int(y)), []).append(i)
+        for members in groups.values():
+            idx = np.array(members)
+            values = self.by_latitude(orbit[idx], lat, int(years[idx[0]]))  # (n, nlat, steps)
+            for j, i in enumerate(idx):
+                rows[offsets[i] : offsets[i + 1]] = values[j].T
+            del values
+        return {"insolation": rows}
+
+    def by_latitude(self, orbit: OrbitalElements, lat: np.ndarray, year: int) -> np.ndarray:
+        """Insolation for orbits (1-D) of one calendar-year kind: (n, nlat, steps)."""
+        raise NotImplementedError
+
+    def write(self, sf: SeriesFile, name: str, values: np.ndarray) -> None:
+        """Spread rows over the grid and append them in slabs of at most WRITE_BUDGET_BYTES."""
+        grid = self.ctx.grid
+        _, index = self.ctx.unique_latitudes
+        per_step = 4 * int(np.prod(grid.shape))
+        slab = max(1, WRITE_BUDGET_BYTES // per_step)
+        for lo in range(0, values.shape[0], slab):
+            block = spread_to_grid(values[lo : lo + slab], index, grid)
+            sf.append(name, block)
+            del block
+
+
+class DailyInsolationSeries(InsolationSeries):
+    """Daily-mean insolation for every day of every model year."""
+
+    product = "daily_insolation"
+
+    @property
+    def description(self) -> str:  # noqa: D102
+        return f"daily mean TOA insolation; {DAILY_METHODS[self.method]}"
+
+    @property
+    def title(self) -> str:  # noqa: D102
+        return f"Daily TOA insolation for {self.ctx.spec.experiment.name}"
+
+    def extra_attrs(self) -> dict[str, str]:  # noqa: D102
+        return {"daily_method": self.method}
+
+    def _year_bounds(self, year: int) -> np.ndarray:
+        day = np.arange(self.ctx.year_length(year), dtype=float)
+        return np.stack([day, day + 1.0], axis=-1)
+
+    def by_latitude(self, orbit, lat, year):  # noqa: D102
+        s0 = self.ctx.spec.solar_constant_wm2
+        return daily_insolation(
+            orbit, self.ctx.calendar, lat, s0, year=year, method=self.method
+        ).insolation_wm2
+
+
+class MonthlyFixedDaySeries(InsolationSeries):
+    """Monthly-mean insolation over the calendar's (fixed-day) months of every model year."""
+
+    product = "monthly_insolation_fixed_day"
+
+    @property
+    def description(self) -> str:  # noqa: D102
+        return (
+            f"monthly mean TOA insolation over fixed-day (calendar) months; "
+            f"{MONTHLY_AVERAGING['fixed_day']}; daily values: {DAILY_METHODS[self.method]}"
+        )
+
+    @property
+    def title(self) -> str:  # noqa: D102
+        return (
+            f"Monthly TOA insolation (fixed-day (calendar) months) for "
+            f"{self.ctx.spec.experiment.name}"
+        )
+
+    def extra_attrs(self) -> dict[str, str]:  # noqa: D102
+        return {"month_definition": "fixed_day", "daily_method": self.method}
+
+    def _year_bounds(self, year: int) -> np.ndarray:
+        starts = self.ctx.calendar.month_starts_days(int(year))
+        return np.stack([starts[:-1], starts[1:]], axis=-1)
+
+    def by_latitude(self, orbit, lat, year):  # noqa: D102
+        s0 = self.ctx.spec.solar_constant_wm2
+        return monthly_insolation(
+            orbit,
+            self.ctx.calendar,
+            lat,
+            s0,
+            months="fixed_day",
+            year=year,
+            daily_method=self.method,
+        ).insolation_wm2
+
+
+def spread_to_grid(rows: np.ndarray, index: np.ndarray, grid: Grid) -> np.ndarray:
+    """Values on distinct latitudes (T, n_unique) → float32 values on the grid (T, *grid.shape)."""
+    column = rows[:, index]  # (T, nlat) or (T, ny, nx) for a curvilinear grid
+    if grid.is_zonal or grid.is_curvilinear:
+        return column.astype(np.float32)
+    out = np.empty(column.shape + (grid.shape[1],), dtype=np.float32)
+    out[...] = column[:, :, np.newaxis]
+    return out
+
+
+#: Products of a transient run: spec name -> Series class.
+SERIES: dict[str, type[Series]] = {
+    "orbit": OrbitSeries,
+    "greenhouse_gases": GasSeries,
+    "daily_insolation": DailyInsolationSeries,
+    "monthly_insolation_fixed_day": MonthlyFixedDaySeries,
+}
