@@ -10,19 +10,19 @@ Published checks here:
 
 from __future__ import annotations
 
-import json
 import hashlib
+import json
 from pathlib import Path
 
 import numpy as np
 import pytest
 import xarray as xr
+from cf_checker import assert_cf_compliant
 
 from bcgen.build import build
 from bcgen.cli import main
 from bcgen.errors import OutputError
 from bcgen.spec import load_spec, parse_spec_text
-from cf_checker import assert_cf_compliant
 
 CONFIGS = Path(__file__).resolve().parent.parent / "configs"
 PROTOCOLS = sorted((CONFIGS / "protocols").glob("*.yaml"))
@@ -85,7 +85,8 @@ def test_round_trip_with_xarray(built):
         assert diff % 360 == pytest.approx(180.0)
         assert "March equinox" in ds.perihelion_longitude.attrs["convention"]
         assert ds.attrs["bcgen_spec"] == spec.text
-    with xr.open_dataset(by_product["daily_insolation"], decode_times=xr.coders.CFDatetimeCoder(use_cftime=True)) as ds:
+    coder = xr.coders.CFDatetimeCoder(use_cftime=True)
+    with xr.open_dataset(by_product["daily_insolation"], decode_times=coder) as ds:
         assert ds.time.encoding["calendar"] == "noleap"
         assert ds.time.size == 365 and ds.lat.size == 180
         assert ds.time.attrs["climatology"] == "climatology_bnds"

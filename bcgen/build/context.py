@@ -21,13 +21,13 @@ _GLOBAL_MEAN_NODES = 48
 
 
 def model_calendar(spec: ExperimentSpec) -> ModelCalendar:
-    """The spec's calendar with its anchor as a :class:`ModelCalendar`."""
+    """Return the spec's calendar with its anchor as a :class:`ModelCalendar`."""
     cal = spec.calendar
     return ModelCalendar(cal.name, Anchor(cal.anchor, cal.month, cal.day, cal.hour, cal.minute))
 
 
 def make_grid(spec: ExperimentSpec) -> Grid | None:
-    """The spec's grid (None when the spec has none)."""
+    """Return the spec's grid (None when the spec has none)."""
     g = spec.grid
     if g is None:
         return None
@@ -43,8 +43,12 @@ def make_grid(spec: ExperimentSpec) -> Grid | None:
     lon_step = g.lon_resolution_deg or g.resolution_deg
     if g.latitudes_deg is None and g.longitudes_deg is None:
         return regular_grid((lat_step, lon_step))
-    lat = g.latitudes_deg if g.latitudes_deg is not None else regular_grid((lat_step, 360)).lat_deg
-    lon = g.longitudes_deg if g.longitudes_deg is not None else regular_grid((180, lon_step)).lon_deg
+    lat = g.latitudes_deg
+    if lat is None:
+        lat = regular_grid((lat_step, 360)).lat_deg
+    lon = g.longitudes_deg
+    if lon is None:
+        lon = regular_grid((180, lon_step)).lon_deg
     return regular_grid(lat_deg=lat, lon_deg=lon)
 
 

@@ -37,6 +37,10 @@ PRECESSION_INDEX_ATTRS = {
 }
 
 
+#: Size of the slabs in which latitude-longitude fields are spread and written.
+_SLAB_BYTES = 16 * 2**20
+
+
 @dataclass(frozen=True)
 class Output:
     """One file of a build: a CF dataset or a text, its name and what it holds."""
@@ -84,7 +88,7 @@ def orbit_product(ctx: BuildContext) -> list[Output]:
 
 
 def solar_constant_product(ctx: BuildContext) -> list[Output]:
-    """The solar constant as a scalar ``solar_irradiance``."""
+    """Write the solar constant as a scalar ``solar_irradiance``."""
     ds = xr.Dataset({"solar_irradiance": ((), float(ctx.spec.solar_constant_wm2),
                                           variable_attrs("solar_irradiance"))})
     return [Output("solar_constant", _nc_name(ctx, "solar_constant"),
@@ -127,8 +131,17 @@ def _on_grid(ctx: BuildContext, values_by_lat: np.ndarray) -> tuple[tuple, np.nd
     column = per_time[:, index]  # (time, nlat)
     if grid.is_zonal:
         return ("time", grid.dims[0]), column
+    # A latitude-longitude field repeats each latitude's value along longitude. It is
+    # spread lazily, a few time steps at a time, so the whole float32 field (378 MB
+    # on a 0.5 degree grid) is never held in memory and the write streams in slabs.
+    import dask.array as dsa
+
     nlon = grid.shape[1]
-    return ("time", *grid.dims), np.broadcast_to(column[:, :, None], column.shape + (nlon,))
+    steps = max(1, _SLAB_BYTES // (4 * column.shape[1] * nlon))
+    lazy = dsa.from_array(column.astype(np.float32), chunks=(steps, -1))
+    spread = dsa.broadcast_to(lazy[:, :, None], column.shape + (nlon,),
+                              chunks=(steps, -1, -1))
+    return ("time", *grid.dims), spread
 
 
 def _insolation_dataset(ctx, values_by_lat, bounds_days, description, title) -> xr.Dataset:
@@ -137,7 +150,7 @@ def _insolation_dataset(ctx, values_by_lat, bounds_days, description, title) -> 
     attrs = variable_attrs("insolation", time_kind="climatology")
     attrs["comment"] = description
     ds = axis.merge(ctx.grid.to_dataset())
-    ds["insolation"] = (dims, values.astype(np.float32), attrs)
+    ds["insolation"] = (dims, values.astype(np.float32, copy=False), attrs)
     return _finish(ctx, ds, title)
 
 

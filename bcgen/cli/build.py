@@ -61,7 +61,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def summarize(result) -> dict:
-    """The build summary as a JSON-ready dict."""
+    """Return the build summary as a JSON-ready dict."""
     ctx = result.context
     summary = {"directory": str(result.directory), "files": result.files,
                "manifest": str(result.manifest) if result.manifest else None}
@@ -100,7 +100,7 @@ def _size(n: int) -> str:
 
 
 def format_summary(s: dict) -> str:
-    """The build summary as text for people."""
+    """Return the build summary as text for people."""
     lines = [f"built {s.get('experiment', '')} ({s.get('epoch', '')}) in {s['directory']}"]
     if "orbit" in s:
         o = s["orbit"]

@@ -34,7 +34,6 @@ from bcgen.spec.model import CalendarSpec, ExperimentInfo, GasSpec, InsolationSp
 from bcgen.spec.output import OutputSpec, TemplateRef, TimestepTableSpec, check_file_pattern
 from bcgen.spec.transient import TransientSpec
 
-
 #: CF calendars without a year 0 (CF 1.11 §4.4.1).
 NO_YEAR_ZERO_CALENDARS = ("standard", "julian")
 
