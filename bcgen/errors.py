@@ -31,6 +31,10 @@ class GridError(BcgenError, ValueError):
     """An impossible or unusable grid (latitudes beyond ±90°, bad bounds, no latitude in a file)."""
 
 
+class InsolationError(BcgenError, ValueError):
+    """An impossible insolation request (latitude outside ±90°, non-positive solar constant)."""
+
+
 class SpecError(BcgenError, ValueError):
     """An invalid experiment spec (YAML syntax, unknown key, wrong type or value)."""
 
@@ -55,3 +59,7 @@ class BcgenWarning(UserWarning):
 
 class OutsideValidityWarning(BcgenWarning):
     """An epoch outside the range for which an orbital solution is stated to be valid."""
+
+
+class DeprecatedCalendarNameWarning(BcgenWarning):
+    """A deprecated CF calendar name (``gregorian``) that was read as its current name."""

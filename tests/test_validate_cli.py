@@ -39,10 +39,10 @@ def run(capsys, *argv):
     return status, out, err
 
 
-def one_error_line(err: str) -> str:
+def one_error_line(err: str, prefix: str = "bcgen: error: ") -> str:
     lines = err.splitlines()
     assert len(lines) == 1, err
-    assert lines[0].startswith("bcgen: error: ")
+    assert lines[0].startswith(prefix)
     assert "Traceback" not in err
     return lines[0]
 
@@ -70,7 +70,7 @@ def test_inconsistent_exits_1_with_json_and_one_line(capsys, files):
     assert first["fitted_value"] == pytest.approx(180.87, abs=0.005)
     assert first["misfit_after_wm2"] < 0.05 < first["misfit_before_wm2"]
     assert data["model"]["zonal_spread_wm2"] == pytest.approx(1.0, abs=1e-3)
-    line = one_error_line(err)
+    line = one_error_line(err, "bcgen: check failed: ")
     assert "inconsistent with the spec" in line and "most likely perihelion_opposite" in line
 
 
@@ -79,7 +79,7 @@ def test_text_report_names_the_shift(capsys, files):
     assert status == 1
     assert "1. equinox_day_shift = 2 days" in out
     assert "worst places:" in out
-    assert "most likely equinox_day_shift (2 days)" in one_error_line(err)
+    assert "most likely equinox_day_shift (2 days)" in one_error_line(err, "bcgen: check failed: ")
 
 
 def test_orbit_table_and_tolerance_option(capsys, files):

@@ -25,7 +25,7 @@ import time
 import warnings
 
 from bcgen import __version__
-from bcgen.errors import BcgenError, BcgenWarning
+from bcgen.errors import BcgenError, BcgenWarning, CheckFailed
 
 #: Subcommand modules, in the order ``bcgen --help`` lists them.
 COMMANDS = ("build", "orbit", "months", "insolation", "convert", "validate", "transient", "plot")
@@ -103,7 +103,8 @@ def main(argv: list[str] | None = None) -> int:
         except BcgenError as exc:
             if args.debug:
                 raise
-            print(f"bcgen: error: {_one_line(str(exc))}", file=sys.stderr)
+            prefix = "check failed" if isinstance(exc, CheckFailed) else "error"
+            print(f"bcgen: {prefix}: {_one_line(str(exc))}", file=sys.stderr)
             return exc.exit_status
         except KeyboardInterrupt:
             if args.debug:

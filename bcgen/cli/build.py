@@ -7,6 +7,8 @@ import json
 import shlex
 import sys
 
+from bcgen.errors import CheckFailed
+
 EXAMPLE = """\
 examples:
   bcgen build configs/demo.yaml -o demo-output
@@ -54,9 +56,8 @@ def run(args: argparse.Namespace) -> int:
     if not result.agrees_with_expected:
         bad = [c for c in result.orbit_checks if not c.agrees]
         names = ", ".join(f"{c.name} {c.computed:.6g} vs {c.expected:g}" for c in bad)
-        print(f"bcgen: check failed: computed orbit disagrees with orbit.expected in "
-              f"{args.spec}: {names}", file=sys.stderr)
-        return 1
+        raise CheckFailed(f"computed orbit disagrees with orbit.expected in {args.spec}: "
+                          f"{names}")
     return 0
 
 

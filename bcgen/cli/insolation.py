@@ -15,7 +15,14 @@ import json
 
 import numpy as np
 
-from bcgen.cli.months import _calendar, _describe_orbit, _orbit
+from bcgen.cli.common import (
+    MONTH_NAMES,
+    MONTH_OPTIONS,
+    add_calendar_options,
+    calendar_from_args,
+    describe_orbit,
+    orbit_for_epoch,
+)
 from bcgen.epochs import format_epoch
 from bcgen.errors import CalendarError
 from bcgen.insolation import (
@@ -25,11 +32,8 @@ from bcgen.insolation import (
     monthly_insolation,
 )
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS, OrbitalElements
-from bcgen.solar_calendar.calendars import CALENDARS, ModelCalendar
+from bcgen.solar_calendar.calendars import ModelCalendar
 
-_MONTHS = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
-#: Command-line spelling of the month definitions → the Python API's.
-MONTH_OPTIONS = {"fixed-day": "fixed_day", "fixed-angle": "fixed_angle"}
 #: Command-line spelling of the daily methods → the Python API's.
 DAILY_OPTIONS = {"midday": "midday", "day-average": "day_average"}
 
@@ -71,14 +75,7 @@ def register(subparsers) -> argparse.ArgumentParser:
                              f"{CMIP6_PICONTROL_SOLAR_CONSTANT_WM2}, the CMIP6 piControl total "
                              f"solar irradiance used by PMIP4; Matthes et al. 2017, GMD 10, "
                              f"2247-2302)")
-    parser.add_argument("--calendar", default="noleap", metavar="NAME",
-                        help=f"CF calendar: {', '.join(CALENDARS)} (default: noleap)")
-    anchor = parser.add_mutually_exclusive_group()
-    anchor.add_argument("--equinox", metavar='"MM-DD HH:MM"',
-                        help="date and time of the March equinox in every model year "
-                             "(default: 03-21 12:00, as in the PMIP protocols)")
-    anchor.add_argument("--perihelion-date", metavar='"MM-DD HH:MM"',
-                        help="anchor the orbit by the date and time of perihelion instead")
+    add_calendar_options(parser)
     parser.add_argument("--reference", metavar="EPOCH",
                         help="with --months fixed-angle: epoch of the reference orbit whose "
                              "fixed-day months define the arcs (default: 1950CE; PMIP4 "
@@ -127,17 +124,17 @@ def compute(args) -> tuple[dict, OrbitalElements, ModelCalendar]:
     if np.any(np.abs(latitudes) > 90):
         bad = ", ".join(f"{v:g}" for v in latitudes[np.abs(latitudes) > 90])
         raise InsolationError(f"--lat: latitudes must be in [-90, 90] degrees north; got {bad}")
-    calendar = _calendar(args)
+    calendar = calendar_from_args(args)
     try:
         calendar.is_leap(args.year)
     except CalendarError as exc:
         raise CalendarError(f"--year: {exc}") from None
-    orbit = _orbit(args.epoch, args.solution, "EPOCH")
+    orbit = orbit_for_epoch(args.epoch, args.solution, "EPOCH")
     reference = None
     reference_text = None
     if months == "fixed_angle":
         reference_text = args.reference or "1950CE"
-        reference = _orbit(reference_text, args.solution, "--reference")
+        reference = orbit_for_epoch(reference_text, args.solution, "--reference")
     daily_method = DAILY_OPTIONS[args.daily_method or "midday"]
     result = monthly_insolation(orbit, calendar, latitudes, args.solar_constant, months=months,
                                 reference=reference, year=args.year, daily_method=daily_method)
@@ -187,7 +184,7 @@ def format_text(record: dict, orbit_line: str, calendar_line: str) -> str:
                      f"{record['reference_epoch']}")
     lines.append("# month start (days after 1 January 00:00): "
                  + " ".join(f"{v:.2f}" for v in record["month_start_day"]))
-    lines.append(f"{'lat':>7}" + "".join(f"{m:>8}" for m in _MONTHS) + f"{'annual':>9}")
+    lines.append(f"{'lat':>7}" + "".join(f"{m:>8}" for m in MONTH_NAMES) + f"{'annual':>9}")
     for lat, row, annual in zip(record["latitudes_deg"], record["insolation_wm2"],
                                 record["annual_mean_wm2"], strict=True):
         lines.append(f"{lat:>7.2f}" + "".join(f"{v:>8.2f}" for v in row) + f"{annual:>9.2f}")
@@ -203,5 +200,5 @@ def run(args) -> int:
     calendar_line = (f"{calendar.describe()}; model year {args.year} "
                      f"({calendar.year_length_days(args.year):g} days), anchor at day "
                      f"{calendar.anchor_day(args.year):g}")
-    print(format_text(record, _describe_orbit(orbit), calendar_line))
+    print(format_text(record, describe_orbit(orbit), calendar_line))
     return 0

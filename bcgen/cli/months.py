@@ -10,18 +10,16 @@ from __future__ import annotations
 import argparse
 import json
 
-from bcgen.epochs import parse_epoch
-from bcgen.errors import CalendarError, EpochError, OrbitError
-from bcgen.orbit import SOLUTIONS, OrbitalElements, solve
-from bcgen.solar_calendar.calendars import (
-    CALENDARS,
-    ModelCalendar,
-    canonical_calendar,
-    parse_anchor,
+from bcgen.cli.common import (
+    MONTH_NAMES,
+    add_calendar_options,
+    calendar_from_args,
+    describe_orbit,
+    orbit_for_epoch,
 )
+from bcgen.errors import CalendarError
+from bcgen.orbit import SOLUTIONS
 from bcgen.solar_calendar.months import MonthTable, fixed_angle_months
-
-_MONTHS = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
 
 EPILOG = """\
 examples:
@@ -51,24 +49,7 @@ def register(subparsers) -> argparse.ArgumentParser:
     parser.add_argument(
         "epoch", metavar="EPOCH", help="epoch such as 6ka, '127 ka BP', 21000BP or 1850CE"
     )
-    parser.add_argument(
-        "--calendar",
-        default="noleap",
-        metavar="NAME",
-        help=f"CF calendar: {', '.join(CALENDARS)} (default: noleap)",
-    )
-    anchor = parser.add_mutually_exclusive_group()
-    anchor.add_argument(
-        "--equinox",
-        metavar='"MM-DD HH:MM"',
-        help="date and time of the March equinox in every model year "
-        "(default: 03-21 12:00, as in the PMIP protocols)",
-    )
-    anchor.add_argument(
-        "--perihelion-date",
-        metavar='"MM-DD HH:MM"',
-        help="anchor the orbit by the date and time of perihelion instead",
-    )
+    add_calendar_options(parser)
     parser.add_argument(
         "--reference",
         default="1950CE",
@@ -98,53 +79,6 @@ def register(subparsers) -> argparse.ArgumentParser:
     return parser
 
 
-def _orbit(epoch_text: str, solution: str, option: str) -> OrbitalElements:
-    try:
-        years = parse_epoch(epoch_text)
-    except EpochError as exc:
-        if not option.startswith("--"):
-            raise
-        raise EpochError(f"{option}: {exc}") from None
-    if solution not in SOLUTIONS:
-        raise OrbitError(
-            f"--solution: unknown orbital solution {solution!r}; expected one of "
-            f"{', '.join(SOLUTIONS)}"
-        )
-    try:
-        return solve(years, solution)
-    except TypeError:
-        raise OrbitError(
-            f"--solution {solution} needs values this command cannot take (a table file or "
-            f"explicit elements); use it from an experiment spec, or use berger1978 for {option}"
-        ) from None
-
-
-def _calendar(args) -> ModelCalendar:
-    name = canonical_calendar(args.calendar, source="--calendar")
-    if args.perihelion_date is not None:
-        option = "--perihelion-date"
-        anchor = parse_anchor(args.perihelion_date, "perihelion", source=option)
-    elif args.equinox is not None:
-        option = "--equinox"
-        anchor = parse_anchor(args.equinox, "march_equinox", source=option)
-    else:
-        return ModelCalendar(name)
-    try:
-        return ModelCalendar(name, anchor)
-    except CalendarError as exc:
-        raise CalendarError(f"{option}: {exc}; give a date that exists in every year") from None
-
-
-def _describe_orbit(orbit: OrbitalElements) -> str:
-    return (
-        f"eccentricity {float(orbit.eccentricity):.6f}, obliquity "
-        f"{float(orbit.obliquity_deg):.4f} deg, perihelion longitude "
-        f"{float(orbit.perihelion_longitude_deg):.4f} deg (heliocentric, from the moving March "
-        f"equinox; the Sun's true longitude at perihelion is "
-        f"{float(orbit.sun_longitude_at_perihelion_deg):.4f} deg)"
-    )
-
-
 def format_text(table: MonthTable, header: list[str]) -> str:
     """Format the month table as aligned text under a header of conventions."""
     lines = [f"# {line}" for line in header]
@@ -158,7 +92,7 @@ def format_text(table: MonthTable, header: list[str]) -> str:
     )
     for k in range(12):
         lines.append(
-            f"{k + 1:>2} {_MONTHS[k]:<3}{table.start_day[k]:>12.4f}{table.end_day[k]:>12.4f}"
+            f"{k + 1:>2} {MONTH_NAMES[k]:<3}{table.start_day[k]:>12.4f}{table.end_day[k]:>12.4f}"
             f"{table.length_days[k]:>13.4f}{table.start_true_longitude_deg[k]:>26.4f}"
             f"{table.fixed_day_start_day[k]:>21.4f}{table.fixed_day_length_days[k]:>23.4f}"
         )
@@ -171,13 +105,13 @@ def format_text(table: MonthTable, header: list[str]) -> str:
 
 def run(args) -> int:
     """Compute and print the month table."""
-    calendar = _calendar(args)
+    calendar = calendar_from_args(args)
     try:
         calendar.is_leap(args.year)
     except CalendarError as exc:
         raise CalendarError(f"--year: {exc}") from None
-    orbit = _orbit(args.epoch, args.solution, "EPOCH")
-    reference = _orbit(args.reference, args.solution, "--reference")
+    orbit = orbit_for_epoch(args.epoch, args.solution, "EPOCH")
+    reference = orbit_for_epoch(args.reference, args.solution, "--reference")
     table = fixed_angle_months(orbit, calendar, reference=reference, year=args.year)
     if args.format == "json":
         print(json.dumps(table.to_records(), indent=2))
@@ -188,8 +122,8 @@ def run(args) -> int:
         f"fixed-angle months for {args.epoch} ({epoch:+g} years from 1950 CE); arcs of true "
         f"longitude from the fixed-day months of the reference orbit {args.reference} "
         f"({ref_epoch:+g} years from 1950 CE)",
-        f"orbit ({args.solution}): {_describe_orbit(orbit)}",
-        f"reference orbit ({args.solution}): {_describe_orbit(reference)}",
+        f"orbit ({args.solution}): {describe_orbit(orbit)}",
+        f"reference orbit ({args.solution}): {describe_orbit(reference)}",
         f"{calendar.describe()}; model year {args.year} "
         f"({calendar.year_length_days(args.year):g} days), anchor at day "
         f"{calendar.anchor_day(args.year):g}",

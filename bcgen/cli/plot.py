@@ -7,6 +7,7 @@ import json
 import re
 from pathlib import Path
 
+from bcgen.cli.common import MONTH_OPTIONS
 from bcgen.errors import BcgenError
 
 #: Figure kinds, with what each shows.
@@ -16,8 +17,6 @@ KINDS = {
     "month-lengths": "fixed-day against fixed-angle month lengths",
     "orbit": "eccentricity, obliquity, precession index and June-solstice insolation in time",
 }
-#: Command-line spelling of the month definitions → the Python API's.
-MONTH_OPTIONS = {"fixed-day": "fixed_day", "fixed-angle": "fixed_angle"}
 
 EPILOG = """\
 kinds:

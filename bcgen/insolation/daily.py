@@ -36,7 +36,7 @@ from typing import Literal
 
 import numpy as np
 
-from bcgen.errors import BcgenError
+from bcgen.errors import InsolationError
 from bcgen.insolation.quadrature import mapped_gauss_legendre
 from bcgen.orbit.elements import OrbitalElements
 from bcgen.solar_calendar.calendars import ModelCalendar
@@ -67,9 +67,6 @@ DAILY_METHODS: dict[str, str] = {
 #: there. Error about 1e-6 W m-2 or less (tested against a brute-force time integral).
 DAY_AVERAGE_NODES = 8
 
-
-class InsolationError(BcgenError, ValueError):
-    """An impossible insolation request (latitude outside ±90°, non-positive solar constant)."""
 
 
 # --- validation ------------------------------------------------------------------------

@@ -50,7 +50,7 @@ from typing import Literal, get_args
 import cftime
 import numpy as np
 
-from bcgen.errors import BcgenWarning, CalendarError
+from bcgen.errors import CalendarError, DeprecatedCalendarNameWarning
 
 CalendarName = Literal["noleap", "all_leap", "360_day", "proleptic_gregorian", "standard", "julian"]
 AnchorKind = Literal["march_equinox", "perihelion"]
@@ -104,9 +104,6 @@ _MONTH_NAMES = (
     "December",
 )
 
-
-class DeprecatedCalendarNameWarning(BcgenWarning):
-    """A deprecated CF calendar name (``gregorian``) that was read as its current name."""
 
 
 def canonical_calendar(name: str, source: str = "calendar") -> str:

@@ -73,6 +73,9 @@ class SeriesFile:
         except OSError as exc:
             self._remove_tmp()
             raise OutputError(f"cannot write {self.path}: {exc.strerror or exc}") from None
+        except BaseException:  # an interrupt between creating and opening the file
+            self._remove_tmp()
+            raise
         self._ds.set_fill_off()
 
     # --- definition ----------------------------------------------------------------------
