@@ -30,6 +30,7 @@ from __future__ import annotations
 
 import errno
 import os
+import threading
 import time
 import uuid
 from collections.abc import Mapping, Sequence
@@ -483,21 +484,65 @@ def _create_temporary(path: Path) -> Path:
     return tmp
 
 
+class _WriteAborted(Exception):
+    """Raised inside a dask block when the write was interrupted."""
+
+
+def _abortable(dataset, abort: threading.Event):
+    """Return the dataset with every dask-backed variable checking ``abort`` per block."""
+    from dask.base import is_dask_collection
+
+    def guard(block, abort=abort):
+        if abort.is_set():
+            raise _WriteAborted
+        return block
+
+    out = dataset.copy()
+    for name, var in dataset.variables.items():
+        if is_dask_collection(var.data):
+            out[name] = var.copy(data=var.data.map_blocks(guard, dtype=var.dtype))
+    return out
+
+
 def _to_netcdf(dataset, tmp: Path, encoding: dict) -> None:
-    # Dask-backed data are written by a thread pool of our own, shut down (waiting for the
-    # blocks in flight) before returning or raising: after an interrupt, a worker thread that
-    # is still writing would otherwise reopen the temporary file after it was removed.
+    """Write ``dataset`` to ``tmp`` in a worker thread, so that Ctrl-C stays clean.
+
+    An interrupt is delivered to the main thread only. Were the write done there, an
+    interrupt could land while the netCDF library's lock is held, and closing the file
+    afterwards would wait for that lock for ever. Here the main thread only waits: on an
+    interrupt it asks the write to stop at the next dask block, waits until the file is
+    closed (so no thread reopens the temporary file after it is removed) and re-raises.
+    """
     from concurrent.futures import ThreadPoolExecutor
 
     import dask
 
-    pool = ThreadPoolExecutor(max_workers=dask.system.CPU_COUNT)
+    abort = threading.Event()
+    failure: list[BaseException] = []
+    guarded = _abortable(dataset, abort)
+
+    def work() -> None:
+        pool = ThreadPoolExecutor(max_workers=dask.system.CPU_COUNT)
+        try:
+            with dask.config.set(scheduler="threads", pool=pool):
+                guarded.to_netcdf(tmp, mode="w", format="NETCDF4", engine="netcdf4",
+                                  encoding=encoding)
+        except BaseException as exc:  # noqa: BLE001 - handed to the main thread
+            failure.append(exc)
+        finally:
+            pool.shutdown(wait=True, cancel_futures=True)
+
+    thread = threading.Thread(target=work, name="bcgen-netcdf-write", daemon=True)
+    thread.start()
     try:
-        with dask.config.set(pool=pool):
-            dataset.to_netcdf(tmp, mode="w", format="NETCDF4", engine="netcdf4",
-                              encoding=encoding)
-    finally:
-        pool.shutdown(wait=True, cancel_futures=True)
+        while thread.is_alive():
+            thread.join(0.05)
+    except KeyboardInterrupt:
+        abort.set()
+        thread.join()
+        raise
+    if failure:
+        raise failure[0]
 
 
 def _move_into_place(tmp: Path, path: Path, force: bool) -> None:
