@@ -74,6 +74,13 @@ def bundled_template_path(name: str) -> Path:
     return Path(str(resources.files("bcgen.templates") / BUNDLED[name]))
 
 
+class Unavailable:
+    """A placeholder value that the experiment does not define, with the reason why."""
+
+    def __init__(self, reason: str) -> None:
+        self.reason = reason
+
+
 def render_text(text: str, values: Mapping[str, object], source: str = "<template>") -> str:
     """Replace every placeholder in ``text``; an unknown placeholder is an error.
 
@@ -83,7 +90,8 @@ def render_text(text: str, values: Mapping[str, object], source: str = "<templat
         Template text.
     values : mapping
         Placeholder values; ``attributes`` may map to a nested mapping of global
-        attributes reachable as ``{{ attributes.NAME }}``.
+        attributes reachable as ``{{ attributes.NAME }}``. A value that is an
+        :class:`Unavailable` is an error when a template uses it.
     source : str
         Name used in error messages (usually the template's path).
     """
@@ -93,12 +101,17 @@ def render_text(text: str, values: Mapping[str, object], source: str = "<templat
         def substitute(match: re.Match, lineno: int = lineno) -> str:
             name, fmt = match[1], (match[2] or "").strip()
             value = _lookup(values, name)
+            where = f"{source}:{lineno}: {{{{ {name} }}}}"
             if value is _MISSING:
+                if name.startswith("attributes.") and "." not in name[len("attributes."):]:
+                    key = name[len("attributes."):]
+                    raise InputFileError(f"{where} has no value: add '{key}' under "
+                                         "'attributes:' in the experiment spec")
                 known = ", ".join(sorted(k for k in values if k != "attributes"))
-                raise InputFileError(
-                    f"{source}:{lineno}: unknown placeholder {{{{ {name} }}}}; known "
-                    f"placeholders: {known}, attributes.<name>"
-                )
+                raise InputFileError(f"{where} is not a known placeholder; known "
+                                     f"placeholders: {known}, attributes.<name>")
+            if isinstance(value, Unavailable):
+                raise InputFileError(f"{where} has no value: {value.reason}")
             try:
                 return format(value, fmt) if fmt else _plain(value)
             except (TypeError, ValueError):
@@ -106,6 +119,9 @@ def render_text(text: str, values: Mapping[str, object], source: str = "<templat
                     f"{source}:{lineno}: format {fmt!r} does not apply to {name} = {value!r}"
                 ) from None
 
+        if "{{" in _PLACEHOLDER_RE.sub("", line):
+            raise InputFileError(f"{source}:{lineno}: a placeholder is not closed or not "
+                                 "well formed; write {{ name }} or {{ name:.6f }}")
         out_lines.append(_PLACEHOLDER_RE.sub(substitute, line))
     return "".join(out_lines)
 

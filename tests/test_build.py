@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import re
 from pathlib import Path
 
 import numpy as np
@@ -21,7 +22,7 @@ from cf_checker import assert_cf_compliant
 
 from bcgen.build import build
 from bcgen.cli import main
-from bcgen.errors import OutputError
+from bcgen.errors import InputFileError, OutputError
 from bcgen.spec import load_spec, parse_spec_text
 
 CONFIGS = Path(__file__).resolve().parent.parent / "configs"
@@ -253,3 +254,74 @@ def test_other_grids_and_calendars_pass_the_cf_checker(tmp_path, name):
             # Daily means do not depend on longitude.
             spread = ds.insolation.max("lon") - ds.insolation.min("lon")
             assert float(spread.max()) == 0.0
+
+
+def test_gas_amounts_are_written_as_the_protocol_prints_them(built):
+    # PMIP4-CMIP6 protocol gases (published-values.md §1.1), read back exactly: the conversion
+    # to a mole fraction and back must not leave 284.29999999999995 for 284.3.
+    expected = {"piControl": (284.3, 808.2, 273.0), "midHolocene": (264.4, 597, 262),
+                "lig127k": (275, 685, 255), "lgm": (190, 375, 200)}
+    for name, (co2, ch4, n2o) in expected.items():
+        result, folder = built[name]
+        path = next(folder / f["file"] for f in result.files
+                    if f["product"] == "greenhouse_gases")
+        with xr.open_dataset(path) as ds:
+            assert (float(ds.co2), float(ds.ch4), float(ds.n2o)) == (co2, ch4, n2o), name
+
+
+TEMPLATE_SPEC = """
+experiment: {{name: tmpl}}
+epoch: 6ka
+greenhouse_gases: {{co2: {{value: 264.4, units: ppm}}}}
+templates: [{template}]
+products: [orbit, templates]
+"""
+
+
+def test_a_template_needing_an_unset_gas_is_refused_before_anything_is_written(tmp_path):
+    spec = parse_spec_text(TEMPLATE_SPEC.format(template="summary_json"))
+    with pytest.raises(InputFileError, match=r"ch4_ppb \}\} has no value: the spec sets no "
+                                             r"greenhouse_gases\.ch4"):
+        build(spec, tmp_path / "out")
+    assert not (tmp_path / "out").exists() or not any((tmp_path / "out").iterdir())
+
+
+def test_unclosed_placeholder_in_a_user_template_is_an_error(tmp_path):
+    (tmp_path / "mine.nml.in").write_text("&orbit\n  e = {{ eccentricity\n/\n")
+    spec = parse_spec_text(TEMPLATE_SPEC.format(template="mine.nml.in"), base_dir=tmp_path)
+    with pytest.raises(InputFileError, match=r"mine\.nml\.in:2: a placeholder is not closed"):
+        build(spec, tmp_path / "out")
+
+
+def test_user_template_renders_values_in_both_perihelion_conventions(tmp_path):
+    (tmp_path / "mine.nml.in").write_text(
+        "varpi = {{ perihelion_longitude_deg:.2f }}\nlambda_p = "
+        "{{ sun_longitude_at_perihelion_deg:.2f }}\nco2 = {{ co2_ppm }}\n")
+    spec = parse_spec_text(TEMPLATE_SPEC.format(template="mine.nml.in"), base_dir=tmp_path)
+    result = build(spec, tmp_path / "out")
+    text = (tmp_path / "out" / next(f["file"] for f in result.files
+                                     if f["product"] == "templates")).read_text()
+    # PMIP4 midHolocene: perihelion - 180 = 0.87 (published-values.md §1.1); the Sun's
+    # longitude at perihelion is that + 180 (ARCHITECTURE.md conventions).
+    assert text == "varpi = 0.87\nlambda_p = 180.87\nco2 = 264.4\n"
+
+
+def test_metadata_template_sets_global_attributes_of_every_file(tmp_path):
+    attrs = ("{institution: 'Example Institute (fictional)', contact: a@example.org, "
+             "further_info_url: 'https://example.org', institution_id: EX, license: CC-BY-4.0, "
+             "license_id: CC BY 4.0, mip_era: CMIP6, nominal_resolution: 10000 km, "
+             "source_id: EX-1, references: 'a reference'}")
+    spec = parse_spec_text(
+        "experiment: {name: meta}\nepoch: 6ka\nattribute_templates: [cmip_attributes]\n"
+        f"grid: {{kind: zonal, resolution_deg: 30}}\nattributes: {attrs}\n"
+        "products: [orbit, monthly_insolation_fixed_angle]\n")
+    result = build(spec, tmp_path)
+    for record in result.files:
+        assert_cf_compliant(tmp_path / record["file"])
+        with xr.open_dataset(tmp_path / record["file"]) as ds:
+            # input4MIPs conventions (published-values.md §3): activity_id and a handle-style
+            # tracking_id; the spec's own attributes win over the template's.
+            assert ds.attrs["activity_id"] == "input4MIPs"
+            assert re.fullmatch(r"hdl:21\.14100/[0-9a-f-]{36}", ds.attrs["tracking_id"])
+            assert ds.attrs["institution"] == "Example Institute (fictional)"
+            assert "Berger" in ds.attrs["references"]

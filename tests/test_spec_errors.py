@@ -143,7 +143,7 @@ CASES = [
         v("epoch: 6ka", "epoc: 6ka"),
         "bad.yaml:3:1: epoc: unknown key; expected one of experiment, epoch, transient, orbit, "
         "solar_constant_wm2, greenhouse_gases, calendar, grid, insolation, products, "
-        "timestep_table, templates, output, attributes (did you mean 'epoch'?)",
+        "timestep_table, templates, attribute_templates, output, attributes (did you mean 'epoch'?)",
     ),
     (
         "unknown_calendar_key",

@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import datetime, timezone
 from functools import cached_property
+from pathlib import Path
 
 import numpy as np
 
@@ -114,7 +115,7 @@ class BuildContext:
         return total / 2.0
 
     def attributes(self, title: str) -> dict[str, str]:
-        """Global attributes of one file: provenance, the spec's own attributes."""
+        """Return the global attributes of one file: provenance, templates, the spec's own."""
         spec = self.spec
         extra = dict(spec.attributes)
         institution = extra.pop("institution", None)
@@ -143,6 +144,42 @@ class BuildContext:
         if spec.sha256:
             attrs["bcgen_spec_sha256"] = spec.sha256
         attrs["bcgen_version"] = __version__
+        # Metadata templates add to (and may replace) bcgen's attributes; the spec's own
+        # attributes win over both.
+        attrs.update(self.template_attributes)
+        if institution:
+            attrs["institution"] = institution
+        attrs.update(extra)
+        return attrs
+
+    @cached_property
+    def template_attributes(self) -> dict[str, str]:
+        """Global attributes from the spec's metadata templates (``attribute_templates``).
+
+        Each template renders to a JSON object of attribute names and values; values are
+        written as text (numbers as written in the JSON).
+        """
+        import json
+
+        from bcgen.build.values import template_values
+        from bcgen.errors import InputFileError
+        from bcgen.render import bundled_template_path, render_file
+
+        attrs: dict[str, str] = {}
+        values = template_values(self) if self.spec.attribute_templates else {}
+        for ref in self.spec.attribute_templates:
+            path = bundled_template_path(ref.name) if ref.name is not None else Path(ref.path)
+            text = render_file(path, values)
+            try:
+                table = json.loads(text)
+            except json.JSONDecodeError as exc:
+                raise InputFileError(f"{path}:{exc.lineno}: a metadata template must render to "
+                                     f"a JSON object of attributes ({exc.msg})") from None
+            if not isinstance(table, dict):
+                raise InputFileError(f"{path}: a metadata template must render to a JSON "
+                                     "object of attributes, not a list or a value")
+            attrs.update({str(k): v if isinstance(v, str) else json.dumps(v)
+                          for k, v in table.items()})
         return attrs
 
     @property

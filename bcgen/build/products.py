@@ -17,8 +17,8 @@ from pathlib import Path
 import numpy as np
 import xarray as xr
 
-from bcgen import __version__
 from bcgen.build.context import BuildContext
+from bcgen.build.values import in_units, template_values
 from bcgen.cf import variable_attrs
 from bcgen.errors import SpecError
 from bcgen.insolation import daily_insolation, instantaneous_insolation, monthly_insolation
@@ -113,7 +113,7 @@ def greenhouse_gas_product(ctx: BuildContext) -> list[Output]:
             if not gas.standard_name:
                 attrs.pop("standard_name")
         attrs["units_in_spec"] = gas.units
-        ds[gas.name] = ((), gas.mole_fraction * factor, attrs)
+        ds[gas.name] = ((), in_units(gas.mole_fraction, factor), attrs)
     names = ", ".join(g.name for g in ctx.spec.greenhouse_gases)
     return [Output("greenhouse_gases", _nc_name(ctx, "greenhouse_gases"),
                    f"greenhouse-gas mole fractions ({names})",
@@ -275,56 +275,6 @@ def timestep_table_product(ctx: BuildContext) -> list[Output]:
 
 
 # --- templates ---------------------------------------------------------------------------
-def template_values(ctx: BuildContext) -> dict[str, object]:
-    """Values of every placeholder of :data:`bcgen.render.PLACEHOLDERS`."""
-    o, spec, cal = ctx.orbit, ctx.spec, ctx.calendar
-    gases = {g.name: g.mole_fraction for g in spec.greenhouse_gases}
-    anchor = cal.anchor
-    attributes = dict(spec.attributes)
-    attributes.setdefault("tracking_id", "hdl:21.14100/" + _uuid_from_spec(spec))
-    return {
-        "experiment": spec.experiment.name,
-        "description": spec.experiment.description,
-        "epoch": spec.epoch,
-        "years_bp": float(-spec.years_from_1950),
-        "solution": o.solution,
-        "solution_reference": SOLUTIONS[o.solution].REFERENCE,
-        "eccentricity": float(o.eccentricity),
-        "obliquity_deg": float(o.obliquity_deg),
-        "obliquity_rad": float(o.obliquity_rad),
-        "perihelion_longitude_deg": float(o.perihelion_longitude_deg),
-        "perihelion_longitude_rad": float(o.perihelion_longitude_rad),
-        "sun_longitude_at_perihelion_deg": float(o.sun_longitude_at_perihelion_deg),
-        "sun_longitude_at_perihelion_rad": float(np.deg2rad(o.sun_longitude_at_perihelion_deg)),
-        "precession_index": float(o.precession_index),
-        "solar_constant_wm2": float(spec.solar_constant_wm2),
-        "co2_ppm": _scaled(gases.get("co2"), 1e6),
-        "ch4_ppb": _scaled(gases.get("ch4"), 1e9),
-        "n2o_ppb": _scaled(gases.get("n2o"), 1e9),
-        "calendar": cal.name,
-        "anchor_kind": anchor.kind,
-        "anchor_month": anchor.month,
-        "anchor_day": anchor.day,
-        "anchor_hour": anchor.hour,
-        "anchor_minute": anchor.minute,
-        "anchor_day_of_year": float(cal.anchor_day(ctx.year)),
-        "year_length_days": float(cal.year_length_days(ctx.year)),
-        "bcgen_version": __version__,
-        "creation_date": ctx.created.strftime("%Y-%m-%dT%H:%M:%SZ"),
-        "attributes": attributes,
-    }
-
-
-def _scaled(mole_fraction: float | None, factor: float):
-    return "unset" if mole_fraction is None else round(mole_fraction * factor, 10)
-
-
-def _uuid_from_spec(spec) -> str:
-    import uuid
-
-    return str(uuid.uuid5(uuid.NAMESPACE_URL, "bcgen:" + (spec.sha256 or spec.experiment.name)))
-
-
 def templates_product(ctx: BuildContext) -> list[Output]:
     """Every template of the spec, rendered."""
     values = template_values(ctx)

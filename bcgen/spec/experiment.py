@@ -60,6 +60,9 @@ class ExperimentSpec:
         In the order of the spec.
     grid, timestep_table : section dataclasses or None
     templates : tuple of TemplateRef
+        Text templates rendered by the ``templates`` product.
+    attribute_templates : tuple of TemplateRef
+        Metadata templates: each renders to a JSON object of global attributes.
     attributes : Mapping[str, str]
         Extra global attributes.
     path : pathlib.Path or None
@@ -80,6 +83,7 @@ class ExperimentSpec:
     insolation: InsolationSpec = field(default_factory=InsolationSpec)
     timestep_table: TimestepTableSpec | None = None
     templates: tuple[TemplateRef, ...] = ()
+    attribute_templates: tuple[TemplateRef, ...] = ()
     output: OutputSpec = field(default_factory=OutputSpec)
     attributes: Mapping[str, str] = field(default_factory=dict)
     path: Path | None = None
@@ -89,6 +93,11 @@ class ExperimentSpec:
         object.__setattr__(self, "products", tuple(self.products))
         object.__setattr__(self, "greenhouse_gases", tuple(self.greenhouse_gases))
         object.__setattr__(self, "templates", tuple(self.templates))
+        object.__setattr__(self, "attribute_templates", tuple(self.attribute_templates))
+        if self.attribute_templates and self.transient is not None:
+            raise FieldError("attribute_templates", "metadata templates apply to time-slice "
+                             "builds; a transient run writes bcgen's own attributes and those "
+                             "under 'attributes'")
         self._check_kind_of_run()
         check_number(
             "solar_constant_wm2",

@@ -344,18 +344,8 @@ def _build(values: Mapping, reader: _Reader, path: Path | None, text: str) -> Ex
         if "days" in table:
             table["days"] = tuple(table["days"])
         timestep_table = TimestepTableSpec(**table)
-    templates = []
-    for i, item in enumerate(values.get("templates", ())):
-        try:
-            if re.fullmatch(r"[A-Za-z0-9_-]+", item):
-                templates.append(TemplateRef(name=item))
-            else:
-                file = Path(item).expanduser()
-                templates.append(
-                    TemplateRef(path=file if file.is_absolute() else reader.base_dir / file)
-                )
-        except FieldError as exc:
-            raise _relocate(exc, "templates", f"templates[{i}]") from None
+    templates = _template_refs(values, "templates", reader.base_dir)
+    attribute_templates = _template_refs(values, "attribute_templates", reader.base_dir)
     return ExperimentSpec(
         experiment=ExperimentInfo(**values["experiment"]),
         products=tuple(values["products"]),
@@ -368,7 +358,8 @@ def _build(values: Mapping, reader: _Reader, path: Path | None, text: str) -> Ex
         grid=grid,
         insolation=InsolationSpec(**values.get("insolation", {})),
         timestep_table=timestep_table,
-        templates=tuple(templates),
+        templates=templates,
+        attribute_templates=attribute_templates,
         output=OutputSpec(**values.get("output", {})),
         attributes=dict(values.get("attributes", {})),
         path=path,
@@ -468,3 +459,19 @@ def load_spec(path: str | Path) -> ExperimentSpec:
     if text.startswith("\ufeff"):
         text = text[1:]
     return parse_spec_text(text, str(file), base_dir=file.resolve().parent, path=file)
+
+
+def _template_refs(values: dict, key: str, base_dir: Path) -> tuple[TemplateRef, ...]:
+    """Templates named in ``key``: bundled names, or paths relative to the spec's folder."""
+    refs = []
+    for i, item in enumerate(values.get(key, ())):
+        try:
+            if re.fullmatch(r"[A-Za-z0-9_-]+", item):
+                refs.append(TemplateRef(name=item, key=key))
+            else:
+                file = Path(item).expanduser()
+                refs.append(TemplateRef(path=file if file.is_absolute() else base_dir / file,
+                                        key=key))
+        except FieldError as exc:
+            raise _relocate(exc, key, f"{key}[{i}]") from None
+    return tuple(refs)

@@ -64,24 +64,28 @@ class TimestepTableSpec:
 
 @dataclass(frozen=True)
 class TemplateRef:
-    """A template: a bundled one by ``name``, or the user's own by ``path``."""
+    """A template: a bundled one by ``name``, or the user's own by ``path``.
+
+    ``key`` is the spec key it was given under (``templates`` or ``attribute_templates``).
+    """
 
     name: str | None = None
     path: Path | None = None
+    key: str = "templates"
 
     def __post_init__(self) -> None:
         if (self.name is None) == (self.path is None):
-            raise FieldError("templates", "a template is either a bundled name or a path")
+            raise FieldError(self.key, "a template is either a bundled name or a path")
         if self.name is not None:
             if self.name not in S.BUNDLED_TEMPLATES:
                 raise FieldError(
-                    "templates",
+                    self.key,
                     f"unknown bundled template {self.name!r}; "
                     f"{closest(self.name, S.BUNDLED_TEMPLATES, 'template')}, "
                     "or the path of your own template",
                 )
         else:
-            object.__setattr__(self, "path", existing_file("templates", self.path, "template"))
+            object.__setattr__(self, "path", existing_file(self.key, self.path, "template"))
 
     @property
     def label(self) -> str:

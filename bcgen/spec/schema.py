@@ -42,6 +42,7 @@ from types import MappingProxyType
 from typing import Literal
 
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS
+from bcgen.solar_calendar.calendars import MAX_MODEL_YEAR
 
 KeyType = Literal[
     "string",
@@ -336,7 +337,11 @@ SCHEMA: Mapping[str, Key] = _map(
             start_epoch=Key("epoch", "epoch of the first model year", required=True),
             end_epoch=Key("epoch", "epoch of the last model year", required=True),
             first_model_year=Key(
-                "integer", "the model year that starts the run", default=1, minimum=1
+                "integer",
+                "the model year that starts the run",
+                default=1,
+                minimum=1,
+                maximum=MAX_MODEL_YEAR,
             ),
             acceleration=Key(
                 "integer",
@@ -452,6 +457,7 @@ SCHEMA: Mapping[str, Key] = _map(
                 "use transient.first_model_year)",
                 default=1,
                 minimum=1,
+                maximum=MAX_MODEL_YEAR,
             ),
         ),
     ),
@@ -563,6 +569,15 @@ SCHEMA: Mapping[str, Key] = _map(
     templates=Key(
         "list",
         "templates to render: a bundled name ("
+        + ", ".join(BUNDLED_TEMPLATES)
+        + ") or the path of your own template",
+        item=Key("string", "a template"),
+        min_items=1,
+    ),
+    attribute_templates=Key(
+        "list",
+        "metadata templates: each renders to a JSON object of global attributes that is "
+        "added to every NetCDF file of a time-slice build; a bundled name ("
         + ", ".join(BUNDLED_TEMPLATES)
         + ") or the path of your own template",
         item=Key("string", "a template"),
