@@ -15,13 +15,18 @@ years CE / AD      ``1850CE``, ``1850 AD``        -100
 years BCE / BC     ``4050 BCE``                   -5999
 =================  =============================  ====================
 
+A number of years alone (``1850 yr``, ``6000 a``) is a duration, as ambiguous
+as a bare number (1850 CE? 1850 BP?), and is refused as an epoch; with ``BP``
+(``500 yr BP``) it is an age. Epochs beyond :data:`MAX_EPOCH_YEARS` (10⁹
+years, about a quarter of the age of the Earth) from 1950 CE are refused.
+
 CE/BCE years follow historical reckoning, which has no year 0: 1 BCE is
 followed by 1 CE, so ``N BCE`` is the astronomical year ``1 - N`` and lies
 ``N + 1949`` years before 1950 CE (``4050 BCE`` = 5999 BP; 6000 BP is 4051 BCE).
 
-A range for transient work is written ``START..END/STEP`` with each part an
-epoch or duration, for example ``130ka..115ka/1ka`` or ``1850CE..2000CE/10yr``;
-both ends are included when the step divides the span.
+A range for transient work is written ``START..END/STEP`` with START and END
+epochs and STEP a duration, for example ``130ka..115ka/1ka`` or
+``1850CE..2000CE/10yr``; both ends are included when the step divides the span.
 """
 
 from __future__ import annotations
@@ -33,11 +38,16 @@ import numpy as np
 
 from bcgen.errors import EpochError
 
-ACCEPTED_FORMS = (
+#: The forms of one epoch, for messages and help texts.
+EPOCH_FORMS = (
     "'6ka' or '6 ka BP' (thousands of years before 1950 CE), '3.2Ma' (millions of years BP), "
-    "'21000 BP' (years before 1950 CE), '1850CE' or '1850 AD', '4050 BCE' or '4050 BC', "
-    "and ranges 'START..END/STEP' such as '130ka..115ka/1ka'"
+    "'21000 BP' (years before 1950 CE), '1850CE' or '1850 AD', '4050 BCE' or '4050 BC'"
 )
+#: The forms of one epoch and of a range of epochs.
+ACCEPTED_FORMS = f"{EPOCH_FORMS}, and ranges 'START..END/STEP' such as '130ka..115ka/1ka'"
+
+#: Largest distance of an epoch from 1950 CE, in years (about a quarter of the Earth's age).
+MAX_EPOCH_YEARS = 1e9
 
 _NUMBER = r"(?P<num>[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)"
 _EPOCH_RE = re.compile(
@@ -47,8 +57,8 @@ _EPOCH_RE = re.compile(
 _DURATION_SCALE = {"yr": 1.0, "a": 1.0, "ka": 1e3, "kyr": 1e3, "ma": 1e6, "myr": 1e6}
 
 
-def _fail(text: str, why: str) -> EpochError:
-    return EpochError(f"cannot read epoch {text!r}: {why}; accepted forms: {ACCEPTED_FORMS}")
+def _fail(text: str, why: str, forms: str = ACCEPTED_FORMS) -> EpochError:
+    return EpochError(f"cannot read epoch {text!r}: {why}; accepted forms: {forms}")
 
 
 def parse_epoch(text: str) -> float:
@@ -68,12 +78,16 @@ def parse_epoch(text: str) -> float:
     Raises
     ------
     EpochError
-        For a bare number (ambiguous), an unknown unit or an empty string.
+        For a bare number or a bare number of years such as ``"1850 yr"``
+        (ambiguous), an unknown unit, an empty string, a range, or an epoch
+        more than :data:`MAX_EPOCH_YEARS` from 1950 CE.
     """
     if not isinstance(text, str):
         raise _fail(
             str(text), "an epoch must be a string with its reference (a bare number is ambiguous)"
         )
+    if ".." in text:
+        raise _fail(text, "one epoch is expected here, not a range", EPOCH_FORMS)
     match = _EPOCH_RE.match(text)
     if not match:
         raise _fail(text, "not an epoch")
@@ -86,16 +100,28 @@ def parse_epoch(text: str) -> float:
         raise _fail(text, "a bare number is ambiguous (years BP? CE? a model year?)")
     if unit in ("bp", "ce", "ad", "bce", "bc") and trailing_bp:
         raise _fail(text, f"'{unit.upper()} BP' mixes two references")
+    if unit in ("yr", "a") and not trailing_bp:
+        raise _fail(
+            text,
+            f"a number of years alone is a duration, as ambiguous as a bare number "
+            f"(write '{match['num']} {match['unit']} BP' for years before 1950 CE, or a CE year)",
+        )
     if unit in _DURATION_SCALE or unit == "bp":
         if value < 0:
             raise _fail(text, "an age before present cannot be negative; write a CE year instead")
-        return -value * _DURATION_SCALE.get(unit, 1.0) + 0.0  # + 0.0: no -0.0
-    if value != int(value) or value < 1:
+        years = -value * _DURATION_SCALE.get(unit, 1.0) + 0.0  # + 0.0: no -0.0
+    elif value != int(value) or value < 1:
         raise _fail(text, "CE and BCE years are whole numbers from 1 (there is no year 0)")
-    if unit in ("ce", "ad"):
-        return value - 1950.0
-    # BCE / BC: historical N BCE is astronomical year 1 - N.
-    return (1.0 - value) - 1950.0
+    elif unit in ("ce", "ad"):
+        years = value - 1950.0
+    else:
+        # BCE / BC: historical N BCE is astronomical year 1 - N.
+        years = (1.0 - value) - 1950.0
+    if not abs(years) <= MAX_EPOCH_YEARS:  # also catches an overflow to infinity
+        raise _fail(
+            text, f"the epoch is more than {MAX_EPOCH_YEARS:,.0f} years from 1950 CE", EPOCH_FORMS
+        )
+    return years
 
 
 def parse_duration(text: str) -> float:
@@ -104,6 +130,8 @@ def parse_duration(text: str) -> float:
     if not m:
         raise _fail(text, "a step must be a duration such as '1ka', '500yr' or '10yr'")
     years = float(m["num"]) * _DURATION_SCALE[m["unit"].lower()]
+    if not np.isfinite(years):
+        raise _fail(text, "the step is too large")
     if years <= 0:
         raise _fail(text, "a step must be positive")
     return years

@@ -63,3 +63,7 @@ class OutsideValidityWarning(BcgenWarning):
 
 class DeprecatedCalendarNameWarning(BcgenWarning):
     """A deprecated CF calendar name (``gregorian``) that was read as its current name."""
+
+
+class ImplausibleValueWarning(BcgenWarning):
+    """A value far outside the range expected for the Earth, probably in the wrong unit."""

@@ -185,6 +185,30 @@ def test_year_zero():
         ModelCalendar("julian").year_length_days(0)
 
 
+@pytest.mark.parametrize("name", CANONICAL)
+@pytest.mark.parametrize("year", [10**20, -(10**20), 2**31, 1_000_001, -1_000_001])
+def test_model_years_beyond_a_million_are_refused_with_one_line(name, year):
+    # cftime cannot count years beyond a C long (OverflowError, observed with cftime 1.6);
+    # bcgen stops at +-1 000 000 with its own one-line error instead of a traceback.
+    calendar = ModelCalendar(name)
+    for method in (calendar.is_leap, calendar.year_length_days, calendar.month_starts_days,
+                   calendar.anchor_day):
+        with pytest.raises(CalendarError,
+                           match=r"^model year must be a whole number from -1000000 to 1000000; "
+                                 rf"got {year}$"):
+            method(year)
+
+
+@pytest.mark.parametrize("name", CANONICAL)
+def test_model_years_up_to_a_million_work(name):
+    # Year lengths of the CF calendars (CF 1.13 Table 4.1): 1 000 000 is divisible by 400, so
+    # a leap year in julian and Gregorian; 360/365/366 in the fixed-length calendars.
+    expected = {"noleap": 365, "all_leap": 366, "360_day": 360}.get(name, 366)
+    calendar = ModelCalendar(name)
+    assert calendar.year_length_days(1_000_000) == expected
+    assert calendar.year_length_days(-1_000_000) in (360, 365, 366)
+
+
 # --- leap-year rule ---------------------------------------------------------------------------
 def test_orbital_year_containing_29_february_is_366_days():
     # The rule of this module (docstring): anchored every year, so the anchor-to-anchor

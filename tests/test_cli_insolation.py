@@ -129,12 +129,63 @@ def test_equinox_and_calendar_options(capsys):
         (["6ka", "--lat", "10", "--calendar", "lunar"], "--calendar: unknown calendar 'lunar'"),
         (["6ka", "--lat", "10", "--equinox", "21 March"], "--equinox: cannot read '21 March'"),
         (["6000", "--lat", "10"], "a bare number is ambiguous"),
+        # NaN is no latitude; the message names the option, not the API's argument.
+        (["6ka", "--lat", "nan"], "bcgen: error: --lat: latitudes must be in [-90, 90] degrees "
+                                  "north; got nan"),
+        (["6ka", "--lat", "10", "nan"], "--lat: latitudes must be in [-90, 90]"),
+        (["6ka..0ka/1ka", "--lat", "10"], "EPOCH: bcgen insolation takes one epoch"),
+        (["6ka", "--lat", "10", "--year", "99999999999999999999"],
+         "--year: model year must be a whole number from -1000000 to 1000000"),
+        (["6ka", "--lat", "10", "--calendar", "standard", "--equinox", "10-10 00:00", "--year",
+          "1582"], "--equinox: date 1582-10-10 00:00 does not exist in calendar standard"),
     ],
 )
 def test_errors_are_one_line(capsys, argv, message):
     status, out, err = run(capsys, *argv)
     assert status == 2 and out == ""
     assert message in one_error_line(err)
+
+
+@pytest.mark.parametrize(("epoch", "years_bp"),
+                         [("6 ka BP", 6000.0), ("4051 BCE", 6000.0), ("1850CE", 100.0)])
+def test_json_keeps_the_epoch_as_given_like_bcgen_orbit(capsys, epoch, years_bp):
+    # 6000 BP is 4051 BCE (historical reckoning has no year 0; common practice).
+    status, out, _ = run(capsys, epoch, "--lat", "65", "--format", "json")
+    assert status == 0
+    record = json.loads(out)
+    assert record["epoch"] == epoch
+    assert record["years_bp"] == years_bp and record["years_from_1950"] == -years_bp
+    main(["orbit", epoch, "--format", "json"])
+    (orbit_record,) = json.loads(capsys.readouterr().out)
+    assert orbit_record["epoch"] == record["epoch"]
+    assert orbit_record["years_bp"] == record["years_bp"]
+
+
+@pytest.mark.parametrize("solution", ["berger1978", "table", "fixed"])
+def test_there_is_no_solution_option(capsys, solution):
+    # The orbit is always berger1978 here: table and fixed need values this command lacks.
+    with pytest.raises(SystemExit) as exc:
+        main(["insolation", "6ka", "--lat", "10", "--solution", solution])
+    assert exc.value.code == 2
+    assert "unrecognized arguments: --solution" in one_error_line(capsys.readouterr().err)
+
+
+def test_reference_orbit_is_berger1978(capsys):
+    _, out, _ = run(capsys, "127ka", "--lat", "65", "--months", "fixed-angle", "--reference",
+                    "1850CE", "--format", "json")
+    record = json.loads(out)
+    assert record["orbit"]["solution"] == record["reference_orbit"]["solution"] == "berger1978"
+    # piControl orbit (published-values.md §1.1): e = 0.016764, perihelion - 180 = 100.33.
+    assert round(record["reference_orbit"]["eccentricity"], 6) == 0.016764
+    assert round(record["reference_orbit"]["perihelion_longitude_deg"], 2) == 100.33
+
+
+def test_help_says_the_orbit_is_berger1978_and_has_no_solution_option(capsys):
+    with pytest.raises(SystemExit):
+        main(["insolation", "--help"])
+    out = " ".join(capsys.readouterr().out.split())
+    assert "--solution" in out  # named only to say there is none
+    assert "always use the berger1978 solution" in out and "no --solution option" in out
 
 
 def test_lat_is_required(capsys):

@@ -112,7 +112,30 @@ def test_text_table_states_units_and_conventions(capsys):
             "--equinox: anchor date 02-30 12:00 does not exist in calendar noleap",
         ),
         (["6ka", "--calendar", "julian", "--year", "0"], "--year: year 0 does not exist"),
-        (["6ka", "--solution", "laskar"], "--solution: unknown orbital solution 'laskar'"),
+        # The orbit is always berger1978 here: --solution is not an option of bcgen months.
+        (["6ka", "--solution", "table"], "unrecognized arguments: --solution table"),
+        (
+            ["6ka", "--year", "99999999999999999999"],
+            "--year: model year must be a whole number from -1000000 to 1000000",
+        ),
+        (
+            ["6ka..0ka/1ka"],
+            "EPOCH: bcgen months takes one epoch, not the range '6ka..0ka/1ka'",
+        ),
+        (
+            ["6ka", "--reference", "1ka..0ka/1ka"],
+            "--reference: bcgen months takes one epoch, not the range '1ka..0ka/1ka'",
+        ),
+        # The standard calendar skips 1582-10-05 to 1582-10-14 (CF 1.13 section 4.4.3,
+        # Table 4.1): an anchor on 10 October exists in other years but not in 1582.
+        (
+            ["6ka", "--calendar", "standard", "--equinox", "10-10 00:00", "--year", "1582"],
+            "--equinox: date 1582-10-10 00:00 does not exist in calendar standard",
+        ),
+        (
+            ["6ka", "--calendar", "standard", "--perihelion-date", "10-10", "--year", "1583"],
+            "--perihelion-date: date 1582-10-10 00:00 does not exist in calendar standard",
+        ),
         (["6ka", "--equinox", "03-21", "--perihelion-date", "01-03"], "not allowed with"),
     ],
 )
@@ -125,6 +148,17 @@ def test_errors_are_one_line_with_status_2(capsys, argv, message):
     err = capsys.readouterr().err
     assert err.startswith("bcgen: error: ") and err.count("\n") == 1
     assert message in err
+
+
+def test_orbits_are_berger1978_and_help_says_so(capsys):
+    assert main(["months", "127ka", "--reference", "1850CE"]) == 0
+    out = capsys.readouterr().out
+    assert "# orbit (berger1978): eccentricity 0.039378" in out  # lig127k (published-values §1.1)
+    assert "# reference orbit (berger1978): eccentricity 0.016764" in out  # piControl (§1.1)
+    with pytest.raises(SystemExit):
+        main(["months", "--help"])
+    text = " ".join(capsys.readouterr().out.split())
+    assert "always use the berger1978 solution" in text and "no --solution option" in text
 
 
 def test_30_february_is_valid_in_360_day(capsys):

@@ -202,6 +202,34 @@ def test_bad_epoch_is_one_line_with_status_2(capsys, epoch):
     assert "accepted forms" in line and "1850CE" in line
 
 
+@pytest.mark.parametrize(
+    ("epoch", "why"),
+    [
+        ("1e30ka", "more than 1,000,000,000 years from 1950 CE"),
+        ("1e306ka", "more than 1,000,000,000 years from 1950 CE"),
+        ("1850 yr", "a number of years alone is a duration"),
+        ("6000 a", "a number of years alone is a duration"),
+    ],
+)
+def test_absurd_and_ambiguous_epochs_are_errors_not_results(capsys, epoch, why):
+    status, out, err = run(capsys, epoch)
+    assert status == 2 and out == ""
+    assert why in one_error_line(err)
+
+
+@pytest.mark.parametrize("value", ["inf", "-inf", "nan"])
+def test_non_finite_fixed_perihelion_is_one_line(capsys, value):
+    status, out, err = run(
+        capsys, "6ka", "--solution", "fixed", "--eccentricity", "0.018682", "--obliquity-deg",
+        "24.105", f"--perihelion-deg={value}", "--perihelion-convention", "perihelion_longitude",
+    )
+    assert status == 2 and out == ""
+    line = one_error_line(err)  # no numpy RuntimeWarning line before it
+    assert line == (
+        f"bcgen: error: --perihelion-deg: longitude of perihelion must be finite; got {value}"
+    )
+
+
 def test_debug_shows_the_traceback():
     with pytest.raises(EpochError):
         main(["--debug", "orbit", "6000"])

@@ -5,7 +5,14 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from bcgen.epochs import epoch_labels, format_epoch, parse_duration, parse_epoch, parse_epochs
+from bcgen.epochs import (
+    MAX_EPOCH_YEARS,
+    epoch_labels,
+    format_epoch,
+    parse_duration,
+    parse_epoch,
+    parse_epochs,
+)
 from bcgen.errors import BcgenError, EpochError
 
 
@@ -85,6 +92,52 @@ def test_bare_number_is_refused_with_the_accepted_forms():
 def test_bad_epochs_are_refused(text, why):
     with pytest.raises(EpochError, match=why):
         parse_epoch(text)
+
+
+@pytest.mark.parametrize("text", ["1850 yr", "6000 a", "6000 yr", "21000yr", "6000 A"])
+def test_a_bare_number_of_years_is_refused_as_an_epoch(text):
+    # A number of years alone is a duration: '1850 yr' may be read as 1850 CE or 1850 BP, as
+    # ambiguous as a bare number (common practice: an age carries "BP" or "ka").
+    with pytest.raises(EpochError, match="a number of years alone is a duration") as info:
+        parse_epoch(text)
+    message = str(info.value)
+    assert "\n" not in message and "accepted forms:" in message
+    for form in ("6ka", "21000 BP", "1850CE", "4050 BCE"):
+        assert form in message
+
+
+@pytest.mark.parametrize(("text", "years"), [("500 yr BP", -500.0), ("6000 a BP", -6000.0)])
+def test_years_with_bp_stay_epochs_and_durations_stay_steps(text, years):
+    assert parse_epoch(text) == years
+    assert parse_duration("6000 a") == 6000.0
+    np.testing.assert_array_equal(parse_epochs("1850CE..1870CE/10yr"), [-100.0, -90.0, -80.0])
+
+
+@pytest.mark.parametrize(
+    "text", ["1e306ka", "1e30ka", "2e9 BP", "1.5e6Ma", "10000000000 CE", "1e305Ma"]
+)
+def test_absurd_epochs_are_refused(text):
+    # 1e306 ka overflows to infinity; anything beyond 1e9 years (a quarter of the age of the
+    # Earth, 4.54 Gyr: Dalrymple 2001, from memory) is no epoch of a climate experiment.
+    with pytest.raises(EpochError, match="more than 1,000,000,000 years from 1950 CE") as info:
+        parse_epoch(text)
+    assert "\n" not in str(info.value)
+
+
+def test_the_epoch_bound_is_inclusive():
+    assert parse_epoch("1e9 BP") == -MAX_EPOCH_YEARS == -1e9
+    assert parse_epoch("1000Ma") == -1e9
+
+
+def test_a_range_where_one_epoch_is_expected_says_so():
+    with pytest.raises(EpochError, match="one epoch is expected here, not a range") as info:
+        parse_epoch("6ka..0ka/1ka")
+    assert "START..END" not in str(info.value)  # ranges are not among the forms offered
+
+
+def test_an_infinite_step_is_refused():
+    with pytest.raises(EpochError, match="the step is too large"):
+        parse_duration("1e400yr")
 
 
 def test_range_includes_both_ends():

@@ -5,6 +5,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+import bcgen.solar_calendar.months as months_module
 from bcgen.errors import BcgenError
 from bcgen.orbit import OrbitalElements, solve
 from bcgen.solar_calendar import Anchor, ModelCalendar, SolarYear
@@ -161,6 +162,30 @@ def test_months_are_slowest_in_arc_near_aphelion(epoch):
     peri = float(orb.sun_longitude_at_perihelion_deg)
     assert abs(wrap_deg(mid[np.argmin(days_per_degree)] - peri)) < 20.0  # half a month's arc
     assert abs(wrap_deg(mid[np.argmax(days_per_degree)] - peri - 180.0)) < 20.0
+
+
+def test_leap_year_sums_stated_in_the_docstring():
+    # The module docstring ("Year length") quotes one example and two bounds; they must be what
+    # the code gives. A leap day shared unevenly between two orbital years cannot shift one
+    # year's sum by a whole day (leap-year rule of bcgen.solar_calendar.calendars).
+    doc = " ".join(months_module.__doc__.split())
+    example = fixed_angle_months(
+        solve(-127000.0), ModelCalendar("julian", Anchor("perihelion", 1, 3)), solve(0.0), year=4
+    ).length_days.sum()
+    assert 365.4 < example < 366.0
+    assert f"{example:.2f} days instead of 366 in ``julian`` year 4 at 127 ka" in doc
+    assert "within about 0.15 day with a March-equinox anchor" in doc
+    assert "within about 0.6 day with a perihelion anchor" in doc
+    # The bounds on a coarser sample of the stated range (0-1000 ka every 25 kyr, years 1-5).
+    orbit = solve(-np.arange(0.0, 1_000_001.0, 25_000.0))
+    for anchor, bound in ((Anchor(), 0.15), (Anchor("perihelion", 7, 4), 0.6),
+                          (Anchor("perihelion", 1, 3), 0.6)):
+        calendar = ModelCalendar("julian", anchor)
+        for year in range(1, 6):
+            for reference in (solve(0.0), solve(-100.0)):
+                table = fixed_angle_months(orbit, calendar, reference, year=year)
+                deviation = table.length_days.sum(axis=-1) - calendar.year_length_days(year)
+                assert np.all(np.abs(deviation) < bound)
 
 
 def test_cf_example_126_kyr_month_lengths():

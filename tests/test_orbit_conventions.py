@@ -1,6 +1,7 @@
 """Perihelion conventions, OrbitalElements, and the table and fixed solutions."""
 
 import dataclasses
+import warnings
 
 import netCDF4
 import numpy as np
@@ -149,6 +150,35 @@ def test_fixed_never_guesses_the_convention():
             perihelion_deg=102.0,
             perihelion_convention="pmip",
         )
+
+
+@pytest.mark.parametrize("value", [np.inf, -np.inf, np.nan])
+@pytest.mark.parametrize("convention", list(PERIHELION_CONVENTIONS))
+def test_non_finite_perihelion_is_refused_before_any_arithmetic(value, convention):
+    # One error, no numpy RuntimeWarning ("invalid value encountered in remainder") first:
+    # warnings are turned into errors here, so a warning would fail the test.
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        with pytest.raises(OrbitError, match=r"^longitude of perihelion must be finite; got"):
+            convert_perihelion(value, convention, "perihelion_longitude")
+        with pytest.raises(OrbitError, match=r"^longitude of perihelion must be finite; got"):
+            bcgen.solve(0.0, "fixed", eccentricity=0.0167, obliquity_deg=23.4,
+                        perihelion_deg=value, perihelion_convention=convention)
+        with pytest.raises(OrbitError, match=r"^longitude of perihelion is too large; got 1e\+308"):
+            convert_perihelion(1e308, convention, "perihelion_longitude", "rad", "deg")
+
+
+def test_table_with_an_infinite_perihelion_names_the_file(tmp_path):
+    path = write_csv(
+        tmp_path / "orbit.csv",
+        ["age_ka_bp", "eccentricity", "obliquity_deg", "perihelion_longitude_deg"],
+        [[1, 0.01, 23, 0], [2, 0.01, 23, "inf"]],
+    )
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        with pytest.raises(InputFileError,
+                           match=r"orbit.csv: longitude of perihelion must be finite; got inf"):
+            bcgen.solve(-1000.0, "table", path=path)
 
 
 # --- table --------------------------------------------------------------------------------

@@ -485,3 +485,30 @@ def test_bundled_template_names_are_the_shipped_ones():
     assert set(S.BUNDLED_TEMPLATES) == set(BUNDLED)
     for name in S.BUNDLED_TEMPLATES:
         assert bundled_template_path(name).is_file(), name
+
+
+@pytest.mark.parametrize(
+    ("line", "key"),
+    [
+        ("solar_constant_wm2: 1.361", "solar_constant_wm2"),  # kW m-2 instead of W m-2
+        ("greenhouse_gases: {co2: {value: 280, units: ppb}}", "greenhouse_gases.co2"),  # ppb
+        ("greenhouse_gases: {ch4: {value: 0.7, units: ppm}}", None),  # 700 ppb: plausible
+    ],
+)
+def test_values_in_a_probably_wrong_unit_give_a_warning(line, key):
+    # Common practice: S0 of the Earth ~1361 W m-2 (Matthes et al. 2017; a faint young Sun
+    # ~70 % of it), CO2 of the Phanerozoic within ~100-10000 ppm (from memory).
+    import warnings
+
+    from bcgen.errors import ImplausibleValueWarning
+    from bcgen.spec import parse_spec_text
+
+    text = f"experiment: {{name: x}}\nepoch: 6ka\n{line}\nproducts: [orbit]\n"
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        parse_spec_text(text)
+    found = [w for w in caught if issubclass(w.category, ImplausibleValueWarning)]
+    if key is None:
+        assert not found
+    else:
+        assert len(found) == 1 and str(found[0].message).startswith(f"{key}: ")

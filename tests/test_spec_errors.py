@@ -143,7 +143,8 @@ CASES = [
         v("epoch: 6ka", "epoc: 6ka"),
         "bad.yaml:3:1: epoc: unknown key; expected one of experiment, epoch, transient, orbit, "
         "solar_constant_wm2, greenhouse_gases, calendar, grid, insolation, products, "
-        "timestep_table, templates, attribute_templates, output, attributes (did you mean 'epoch'?)",
+        "timestep_table, templates, attribute_templates, output, attributes "
+        "(did you mean 'epoch'?)",
     ),
     (
         "unknown_calendar_key",
@@ -525,6 +526,38 @@ CASES = [
         TRANSIENT.replace(DATE_LINE, "  model_year: 5"),
         "bad.yaml:8:15: calendar.model_year: a transient run starts at "
         "transient.first_model_year; remove calendar.model_year",
+    ),
+    (
+        # cftime fails with an OverflowError beyond a C long; bcgen bounds model years at 1e6.
+        "model_year_too_large",
+        v(DATE_LINE, DATE_LINE + "\n  model_year: 99999999999999999999"),
+        "bad.yaml:9:15: calendar.model_year: expected a whole number in [1, 1e+06], got "
+        "99999999999999999999",
+    ),
+    (
+        "first_model_year_too_large",
+        v("epoch: 6ka", "transient: {start_epoch: 130ka, end_epoch: 115ka, "
+          "first_model_year: 1000001}"),
+        "bad.yaml:3:69: transient.first_model_year: expected a whole number in [1, 1e+06], got "
+        "1000001",
+    ),
+    (
+        "epoch_bare_years",
+        v("epoch: 6ka", "epoch: 1850 yr"),
+        "bad.yaml:3:8: epoch: cannot read epoch '1850 yr': a number of years alone is a "
+        "duration, as ambiguous as a bare number (write '1850 yr BP' for years before 1950 CE, "
+        "or a CE year); accepted forms: '6ka' or '6 ka BP' (thousands of years before 1950 CE), "
+        "'3.2Ma' (millions of years BP), '21000 BP' (years before 1950 CE), '1850CE' or "
+        "'1850 AD', '4050 BCE' or '4050 BC', and ranges 'START..END/STEP' such as "
+        "'130ka..115ka/1ka'",
+    ),
+    (
+        "epoch_absurd",
+        v("epoch: 6ka", "epoch: 1e306ka"),
+        "bad.yaml:3:8: epoch: cannot read epoch '1e306ka': the epoch is more than 1,000,000,000 "
+        "years from 1950 CE; accepted forms: '6ka' or '6 ka BP' (thousands of years before "
+        "1950 CE), '3.2Ma' (millions of years BP), '21000 BP' (years before 1950 CE), '1850CE' "
+        "or '1850 AD', '4050 BCE' or '4050 BC'",
     ),
     (
         "transient_expected",

@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import argparse
 
-from bcgen.epochs import parse_epoch
-from bcgen.errors import CalendarError, EpochError, OrbitError
-from bcgen.orbit import SOLUTIONS, OrbitalElements, solve
+from bcgen.epochs import EPOCH_FORMS, parse_epoch
+from bcgen.errors import CalendarError, EpochError
+from bcgen.orbit import OrbitalElements, solve
 from bcgen.solar_calendar.calendars import (
     CALENDARS,
     ModelCalendar,
@@ -18,6 +18,19 @@ MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "O
 
 #: Month definitions as command-line choices -> the API's names.
 MONTH_OPTIONS = {"fixed-day": "fixed_day", "fixed-angle": "fixed_angle"}
+
+#: The orbital solution of the commands that take one epoch and no orbit values (``months``,
+#: ``insolation``): the only epoch-based solution that needs neither a table file nor explicit
+#: elements. The reference orbit of fixed-angle months is computed with it too.
+EPOCH_SOLUTION = "berger1978"
+
+#: Sentence for the --help of those commands.
+EPOCH_SOLUTION_HELP = (
+    "Orbits: EPOCH and --reference always use the berger1978 solution (Berger 1978, the "
+    "PMIP protocols' choice), the only solution that needs nothing but an epoch; there is "
+    "no --solution option. For an orbit from a table or from explicit elements, write an "
+    "experiment spec and use 'bcgen build'."
+)
 
 
 def add_calendar_options(parser: argparse.ArgumentParser) -> None:
@@ -32,26 +45,30 @@ def add_calendar_options(parser: argparse.ArgumentParser) -> None:
                         help="anchor the orbit by the date and time of perihelion instead")
 
 
-def orbit_for_epoch(epoch_text: str, solution: str, option: str) -> OrbitalElements:
-    """Orbit of an epoch given on the command line; errors name ``option``."""
+def orbit_for_epoch(epoch_text: str, option: str, command: str) -> OrbitalElements:
+    """Berger (1978) orbit of one epoch given on the command line.
+
+    Parameters
+    ----------
+    epoch_text : str
+        The epoch as typed (one epoch; a range is refused).
+    option : str
+        What to name in messages (``"EPOCH"``, ``"--reference"``).
+    command : str
+        The subcommand, named when a range is given (``"months"``).
+    """
+    if isinstance(epoch_text, str) and ".." in epoch_text:
+        raise EpochError(
+            f"{option}: bcgen {command} takes one epoch, not the range {epoch_text!r} (run it "
+            f"once per epoch; 'bcgen orbit' takes ranges); one epoch is written {EPOCH_FORMS}"
+        )
     try:
         years = parse_epoch(epoch_text)
     except EpochError as exc:
         if not option.startswith("--"):
             raise
         raise EpochError(f"{option}: {exc}") from None
-    if solution not in SOLUTIONS:
-        raise OrbitError(
-            f"--solution: unknown orbital solution {solution!r}; expected one of "
-            f"{', '.join(SOLUTIONS)}"
-        )
-    try:
-        return solve(years, solution)
-    except TypeError:
-        raise OrbitError(
-            f"--solution {solution} needs values this command cannot take (a table file or "
-            f"explicit elements); use it from an experiment spec, or use berger1978 for {option}"
-        ) from None
+    return solve(years, EPOCH_SOLUTION)
 
 
 def calendar_from_args(args) -> ModelCalendar:
@@ -69,6 +86,27 @@ def calendar_from_args(args) -> ModelCalendar:
         return ModelCalendar(name, anchor)
     except CalendarError as exc:
         raise CalendarError(f"{option}: {exc}; give a date that exists in every year") from None
+
+
+def check_model_year(calendar: ModelCalendar, args) -> None:
+    """Check --year, and that the anchor date exists in the model year and the years beside it.
+
+    A date can exist in most years and be missing in one (the days 1582-10-05 to
+    1582-10-14 that the ``standard`` calendar skips); the error then names the option
+    that gave the date.
+    """
+    try:
+        calendar.is_leap(args.year)
+    except CalendarError as exc:
+        raise CalendarError(f"--year: {exc}") from None
+    try:
+        calendar.anchor_days(args.year)
+    except CalendarError as exc:
+        option = "--perihelion-date" if args.perihelion_date is not None else "--equinox"
+        raise CalendarError(
+            f"{option}: {exc}, and model year {args.year} needs the anchor in it and in the "
+            f"years before and after; give another date or another --year"
+        ) from None
 
 
 def describe_orbit(orbit: OrbitalElements) -> str:

@@ -12,32 +12,34 @@ from __future__ import annotations
 
 import argparse
 import json
+import textwrap
 
 import numpy as np
 
 from bcgen.cli.common import (
+    EPOCH_SOLUTION,
+    EPOCH_SOLUTION_HELP,
     MONTH_NAMES,
     MONTH_OPTIONS,
     add_calendar_options,
     calendar_from_args,
+    check_model_year,
     describe_orbit,
     orbit_for_epoch,
 )
-from bcgen.epochs import format_epoch
-from bcgen.errors import CalendarError
 from bcgen.insolation import (
     CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
     InsolationError,
     annual_mean_insolation_wm2,
     monthly_insolation,
 )
-from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS, OrbitalElements
+from bcgen.orbit import PERIHELION_CONVENTIONS, OrbitalElements
 from bcgen.solar_calendar.calendars import ModelCalendar
 
 #: Command-line spelling of the daily methods → the Python API's.
 DAILY_OPTIONS = {"midday": "midday", "day-average": "day_average"}
 
-EPILOG = """\
+EPILOG = f"""\
 examples:
   bcgen insolation 6ka --lat 90 65 0 -90
   bcgen insolation 6ka --lat 90 65 0 -90 --format json
@@ -50,6 +52,8 @@ the day (t = n + 0.5) unless --daily-method day-average. fixed-angle: each
 month spans the arc of true longitude of the reference orbit's calendar month,
 and its value is the exact time mean over the fractional days it spans. The
 annual column is the exact annual mean. Latitudes south are negative.
+
+{textwrap.fill(EPOCH_SOLUTION_HELP, 80)}
 """
 
 
@@ -64,7 +68,8 @@ def register(subparsers) -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("epoch", metavar="EPOCH",
-                        help="epoch such as 6ka, '127 ka BP', 21000BP or 1850CE")
+                        help="one epoch such as 6ka, '127 ka BP', 21000BP or 1850CE (not a "
+                             "range)")
     parser.add_argument("--lat", nargs="+", type=float, required=True, metavar="LAT",
                         help="latitudes in degrees north (south negative), e.g. --lat 90 65 0 -90")
     parser.add_argument("--months", choices=list(MONTH_OPTIONS), default="fixed-day",
@@ -83,8 +88,6 @@ def register(subparsers) -> argparse.ArgumentParser:
     parser.add_argument("--daily-method", choices=list(DAILY_OPTIONS), metavar="METHOD",
                         help="with --months fixed-day: daily values at midday (default; the "
                              "PMIP1 convention) or day-average (averaged over each day)")
-    parser.add_argument("--solution", default="berger1978", metavar="NAME",
-                        help=f"orbital solution: {', '.join(SOLUTIONS)} (default: berger1978)")
     parser.add_argument("--year", type=int, default=1, metavar="N",
                         help="model year, which matters in leap-year calendars (default: 1)")
     parser.add_argument("--format", choices=("text", "json"), default="text",
@@ -121,31 +124,30 @@ def compute(args) -> tuple[dict, OrbitalElements, ModelCalendar]:
             f"--solar-constant: expected a positive number of W m-2; got {args.solar_constant:g}"
         )
     latitudes = np.asarray(args.lat, dtype=float)
-    if np.any(np.abs(latitudes) > 90):
-        bad = ", ".join(f"{v:g}" for v in latitudes[np.abs(latitudes) > 90])
+    outside = ~(np.abs(latitudes) <= 90)  # NaN compares False, so it counts as outside
+    if np.any(outside):
+        bad = ", ".join(f"{v:g}" for v in latitudes[outside])
         raise InsolationError(f"--lat: latitudes must be in [-90, 90] degrees north; got {bad}")
     calendar = calendar_from_args(args)
-    try:
-        calendar.is_leap(args.year)
-    except CalendarError as exc:
-        raise CalendarError(f"--year: {exc}") from None
-    orbit = orbit_for_epoch(args.epoch, args.solution, "EPOCH")
+    check_model_year(calendar, args)
+    orbit = orbit_for_epoch(args.epoch, "EPOCH", "insolation")
     reference = None
     reference_text = None
     if months == "fixed_angle":
         reference_text = args.reference or "1950CE"
-        reference = orbit_for_epoch(reference_text, args.solution, "--reference")
+        reference = orbit_for_epoch(reference_text, "--reference", "insolation")
     daily_method = DAILY_OPTIONS[args.daily_method or "midday"]
     result = monthly_insolation(orbit, calendar, latitudes, args.solar_constant, months=months,
                                 reference=reference, year=args.year, daily_method=daily_method)
     annual = annual_mean_insolation_wm2(orbit, latitudes, args.solar_constant)
-    epoch = float(orbit.years_from_1950) if orbit.years_from_1950 is not None else 0.0
+    epoch = float(orbit.years_from_1950)
     record = {
-        "epoch": format_epoch(epoch),
+        "epoch": args.epoch,  # as given, like bcgen orbit
+        "years_bp": -epoch + 0.0,  # + 0.0: no -0.0
         "years_from_1950": epoch,
         "quantity": "toa_incoming_shortwave_flux",
         "units": "W m-2",
-        "orbit": _orbit_record(orbit, args.solution),
+        "orbit": _orbit_record(orbit, EPOCH_SOLUTION),
         "solar_constant_wm2": float(args.solar_constant),
         "calendar": calendar.name,
         "year": args.year,
@@ -158,7 +160,9 @@ def compute(args) -> tuple[dict, OrbitalElements, ModelCalendar]:
         "month_averaging": result.averaging,
         "daily_method": daily_method if months == "fixed_day" else None,
         "reference_epoch": reference_text,
-        "reference_orbit": None if reference is None else _orbit_record(reference, args.solution),
+        "reference_orbit": (
+            None if reference is None else _orbit_record(reference, EPOCH_SOLUTION)
+        ),
         "months": list(range(1, 13)),
         "month_start_day": [float(v) for v in result.months.start_day],
         "month_length_days": [float(v) for v in result.months.length_days],

@@ -9,19 +9,21 @@ from __future__ import annotations
 
 import argparse
 import json
+import textwrap
 
 from bcgen.cli.common import (
+    EPOCH_SOLUTION,
+    EPOCH_SOLUTION_HELP,
     MONTH_NAMES,
     add_calendar_options,
     calendar_from_args,
+    check_model_year,
     describe_orbit,
     orbit_for_epoch,
 )
-from bcgen.errors import CalendarError
-from bcgen.orbit import SOLUTIONS
 from bcgen.solar_calendar.months import MonthTable, fixed_angle_months
 
-EPILOG = """\
+EPILOG = f"""\
 examples:
   bcgen months 6ka
   bcgen months 127ka --reference 1850CE --format json
@@ -33,6 +35,8 @@ that wraps the start of the year has a negative start or an end beyond the year.
 The true longitude of the Sun is geocentric: 0 at the March equinox, 90 deg at
 the June solstice. Each fixed-angle month spans the same arc of true longitude
 as the calendar's fixed-day month in the reference orbit.
+
+{textwrap.fill(EPOCH_SOLUTION_HELP, 80)}
 """
 
 
@@ -47,7 +51,9 @@ def register(subparsers) -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument(
-        "epoch", metavar="EPOCH", help="epoch such as 6ka, '127 ka BP', 21000BP or 1850CE"
+        "epoch",
+        metavar="EPOCH",
+        help="one epoch such as 6ka, '127 ka BP', 21000BP or 1850CE (not a range)",
     )
     add_calendar_options(parser)
     parser.add_argument(
@@ -56,12 +62,6 @@ def register(subparsers) -> argparse.ArgumentParser:
         metavar="EPOCH",
         help="epoch of the reference orbit whose fixed-day months define the "
         "arcs (default: 1950CE; PMIP4 piControl is 1850CE)",
-    )
-    parser.add_argument(
-        "--solution",
-        default="berger1978",
-        metavar="NAME",
-        help=f"orbital solution: {', '.join(SOLUTIONS)} (default: berger1978)",
     )
     parser.add_argument(
         "--year",
@@ -106,12 +106,9 @@ def format_text(table: MonthTable, header: list[str]) -> str:
 def run(args) -> int:
     """Compute and print the month table."""
     calendar = calendar_from_args(args)
-    try:
-        calendar.is_leap(args.year)
-    except CalendarError as exc:
-        raise CalendarError(f"--year: {exc}") from None
-    orbit = orbit_for_epoch(args.epoch, args.solution, "EPOCH")
-    reference = orbit_for_epoch(args.reference, args.solution, "--reference")
+    check_model_year(calendar, args)
+    orbit = orbit_for_epoch(args.epoch, "EPOCH", "months")
+    reference = orbit_for_epoch(args.reference, "--reference", "months")
     table = fixed_angle_months(orbit, calendar, reference=reference, year=args.year)
     if args.format == "json":
         print(json.dumps(table.to_records(), indent=2))
@@ -122,8 +119,8 @@ def run(args) -> int:
         f"fixed-angle months for {args.epoch} ({epoch:+g} years from 1950 CE); arcs of true "
         f"longitude from the fixed-day months of the reference orbit {args.reference} "
         f"({ref_epoch:+g} years from 1950 CE)",
-        f"orbit ({args.solution}): {describe_orbit(orbit)}",
-        f"reference orbit ({args.solution}): {describe_orbit(reference)}",
+        f"orbit ({EPOCH_SOLUTION}): {describe_orbit(orbit)}",
+        f"reference orbit ({EPOCH_SOLUTION}): {describe_orbit(reference)}",
         f"{calendar.describe()}; model year {args.year} "
         f"({calendar.year_length_days(args.year):g} days), anchor at day "
         f"{calendar.anchor_day(args.year):g}",

@@ -66,6 +66,12 @@ def convert_perihelion(
     float or numpy.ndarray
         The same direction expressed in ``to_convention``, reduced to [0, 360°)
         or [0, 2π).
+
+    Raises
+    ------
+    OrbitError
+        For an unknown convention or unit, or a value that is not finite
+        (checked before any arithmetic, so no numpy warning is printed).
     """
     for conv in (from_convention, to_convention):
         if conv not in _OFFSET_DEG:
@@ -76,9 +82,13 @@ def convert_perihelion(
     for unit in (from_unit, to_unit):
         if unit not in ("deg", "rad"):
             raise OrbitError(f"unknown angle unit {unit!r}; expected 'deg' or 'rad'")
-    deg = np.asarray(value, dtype=float)
+    given = np.asarray(value, dtype=float)
+    _check(given, np.isfinite(given), "longitude of perihelion must be finite")
+    deg = given
     if from_unit == "rad":
-        deg = np.rad2deg(deg)
+        with np.errstate(over="ignore"):
+            deg = np.rad2deg(given)
+        _check(given, np.isfinite(deg), "longitude of perihelion is too large")
     deg = deg - _OFFSET_DEG[from_convention] + _OFFSET_DEG[to_convention]
     out = wrap_angle(np.deg2rad(deg), 2.0 * np.pi) if to_unit == "rad" else wrap_angle(deg)
     return out if np.ndim(out) else float(out)

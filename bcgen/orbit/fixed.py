@@ -41,7 +41,8 @@ def solve(
     Raises
     ------
     OrbitError
-        If a value or the perihelion convention is missing or invalid.
+        If a value or the perihelion convention is missing or invalid (a
+        non-finite perihelion is refused before any arithmetic on it).
     """
     given = {
         "eccentricity": eccentricity,

@@ -135,8 +135,8 @@ def load(path) -> OrbitalElements:
     if OBLIQUITY_COLUMNS[oname] == "rad":
         obliquity = np.rad2deg(obliquity)
     conv, unit = PERIHELION_COLUMNS[pname]
-    varpi = convert_perihelion(cols[pname][order], conv, "perihelion_longitude", unit, "deg")
     try:
+        varpi = convert_perihelion(cols[pname][order], conv, "perihelion_longitude", unit, "deg")
         return OrbitalElements(cols["eccentricity"][order], obliquity, varpi, t, NAME)
     except OrbitError as exc:
         raise InputFileError(f"{path}: {exc}") from None

@@ -12,7 +12,7 @@ Calendars
 Model time
     Fractional days after 1 January 00:00 of the model year (``t_days``); the
     model year is a calendar year of the model calendar, numbered as in the
-    calendar (``year=1`` by default).
+    calendar (``year=1`` by default), within ±:data:`MAX_MODEL_YEAR` (1 000 000).
 
 Anchor
     The orbit is tied to the calendar by an :class:`Anchor`: the moment of the
@@ -87,6 +87,10 @@ ANCHOR_KINDS: dict[str, str] = {
     "march_equinox": "the March equinox (true longitude 0) is at the anchor date and time",
     "perihelion": "perihelion (true anomaly 0, true longitude ϖ + 180°) is at the anchor time",
 }
+
+#: Largest model year (in absolute value) bcgen accepts: far beyond any experiment, and well
+#: inside the years cftime can count (it fails with an OverflowError beyond 2**31 - 1).
+MAX_MODEL_YEAR = 1_000_000
 
 _NO_YEAR_ZERO = ("standard", "julian")
 _MONTH_NAMES = (
@@ -281,8 +285,15 @@ class ModelCalendar:
         return astro if astro > 0 else astro - 1
 
     def _check_year(self, year) -> int:
-        if isinstance(year, bool) or not isinstance(year, (int, np.integer)):
-            raise CalendarError(f"model year must be a whole number; got {year!r}")
+        if (
+            isinstance(year, bool)
+            or not isinstance(year, (int, np.integer))
+            or abs(int(year)) > MAX_MODEL_YEAR
+        ):
+            raise CalendarError(
+                f"model year must be a whole number from {-MAX_MODEL_YEAR} to {MAX_MODEL_YEAR}; "
+                f"got {year!r}"
+            )
         if year == 0 and not self.has_year_zero:
             raise CalendarError(
                 f"year 0 does not exist in calendar {self.name} (1 BCE is year -1); "
@@ -321,9 +332,9 @@ class ModelCalendar:
     # --- public day numbers ---------------------------------------------------------------
     def is_leap(self, year: int) -> bool:
         """Tell whether ``year`` is a leap year (never in 360_day; always in all_leap)."""
+        year = self._check_year(year)
         if self.name == "360_day":
             return False
-        year = self._check_year(year)
         return bool(cftime.is_leap_year(year, self.name, has_year_zero=self.has_year_zero))
 
     def year_length_days(self, year: int = 1) -> float:
@@ -379,6 +390,7 @@ __all__ = [
     "CALENDARS",
     "CALENDAR_DESCRIPTIONS",
     "DEPRECATED_CALENDAR_NAMES",
+    "MAX_MODEL_YEAR",
     "Anchor",
     "AnchorKind",
     "CalendarName",

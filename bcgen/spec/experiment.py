@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import hashlib
 import re
+import warnings
 from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -25,7 +26,7 @@ from types import MappingProxyType
 import numpy as np
 
 from bcgen.epochs import format_epoch, parse_epoch
-from bcgen.errors import BcgenError
+from bcgen.errors import BcgenError, ImplausibleValueWarning
 from bcgen.orbit import OrbitalElements
 from bcgen.spec import schema as S
 from bcgen.spec.common import FieldError, check_choice, check_epoch, check_number
@@ -33,6 +34,28 @@ from bcgen.spec.grid import GridSpec
 from bcgen.spec.model import CalendarSpec, ExperimentInfo, GasSpec, InsolationSpec, OrbitSpec
 from bcgen.spec.output import OutputSpec, TemplateRef, TimestepTableSpec, check_file_pattern
 from bcgen.spec.transient import TransientSpec
+
+#: Ranges outside which a value is probably in the wrong unit (a warning, not an error):
+#: S0 from a faint young Sun (about 70 % of today's 1361 W m-2) to well above today's;
+#: gases over the Phanerozoic with a wide margin. Common practice, values from memory.
+PLAUSIBLE_RANGES = {
+    "solar_constant_wm2": (900.0, 1500.0),
+    "co2": (100.0, 10000.0),
+    "ch4": (100.0, 20000.0),
+    "n2o": (50.0, 2000.0),
+}
+
+
+def _warn_if_implausible(key: str, value: float, unit: str, name: str | None = None) -> None:
+    lo, hi = PLAUSIBLE_RANGES[name or key]
+    if not lo <= value <= hi:
+        warnings.warn(
+            f"{key}: {value:g} {unit} is outside {lo:g}-{hi:g} {unit}, the range expected "
+            "for the Earth; check the value and its units",
+            ImplausibleValueWarning,
+            stacklevel=3,
+        )
+
 
 #: CF calendars without a year 0 (CF 1.11 §4.4.1).
 NO_YEAR_ZERO_CALENDARS = ("standard", "julian")
@@ -107,6 +130,12 @@ class ExperimentSpec:
             lo_open=True,
             what="an irradiance in W m-2",
         )
+        _warn_if_implausible("solar_constant_wm2", self.solar_constant_wm2, "W m-2")
+        for gas in self.greenhouse_gases:
+            if gas.name in PLAUSIBLE_RANGES:
+                factor, unit = {"co2": (1e6, "ppm")}.get(gas.name, (1e9, "ppb"))
+                _warn_if_implausible(f"greenhouse_gases.{gas.name}", gas.mole_fraction * factor,
+                                     unit, gas.name)
         self._check_gases()
         self._check_products()
         self._check_output()
