@@ -29,10 +29,12 @@ from bcgen.validate import (
     ModelOutput,
     read_model_output,
     read_orbit_table,
+    setup_from_spec,
     validate,
+    validate_output,
 )
 from bcgen.validate import diagnose as diagnose_module
-from bcgen.validate.compare import estimate_noise_wm2
+from bcgen.validate.compare import Comparison, estimate_noise_wm2, noise_estimate
 from bcgen.validate.diagnose import golden_section, levenberg_marquardt
 from bcgen.validate.readers import AmbiguousTimeWarning
 from bcgen.validate.reference import insolation_from_geometry
@@ -88,7 +90,7 @@ def test_each_mistake_is_named_first_with_its_value(folder, spec, mistake):
     result = validate(path, spec)
     assert result.verdict == "inconsistent"
     first = result.findings[0]
-    assert first.code == mistake
+    assert first.code == mistake and first.explains is True
     assert first.misfit_after_wm2 < 0.05 < first.misfit_before_wm2
     value = _check_fitted(mistake, first)
     if mistake == "orbital_elements_differ":
@@ -106,8 +108,11 @@ def test_each_mistake_is_named_first_with_1wm2_noise(folder, spec, mistake):
     result = validate(path, spec)
     assert result.verdict == "inconsistent"
     first = result.findings[0]
-    assert first.code == mistake
+    assert first.code == mistake and first.explains is True
     assert first.misfit_after_wm2 == pytest.approx(1.0, abs=0.2)  # down to the noise
+    # the noise is what the explanation leaves, not the curvature of the mistake
+    assert result.noise_wm2 == pytest.approx(1.0, rel=0.3)
+    assert not any("noisier" in r for r in result.reasons)
     value = _check_fitted(mistake, first)
     if mistake == "orbital_elements_differ":
         assert value["eccentricity"] == pytest.approx(LGM_ORBIT["eccentricity"], abs=2e-4)
@@ -224,12 +229,136 @@ def test_orbit_table_correct_and_mistakes(folder, spec):
     assert only.verdict == "consistent" and set(only.table_errors) == {"true_longitude_deg"}
 
 
-def test_file_calendar_differing_from_the_spec_is_noted(folder, spec):
+def test_file_calendar_differing_from_the_spec_is_a_finding(folder, spec):
+    # The issue lists a calendar mismatch (360 versus 365 days) among the mistakes to catch:
+    # a 360_day run of a noleap experiment did not run the experiment's year.
     path = synthetic_output(folder, None, calendar="360_day", name="cal360.nc")
     result = validate(path, spec)  # the spec says noleap
-    assert result.verdict == "consistent"
-    assert result.setup.calendar.name == "360_day"
-    assert any("the file's calendar is 360_day and the spec's noleap" in n for n in result.notes)
+    assert result.verdict == "inconsistent"
+    first = result.findings[0]
+    assert (first.code, first.fitted_value, first.expected_value) == (
+        "calendar_differs", "360_day", "noleap")
+    assert any("--accept-file-calendar" in r for r in result.reasons)
+    # accepted explicitly: the insolation alone decides, checked on the file's calendar
+    accepted = validate(path, spec, accept_file_calendar=True)
+    assert accepted.verdict == "consistent", accepted.reasons
+    assert accepted.findings == ()
+    assert accepted.setup.calendar.name == "360_day"
+    assert any("the file's calendar is 360_day and the spec's noleap" in n
+               for n in accepted.notes)
+    # ... and accepting the calendar does not excuse a wrong orbit
+    bad = synthetic_output(folder, "perihelion_opposite", calendar="360_day", name="cal360p.nc")
+    wrong = validate(bad, spec, accept_file_calendar=True)
+    assert wrong.verdict == "inconsistent"
+    assert wrong.findings[0].code == "perihelion_opposite"
+    codes = [f.code for f in validate(bad, spec).findings]
+    assert codes[0] == "perihelion_opposite" and "calendar_differs" in codes
+
+
+def test_calendars_with_the_same_years_do_not_differ(folder):
+    # CF 1.13 §4.4.3: standard is Gregorian from 1582-10-15, so in 1999-2000 it lays out the
+    # year as proleptic_gregorian does.
+    spec = write_spec(folder, calendar="proleptic_gregorian", name="spec_pg2.yaml")
+    path = synthetic_output(folder, None, calendar="standard", frequency="daily",
+                            years=(1999, 2000), name="std.nc")
+    result = validate(path, spec)
+    assert result.verdict == "consistent", result.reasons
+    assert result.findings == ()
+
+
+# --- noise, and differences outside the catalogue ---------------------------------------------
+@pytest.mark.parametrize("frequency", ["monthly", "daily"])
+@pytest.mark.parametrize("noise", [1.0, 5.0, 30.0])
+def test_noise_counts_only_up_to_the_tolerance(folder, spec, frequency, noise):
+    path = synthetic_output(folder, None, frequency=frequency, noise_wm2=noise, seed=7,
+                            name=f"noise_{frequency}_{noise:g}.nc")
+    result = validate(path, spec)
+    n = result.comparison.n_values
+    z = np.sqrt(2.0 * np.log(n))  # the rule's z for N values
+    # the allowances never exceed T + z T and T + T (T = 1 W m-2)
+    assert result.allowed_max_abs_error_wm2 <= 1.0 + z * 1.0 + 1e-9
+    assert result.allowed_rms_error_wm2 <= 2.0 + 1e-9
+    assert result.noise_wm2 == pytest.approx(noise, rel=0.2)  # the noise put in
+    if noise == 1.0:
+        assert result.verdict == "consistent", result.reasons
+        assert result.findings == ()
+    else:
+        assert result.verdict == "inconsistent"
+        assert any("noisier than the tolerance" in r for r in result.reasons)
+        assert any(r.startswith("RMS error") for r in result.reasons)
+        assert result.findings[0].code == "unexplained"
+
+
+def test_noise_rule_false_alarm_rate():
+    # Rule C calls white noise of sigma = T too noisy only when the estimate is more than three
+    # standard errors above T: one-sided P(Z > 3) = 0.00135 (standard normal tables), so far
+    # fewer than 1 % of 2000 simulated years of monthly means are flagged; at sigma = 3 T all.
+    rng = np.random.default_rng(5)
+    n_t = 12
+    out = ModelOutput("x", "noleap", "monthly", np.ones(n_t, int), np.arange(n_t) * 30.0,
+                      np.arange(n_t) * 30.0 + 30.0, np.arange(1, n_t + 1), LATS_19,
+                      np.ones((n_t, 19)))
+    limit = None
+    flagged = {1.0: 0, 3.0: 0}
+    for sigma in flagged:
+        for _ in range(2000):
+            sigma_hat, n = noise_estimate(out, sigma * rng.standard_normal((n_t, 19)))
+            comparison = Comparison(0.0, 0.0, 0.0, n_t * 19, 0, (), (), sigma_hat, (),
+                                    noise_samples=n)
+            limit = comparison.noise_limit_wm2(1.0)
+            flagged[sigma] += sigma_hat > limit
+    assert flagged[1.0] / 2000 < 0.01
+    assert flagged[3.0] == 2000
+    assert 1.2 < limit < 1.4  # 190 second differences: about 30 % above T
+    assert comparison.noise_limit_wm2(1.0, estimated=False) == 1.0  # a given sigma: T itself
+
+
+def test_month_to_month_error_is_not_taken_for_noise(folder, spec):
+    # A +-3 W m-2 error alternating from month to month over the northern hemisphere: its
+    # second differences look like noise of 7 W m-2, which must not widen the allowance.
+    path = synthetic_output(folder, None, name="alt_src.nc")
+    with xr.open_dataset(path, decode_times=False) as ds:
+        ds = ds.load()
+    sign = np.where(np.arange(ds.sizes["time"]) % 2 == 0, 3.0, -3.0)
+    ds["rsdt"].values = ds["rsdt"].values + np.where(ds["lat"].values >= 0, 1.0, 0.0) * sign[
+        :, None]
+    ds.to_netcdf(folder / "alt.nc")
+    result = validate(folder / "alt.nc", spec)
+    assert result.verdict == "inconsistent"
+    assert result.findings[0].code == "unexplained"
+    assert result.allowed_max_abs_error_wm2 < 3.0 + 1.5  # T + z min(sigma, T), z = 3.3
+
+
+def test_error_outside_the_catalogue_is_unexplained(folder, spec):
+    # Hemispheres swapped (a latitude axis reversed without its values): no mistake of the
+    # catalogue moves the seasons by half a year, so nothing explains it.
+    path = synthetic_output(folder, None, name="swap_src.nc")
+    with xr.open_dataset(path, decode_times=False) as ds:
+        ds = ds.load()
+    ds["rsdt"].values = ds["rsdt"].values[:, ::-1]
+    ds.to_netcdf(folder / "swap.nc")
+    result = validate(folder / "swap.nc", spec)
+    assert result.verdict == "inconsistent"
+    first = result.findings[0]
+    assert first.code == "unexplained" and first.explains is False
+    assert all(f.explains is False for f in result.findings[1:])
+
+
+def test_partial_fit_is_not_named_as_the_mistake(folder, spec):
+    # Latitudes in radians read as degrees (what a reader that ignores units would pass on):
+    # a solar-constant ratio lowers the misfit a little but explains nothing.
+    good = read_model_output(synthetic_output(folder, None, name="rad_src.nc"))
+    wrong = ModelOutput(good.source, good.calendar, good.frequency, good.year, good.start_day,
+                        good.end_day, good.month, np.deg2rad(good.latitude_deg),
+                        good.insolation_wm2)
+    result = validate_output(wrong, setup_from_spec(spec))
+    assert result.verdict == "inconsistent"
+    assert result.findings[0].code == "unexplained"
+    partial = {f.code: f for f in result.findings[1:]}
+    assert "solar_constant_ratio" in partial
+    ratio = partial["solar_constant_ratio"]
+    assert ratio.explains is False and ratio.misfit_after_wm2 > 100.0
+    assert "solar_constant_ratio" in result.findings[0].description  # named as partial
 
 
 # --- readers --------------------------------------------------------------------------------

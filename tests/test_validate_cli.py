@@ -6,7 +6,9 @@ import json
 import subprocess
 import sys
 
+import numpy as np
 import pytest
+import xarray as xr
 from validate_synthetic import orbit_table, synthetic_output, write_spec
 
 from bcgen.cli import main
@@ -26,8 +28,25 @@ def files(tmp_path_factory):
                                  name="peri.nc"),
         "shift": synthetic_output(folder, "equinox_day_shift", name="shift.nc"),
         "table": orbit_table(folder, None, name="table.csv"),
+        "noisy": synthetic_output(folder, None, noise_wm2=30.0, seed=2, name="noisy.nc"),
+        "cal360": synthetic_output(folder, None, calendar="360_day", name="cal360.nc"),
+        "radians": with_latitude(folder, "radians.nc", units="radians", to_radians=True),
+        "plain_degrees": with_latitude(folder, "plain_degrees.nc", units="degrees"),
+        "lat_180": with_latitude(folder, "lat_180.nc", shift_deg=90.0),
         "folder": folder,
     }
+
+
+def with_latitude(folder, name, units="degrees_north", to_radians=False, shift_deg=0.0):
+    """A correct output whose latitude coordinate has other units or values."""
+    src = synthetic_output(folder, None, name=f"src_{name}")
+    with xr.open_dataset(src, decode_times=False) as ds:
+        ds = ds.load()
+    lat = ds["lat"].values + shift_deg
+    ds = ds.assign_coords(lat=("lat", np.deg2rad(lat) if to_radians else lat,
+                               {"units": units, "standard_name": "latitude"}))
+    ds.to_netcdf(folder / name)
+    return folder / name
 
 
 def run(capsys, *argv):
@@ -100,6 +119,15 @@ def test_orbit_table_and_tolerance_option(capsys, files):
     (["{ok}", "--spec", "{spec}", "--tolerance-wm2", "-1"],
      r"argument --tolerance-wm2: expected a number >= 0, got '-1'"),
     (["{ok}"], r"the following arguments are required: --spec"),
+    # CF §4.1: latitude in degrees_north (or an alias); radians would be read as degrees
+    (["{radians}", "--spec", "{spec}"],
+     r"radians.nc:rsdt: latitude coordinate 'lat' has units 'radians'; expected degrees_north"),
+    # plain degrees is the unit of a rotated pole's grid_latitude (CF §4.1)
+    (["{plain_degrees}", "--spec", "{spec}"],
+     r"plain_degrees.nc:rsdt: latitude coordinate 'lat' has units 'degrees'; expected "
+     r"degrees_north"),
+    (["{lat_180}", "--spec", "{spec}"],
+     r"lat_180.nc:rsdt: latitude coordinate 'lat' has values outside \[-90, 90\]"),
 ])
 def test_bad_input_exits_2_with_one_line(capsys, files, argv, message):
     import re
@@ -116,6 +144,7 @@ def test_help_has_examples(capsys):
     assert exc.value.code == 0
     out = capsys.readouterr().out
     assert "examples:" in out and "--tolerance-wm2" in out and "--daily-method" in out
+    assert "--accept-file-calendar" in out
 
 
 def test_entry_point_exit_status(files):
@@ -143,3 +172,37 @@ def test_build_timestep_table_round_trip(capsys, tmp_path):
     # 6 decimals of time_days (0.04 s) and 8 of the angles bound the differences
     assert data["table_errors"]["declination_deg"]["max_abs_error"] < 1e-6
     assert data["table_errors"]["point_insolation_wm2"]["max_abs_error"] < 0.01
+
+
+def test_noisy_output_is_inconsistent_and_unexplained(capsys, files):
+    # 30 W m-2 of random noise on a correct output: far noisier than the 1 W m-2 tolerance
+    status, out, err = run(capsys, str(files["noisy"]), "--spec", str(files["spec"]),
+                           "--format", "json")
+    data = json.loads(out)
+    assert status == 1 and data["verdict"] == "inconsistent"
+    assert data["allowed_rms_error_wm2"] <= 2.0 and data["noise_wm2"] > data["noise_limit_wm2"]
+    first = data["findings"][0]
+    assert first["code"] == "unexplained" and first["explains"] is False
+    assert all(f["explains"] is False for f in data["findings"][1:])
+    line = one_error_line(err, "bcgen: check failed: ")
+    assert "noisier than the tolerance" in line and "no catalogued mistake explains it" in line
+
+
+def test_explaining_finding_is_marked(capsys, files):
+    status, out, _ = run(capsys, str(files["shift"]), "--spec", str(files["spec"]),
+                         "--format", "json")
+    first = json.loads(out)["findings"][0]
+    assert status == 1 and first["code"] == "equinox_day_shift" and first["explains"] is True
+
+
+def test_file_calendar_needs_accepting(capsys, files):
+    status, out, err = run(capsys, str(files["cal360"]), "--spec", str(files["spec"]),
+                           "--format", "json")
+    data = json.loads(out)
+    assert status == 1 and data["findings"][0]["code"] == "calendar_differs"
+    assert data["findings"][0]["fitted_value"] == "360_day"
+    assert "calendar 360_day is not the spec's noleap" in one_error_line(
+        err, "bcgen: check failed: ")
+    status, out, err = run(capsys, str(files["cal360"]), "--spec", str(files["spec"]),
+                           "--accept-file-calendar")
+    assert status == 0 and err == "" and "verdict: CONSISTENT" in out

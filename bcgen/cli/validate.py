@@ -26,9 +26,13 @@ from the model's orbit routine with columns time_days and declination_deg,
 distance_factor and/or true_longitude_deg.
 
 The verdict is 'consistent' when the largest error is within the tolerance plus a
-noise allowance (estimated from the residual) and no catalogued mistake larger than
-the tolerance fits significantly better than the reference. Findings name the most
-likely mistakes, each with its fitted value and the misfit before and after.
+noise allowance and the RMS error within the tolerance plus the noise level (the noise,
+estimated from the residual, counts only up to the tolerance), the output is not
+noisier than the tolerance, no catalogued mistake larger than the tolerance fits
+significantly better than the reference, and the file's calendar is the spec's (or
+accepted with --accept-file-calendar). Findings name the mistakes that explain the
+differences, each with its fitted value and the misfit before and after; when none
+does, the first finding is 'unexplained' and partial fits follow.
 """
 
 
@@ -74,6 +78,11 @@ def register(subparsers) -> argparse.ArgumentParser:
                              "time mean of the model's time steps (default), or midday, the "
                              "Sun's position at 12:00 of each day (a model that updates its "
                              "orbit once a day, or reads bcgen's midday daily products)")
+    parser.add_argument("--accept-file-calendar", action="store_true",
+                        help="accept a model file on another calendar than the spec's (360_day "
+                             "output for a noleap experiment ...): its insolation is then "
+                             "checked on the file's calendar with the spec's anchor; without "
+                             "this option such a file is inconsistent (calendar_differs)")
     return parser
 
 
@@ -84,7 +93,8 @@ def run(args: argparse.Namespace) -> int:
 
     result = validate(args.model_file, args.spec, var=args.var,
                       tolerance_wm2=args.tolerance_wm2, noise_wm2=args.noise_wm2,
-                      daily_method=args.daily_method)
+                      daily_method=args.daily_method,
+                      accept_file_calendar=args.accept_file_calendar)
     print(to_json(result) if args.format == "json" else to_text(result))
     if result.verdict != "consistent":
         raise CheckFailed(summary_line(result))

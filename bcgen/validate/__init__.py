@@ -9,6 +9,14 @@ band with the worst places (:mod:`bcgen.validate.compare`), fits a catalogue
 of common mistakes (:mod:`bcgen.validate.diagnose`) and gives a verdict,
 ``consistent`` or ``inconsistent`` (rule in :mod:`bcgen.validate.compare`).
 
+A NetCDF file on another calendar than the spec's is compared on its own
+calendar with the spec's anchor, and is inconsistent (finding
+``calendar_differs``) unless that calendar is accepted explicitly
+(``accept_file_calendar=True``, ``--accept-file-calendar``): the model did not
+run the experiment's year, and only the modeller can say that this is intended.
+Calendars that lay out the file's years identically (``standard`` and
+``proleptic_gregorian`` after 1582) do not differ.
+
 >>> from bcgen.validate import validate
 >>> result = validate("model_rsdt.nc", "configs/protocols/midHolocene.yaml")  # doctest: +SKIP
 >>> result.verdict, result.findings[0].code                                   # doctest: +SKIP
@@ -17,7 +25,7 @@ of common mistakes (:mod:`bcgen.validate.diagnose`) and gives a verdict,
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Literal
 
@@ -62,8 +70,11 @@ class ValidationResult:
     verdict : {"consistent", "inconsistent"}
     reasons : tuple of str
         Why the verdict is ``inconsistent`` (empty when consistent).
-    tolerance_wm2, noise_wm2, allowed_max_abs_error_wm2 : float
-        T, the noise level σ used, and T + √(2 ln N) σ.
+    tolerance_wm2, noise_wm2 : float
+        T and the noise level σ used (estimated, or given).
+    allowed_max_abs_error_wm2, allowed_rms_error_wm2 : float
+        T + √(2 ln N) σₐ and T + σₐ, with σₐ = min(σ, T) (rules A and B of
+        :mod:`bcgen.validate.compare`).
     comparison : Comparison
         Errors overall, per month and latitude band, worst places.
     findings : tuple of Finding
@@ -77,6 +88,12 @@ class ValidationResult:
         For an orbit table, the errors of each column given.
     notes : tuple of str
         Assumptions worth knowing.
+    noise_limit_wm2 : float
+        The largest σ that is not noisier than the tolerance (rule C).
+    noise_estimated : bool
+        Whether σ was estimated (not given).
+    accept_file_calendar : bool
+        Whether a file calendar other than the spec's was accepted (rule E).
     """
 
     verdict: Verdict
@@ -90,6 +107,10 @@ class ValidationResult:
     setup: Setup
     table_errors: dict | None = None
     notes: tuple[str, ...] = ()
+    allowed_rms_error_wm2: float = float("nan")
+    noise_limit_wm2: float = float("nan")
+    noise_estimated: bool = True
+    accept_file_calendar: bool = False
 
     @property
     def max_abs_error_wm2(self) -> float:
@@ -215,6 +236,27 @@ def _table_errors(output: ModelOutput, model: ForwardModel) -> dict:
     return out
 
 
+def same_calendar_layout(file_calendar: str, spec_calendar: ModelCalendar, years) -> bool:
+    """Whether a file's calendar lays out ``years`` as the spec's calendar does.
+
+    Equal canonical names, or the same month starts and anchor times (of the
+    year before, the year and the year after) in every year of the file:
+    ``standard`` and ``proleptic_gregorian`` agree after 1582, ``standard``
+    and ``julian`` before.
+    """
+    if file_calendar == spec_calendar.name:
+        return True
+    other = ModelCalendar(file_calendar, spec_calendar.anchor)
+    try:
+        return all(
+            np.array_equal(other.month_starts_days(int(y)), spec_calendar.month_starts_days(int(y)))
+            and np.allclose(other.anchor_days(int(y)), spec_calendar.anchor_days(int(y)),
+                            atol=1e-9)
+            for y in np.unique(years))
+    except BcgenError:  # a year one of the two calendars does not have
+        return False
+
+
 def validate_output(
     output: ModelOutput,
     setup: Setup,
@@ -222,6 +264,7 @@ def validate_output(
     noise_wm2: float | None = None,
     band_edges_deg=DEFAULT_BAND_EDGES_DEG,
     n_worst: int = 5,
+    accept_file_calendar: bool = False,
 ) -> ValidationResult:
     """Compare, diagnose and judge model output that has been read already.
 
@@ -234,52 +277,108 @@ def validate_output(
     tolerance_wm2 : float
         T of the verdict rule (default 1 W m-2).
     noise_wm2 : float, optional
-        Noise level σ; default: estimated from the residual.
+        Noise level σ; default: estimated from the residuals (see
+        :mod:`bcgen.validate.compare`).
     band_edges_deg : sequence of float
         Latitude band edges of the error table.
     n_worst : int
         Number of worst places reported.
+    accept_file_calendar : bool
+        Accept a file whose calendar is not the spec's (rule E of the verdict):
+        the insolation alone decides. Otherwise such a file is inconsistent,
+        with the finding ``calendar_differs``.
+
+    Notes
+    -----
+    Whatever the calendars, the reference is computed on the file's calendar
+    with the spec's anchor (the file's days are the model's days).
     """
     if not np.isfinite(tolerance_wm2) or tolerance_wm2 < 0:
         raise ValidateOptionError(f"--tolerance-wm2: expected a number >= 0, got {tolerance_wm2}")
     if noise_wm2 is not None and (not np.isfinite(noise_wm2) or noise_wm2 < 0):
         raise ValidateOptionError(f"--noise-wm2: expected a number >= 0, got {noise_wm2}")
+    tol = float(tolerance_wm2)
     notes = list(output.notes)
+    calendar_differs = bool(output.calendar) and not same_calendar_layout(
+        output.calendar, setup.calendar, output.year)
     if output.calendar and output.calendar != setup.calendar.name:
+        how = ("differs from it" if calendar_differs
+               else "lays out the file's years in the same way")
         notes.append(f"the file's calendar is {output.calendar} and the spec's "
-                     f"{setup.calendar.name}; the reference uses the file's calendar with the "
-                     f"spec's anchor ({setup.calendar.anchor.label})")
+                     f"{setup.calendar.name} ({how}); the reference uses the file's calendar "
+                     f"with the spec's anchor ({setup.calendar.anchor.label})"
+                     + ("; accepted with --accept-file-calendar"
+                        if calendar_differs and accept_file_calendar else ""))
+    spec_calendar = setup.calendar.name
     setup = setup.on_calendar(output.calendar)
     model = ForwardModel(output, setup)
     comparison = _compare.compare(output, model.predict(), band_edges_deg, n_worst)
-    sigma = comparison.noise_wm2 if noise_wm2 is None else float(noise_wm2)
-    allowed = comparison.allowed_max_abs_error_wm2(tolerance_wm2, sigma)
     diagnosis = Diagnosis(model, output.insolation_wm2)
-    findings = [f for f in diagnosis.run() if f.significant]
+    significant = [f for f in diagnosis.run() if f.significant]
+    if noise_wm2 is None:
+        # systematic errors that curve in time inflate the estimate: the least noisy residual
+        sigma = min([comparison.noise_wm2] + [f.noise_after_wm2 for f in significant])
+    else:
+        sigma = float(noise_wm2)
+    comparison = replace(comparison, noise_wm2=sigma)
+    allowed = comparison.allowed_max_abs_error_wm2(tol)
+    allowed_rms = comparison.allowed_rms_error_wm2(tol)
+    noise_limit = comparison.noise_limit_wm2(tol, estimated=noise_wm2 is None)
+    judged = [f.judged(tol, sigma, comparison.n_values) for f in significant]
+    explaining = [f for f in judged if f.explains]
+    partial = [f for f in judged if not f.explains]
+
     reasons = []
     if comparison.max_abs_error_wm2 > allowed:
         where = comparison.worst[0].describe() if comparison.worst else ""
         reasons.append(f"max abs error {comparison.max_abs_error_wm2:.2f} W m-2 exceeds the "
                        f"allowed {allowed:.2f} W m-2 ({where})")
-    big = [f for f in findings if f.largest_effect_wm2 > tolerance_wm2]
+    if comparison.rms_error_wm2 > allowed_rms:
+        reasons.append(f"RMS error {comparison.rms_error_wm2:.2f} W m-2 exceeds the allowed "
+                       f"{allowed_rms:.2f} W m-2")
+    if sigma > noise_limit:
+        source = "given with --noise-wm2" if noise_wm2 is not None else (
+            f"estimated from {comparison.noise_samples} second differences in time")
+        reasons.append(f"the output is noisier than the tolerance: noise {sigma:.2f} W m-2 "
+                       f"({source}) exceeds {noise_limit:.2f} W m-2, so errors of "
+                       f"{tol:g} W m-2 cannot be told from the noise (noise or an error that "
+                       f"changes from one value to the next)")
+    big = [f for f in explaining if f.largest_effect_wm2 > tol]
     if big:
-        reasons.append(f"{big[0].code} fits significantly better than the reference and changes "
-                       f"the insolation by up to {big[0].largest_effect_wm2:.2f} W m-2 (more "
-                       f"than the tolerance {tolerance_wm2:g} W m-2)")
-    verdict: Verdict = "inconsistent" if reasons else "consistent"
-    if verdict == "inconsistent" and not findings:
-        findings = [diagnosis.unexplained()]
+        reasons.append(f"{big[0].code} explains the differences and changes the insolation by "
+                       f"up to {big[0].largest_effect_wm2:.2f} W m-2 (more than the tolerance "
+                       f"{tol:g} W m-2)")
+    elif not reasons and any(f.largest_effect_wm2 > tol for f in partial):
+        f = next(f for f in partial if f.largest_effect_wm2 > tol)
+        reasons.append(f"{f.code} fits significantly better than the reference and changes "
+                       f"the insolation by up to {f.largest_effect_wm2:.2f} W m-2 (more than "
+                       f"the tolerance {tol:g} W m-2)")
     table_errors = _table_errors(output, model) if output.geometry else None
     point = (table_errors or {}).get("point_insolation_wm2")
     if point and point["max_abs_error"] > allowed:
         reasons.append(f"instantaneous insolation at the table's points is off by up to "
                        f"{point['max_abs_error']:.2f} W m-2 (allowed {allowed:.2f} W m-2)")
-        verdict = "inconsistent"
-        if not findings:
-            findings = [diagnosis.unexplained()]
-    return ValidationResult(verdict, tuple(reasons), float(tolerance_wm2), sigma, allowed,
-                            comparison, tuple(findings), output, setup, table_errors,
-                            tuple(notes))
+    insolation_bad = bool(reasons)
+    calendar_findings = []
+    if calendar_differs and not accept_file_calendar:
+        reasons.append(f"the file's calendar {output.calendar} is not the spec's "
+                       f"{spec_calendar} (give --accept-file-calendar to check the "
+                       f"insolation on the file's calendar)")
+        calendar_findings = [diagnosis.calendar_differs(output.calendar, spec_calendar)]
+    verdict: Verdict = "inconsistent" if reasons else "consistent"
+    if explaining:
+        head = explaining
+    elif insolation_bad:
+        head = [diagnosis.unexplained(partial[0] if partial else None)]
+    else:
+        head = []
+    findings = head + calendar_findings + partial
+    return ValidationResult(
+        verdict=verdict, reasons=tuple(reasons), tolerance_wm2=tol, noise_wm2=sigma,
+        allowed_max_abs_error_wm2=allowed, comparison=comparison, findings=tuple(findings),
+        output=output, setup=setup, table_errors=table_errors, notes=tuple(notes),
+        allowed_rms_error_wm2=allowed_rms, noise_limit_wm2=noise_limit,
+        noise_estimated=noise_wm2 is None, accept_file_calendar=accept_file_calendar)
 
 
 def validate(
@@ -292,6 +391,7 @@ def validate(
     daily_method: str | None = None,
     band_edges_deg=DEFAULT_BAND_EDGES_DEG,
     n_worst: int = 5,
+    accept_file_calendar: bool = False,
 ) -> ValidationResult:
     """Check a model's output file against an experiment spec.
 
@@ -310,7 +410,7 @@ def validate(
     daily_method : {"midday", "day_average"}, optional
         How the reference forms daily means (default ``day_average``, the exact
         time mean; see :func:`setup_from_spec`).
-    band_edges_deg, n_worst
+    band_edges_deg, n_worst, accept_file_calendar
         See :func:`validate_output`.
 
     Returns
@@ -325,7 +425,8 @@ def validate(
         output = table_to_output(read_orbit_table(model_file), setup)
     else:
         output = read_model_output(Path(model_file), var)
-    return validate_output(output, setup, tolerance_wm2, noise_wm2, band_edges_deg, n_worst)
+    return validate_output(output, setup, tolerance_wm2, noise_wm2, band_edges_deg, n_worst,
+                           accept_file_calendar)
 
 
 __all__ = [
@@ -339,6 +440,7 @@ __all__ = [
     "ValidationResult",
     "read_model_output",
     "read_orbit_table",
+    "same_calendar_layout",
     "setup_from_spec",
     "table_to_output",
     "validate",

@@ -34,9 +34,19 @@ Codes
     {eccentricity, obliquity_deg, perihelion_longitude_deg}, against the
     expected ones, with the closest Berger (1978) epoch within 1 Myr in
     ``details``. Three free parameters.
+``calendar_differs``
+    The file's calendar is not the spec's (360_day output for a noleap
+    experiment ...): the model did not run the experiment's year. Not fitted:
+    fitted value the file's calendar, expected value the spec's; the misfits
+    are those of the comparison, made on the file's calendar with the spec's
+    anchor. Only a file with a calendar is checked (NetCDF), and two calendars
+    that lay out the file's years identically (``standard`` and
+    ``proleptic_gregorian`` after 1582) do not differ. Reported by
+    :func:`bcgen.validate.validate_output`, unless the file's calendar is
+    accepted with ``--accept-file-calendar``.
 ``unexplained``
-    Reported when the output is inconsistent and no explanation reduces the
-    misfit significantly.
+    Reported first when the insolation is inconsistent and no catalogued
+    mistake explains it (see "Explains" below); partial fits follow it.
 
 Fitting
 -------
@@ -57,6 +67,19 @@ reference, ΔBIC = N ln(RSS_after / RSS_before) + k ln N (N values, k continuous
 parameters); misfits below :data:`MISFIT_FLOOR_WM2` count as that floor
 (numerical precision). An explanation is *significant* when ΔBIC ≤ −10
 (“very strong” evidence on the scale of Kass & Raftery 1995, from memory).
+Explains
+--------
+A significant explanation *explains* the differences (``explains: true``) when,
+with the mistake put into the reference, the output would pass the error rules
+(A) and (B) of :mod:`bcgen.validate.compare`: the misfit left is at most
+T + σₐ in RMS and at most T + √(2 ln N) σₐ at its largest (T the tolerance,
+σₐ = min(σ, T)). A significant explanation that leaves more is a *partial*
+fit (``explains: false``): it removes part of a difference it does not
+account for (a solar-constant ratio fitted to latitudes given in radians
+lowers the misfit from 201 to 165 W m-2). Explanations come first, best
+first; when there is none and the output is inconsistent the first finding
+is ``unexplained``, and partial fits follow, best first, as secondary.
+
 Some explanations are special cases of others: ``day_origin_off_by_one`` of
 ``equinox_day_shift`` (a shift of exactly ±1 day), ``perihelion_opposite`` and
 ``orbit_not_applied`` of ``orbital_elements_differ``. The special case is
@@ -84,7 +107,7 @@ Schwarz, G. (1978): Estimating the dimension of a model. Ann. Statist. 6,
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import cache
 
 import numpy as np
@@ -92,6 +115,7 @@ import numpy as np
 from bcgen.epochs import format_epoch
 from bcgen.orbit import solve as solve_orbit
 from bcgen.orbit.elements import OrbitalElements
+from bcgen.validate.compare import max_abs_allowed_wm2, noise_estimate, rms_allowed_wm2
 from bcgen.validate.reference import ForwardModel, orbit_with
 
 #: Differences below this (W m-2) are numerical precision, not a misfit.
@@ -125,6 +149,7 @@ CODES: dict[str, str] = {
     "orbit_not_applied": "the modern orbit instead of the experiment's",
     "orbital_elements_differ": "orbital elements of another epoch or solution (e, obliquity, "
                                "perihelion fitted)",
+    "calendar_differs": "the file's calendar is not the spec's (not fitted)",
     "unexplained": "inconsistent, and no catalogued mistake explains it",
 }
 
@@ -158,6 +183,14 @@ class Finding:
         ``delta_bic <= SIGNIFICANT_DELTA_BIC``.
     details : dict
         Extra fitted quantities.
+    max_abs_misfit_after_wm2 : float
+        Largest absolute difference between the model and the explanation's prediction.
+    noise_after_wm2 : float
+        Noise level σ of the residual left by the explanation
+        (:func:`bcgen.validate.compare.noise_estimate`).
+    explains : bool or None
+        Whether the explanation accounts for the differences to within the
+        tolerance (module docstring, "Explains"); None until judged.
     """
 
     code: str
@@ -172,6 +205,17 @@ class Finding:
     delta_bic: float
     significant: bool
     details: dict = field(default_factory=dict)
+    max_abs_misfit_after_wm2: float = float("nan")
+    noise_after_wm2: float = float("nan")
+    explains: bool | None = None
+
+    def judged(self, tolerance_wm2: float, noise_wm2: float, n_values: int) -> Finding:
+        """Return a copy with ``explains`` set by the rule of the module docstring."""
+        ok = (self.significant
+              and self.misfit_after_wm2 <= rms_allowed_wm2(tolerance_wm2, noise_wm2)
+              and self.max_abs_misfit_after_wm2 <= max_abs_allowed_wm2(
+                  tolerance_wm2, noise_wm2, n_values))
+        return replace(self, explains=bool(ok))
 
     def to_dict(self) -> dict:
         """Return the finding as JSON-ready data (keys of the ``findings`` objects)."""
@@ -187,6 +231,8 @@ class Finding:
             "free_parameters": self.free_parameters,
             "delta_bic": self.delta_bic,
             "significant": self.significant,
+            "explains": self.explains,
+            "max_abs_misfit_after_wm2": self.max_abs_misfit_after_wm2,
             "details": self.details,
         }
 
@@ -324,6 +370,9 @@ class Diagnosis:
                  details=None) -> Finding:
         rss = self._rss(prediction)
         score = self.delta_bic(rss, k)
+        left = self.y - prediction
+        residual = np.full(self.valid.shape, np.nan)
+        residual[self.valid] = left
         return Finding(
             code=code,
             description=description,
@@ -337,6 +386,8 @@ class Diagnosis:
             delta_bic=score,
             significant=score <= SIGNIFICANT_DELTA_BIC,
             details=details or {},
+            max_abs_misfit_after_wm2=float(np.max(np.abs(left))),
+            noise_after_wm2=noise_estimate(self.model.output, residual)[0],
         )
 
     def _shift_rss(self, coarse: bool = False, **kwargs) -> Callable[[float], float]:
@@ -516,11 +567,33 @@ class Diagnosis:
         sigma2 = rss_g / max(self.n - general.free_parameters, 1)
         return (rss_s - rss_g) / sigma2 > CHI2_9999[dof]
 
-    def unexplained(self) -> Finding:
-        """Return the finding reported when nothing in the catalogue explains an inconsistency."""
-        return Finding("unexplained", "no catalogued mistake explains the differences; see the "
-                       "worst places and the errors per month and latitude band", None, None,
-                       "", self.misfit_before, self.misfit_before, 0.0, 0, 0.0, False)
+    def unexplained(self, partial: Finding | None = None) -> Finding:
+        """Return the finding reported when nothing in the catalogue explains an inconsistency.
+
+        ``partial`` is the best partial fit, named in the description.
+        """
+        text = "no catalogued mistake explains the differences"
+        if partial is not None:
+            text += (f" (the best partial fit, {partial.code}, leaves a misfit of "
+                     f"{partial.misfit_after_wm2:.2f} of {partial.misfit_before_wm2:.2f} W m-2)")
+        text += "; see the worst places and the errors per month and latitude band"
+        return Finding("unexplained", text, None, None, "", self.misfit_before,
+                       self.misfit_before, 0.0, 0, 0.0, False,
+                       max_abs_misfit_after_wm2=float(np.max(np.abs(self.y - self.reference))),
+                       noise_after_wm2=float("nan"), explains=False)
+
+    def calendar_differs(self, file_calendar: str, spec_calendar: str) -> Finding:
+        """Return the finding of a file whose calendar is not the spec's (nothing fitted)."""
+        return Finding(
+            "calendar_differs",
+            f"the file is on the {file_calendar} calendar and the spec on {spec_calendar}: the "
+            f"model did not run the experiment's year (compared on the file's calendar with "
+            f"the spec's anchor; give --accept-file-calendar if the {file_calendar} calendar "
+            f"is intended)",
+            file_calendar, spec_calendar, "calendar", self.misfit_before, self.misfit_before,
+            0.0, 0, 0.0, False,
+            max_abs_misfit_after_wm2=float(np.max(np.abs(self.y - self.reference))),
+            noise_after_wm2=float("nan"), explains=None)
 
 
 def _same_orbit(a: OrbitalElements, b: OrbitalElements) -> bool:

@@ -4,7 +4,11 @@ NetCDF model output
     The variable is the one with CF standard name ``toa_incoming_shortwave_flux``
     (CMIP models call it ``rsdt``), or the one named with ``--var``; units must
     be W m-2. Dimensions: time, latitude (1-D, found by standard name, units or
-    axis) and optionally longitude; other dimensions must have length 1. A
+    axis) and optionally longitude; other dimensions must have length 1.
+    Latitudes must be in degrees north (CF §4.1 units ``degrees_north`` or an
+    alias; without units they are read as degrees north, with a note): other
+    units, such as ``radians`` or the plain ``degrees`` of a rotated pole, and
+    values beyond ±90 are refused. A
     latitude–longitude field is reduced to its zonal mean (NaN-aware: missing
     cells are left out of the mean), and the largest spread between longitudes
     is kept, since TOA insolation averaged over a day or a month does not depend
@@ -60,6 +64,7 @@ from typing import Literal
 import cftime
 import numpy as np
 
+from bcgen.cf import LATITUDE_UNITS
 from bcgen.errors import BcgenError, BcgenWarning, InputFileError
 from bcgen.solar_calendar.calendars import ModelCalendar, canonical_calendar
 
@@ -80,7 +85,7 @@ TABLE_COLUMNS: dict[str, str] = {
 }
 
 _POINT_COLUMN = re.compile(r"^insolation_wm2_lat(-?\d+(?:\.\d*)?)_lon(-?\d+(?:\.\d*)?)$")
-_LAT_UNITS = {"degrees_north", "degree_north", "degree_n", "degrees_n", "degreen", "degreesn"}
+_LAT_UNITS = {u.lower() for u in LATITUDE_UNITS}
 _LON_UNITS = {"degrees_east", "degree_east", "degree_e", "degrees_e", "degreee", "degreese"}
 _TIME_UNIT_DAYS = {"days": 1.0, "day": 1.0, "d": 1.0, "hours": 1 / 24, "hour": 1 / 24,
                    "hr": 1 / 24, "h": 1 / 24, "minutes": 1 / 1440, "minute": 1 / 1440,
@@ -214,6 +219,7 @@ def read_model_output(path, var: str | None = None) -> ModelOutput:
         notes: list[str] = []
         _check_units(da, where)
         time_dim, lat_dim, lon_dim = _find_dims(ds, da, where)
+        lat = _latitudes_deg(ds[lat_dim], where, notes)
         extra = [d for d in da.dims if d not in (time_dim, lat_dim, lon_dim)]
         for dim in extra:
             if da.sizes[dim] != 1:
@@ -239,10 +245,6 @@ def read_model_output(path, var: str | None = None) -> ModelOutput:
         else:
             values = np.asarray(da.values, dtype=float)
         values[~np.isfinite(values)] = np.nan
-        lat = np.asarray(ds[lat_dim].values, dtype=float)
-        if np.any(np.abs(lat) > 90.0 + 1e-6):
-            raise InputFileError(f"{where}: latitudes outside [-90, 90] degrees north")
-        lat = np.clip(lat, -90.0, 90.0)
         calendar, year, start, end, month, frequency = _read_time(ds, time_dim, where, notes)
     order_idx = np.lexsort((start, year))
     lat_order = np.argsort(lat)
@@ -320,6 +322,34 @@ def _coord_kind(var) -> str | None:
     if std == "longitude" or units in _LON_UNITS or axis == "X" or name in ("lon", "longitude"):
         return "longitude"
     return None
+
+
+def _latitudes_deg(coord, where: str, notes: list[str]) -> np.ndarray:
+    """Latitudes of a coordinate, degrees north; refuses other units and values beyond ±90.
+
+    CF §4.1 units of latitude: ``degrees_north`` and its aliases
+    (:data:`bcgen.cf.LATITUDE_UNITS`). Plain ``degrees`` is the unit of rotated-pole
+    ``grid_latitude`` (CF §4.1), and ``radians`` would be read 57 times too small.
+    A coordinate without units is read as degrees north, with a note.
+    """
+    name = coord.name
+    units = coord.attrs.get("units")
+    if units is None:
+        notes.append(f"latitude coordinate {name!r} has no units attribute; read as "
+                     f"degrees_north")
+    elif str(units).strip().lower() not in _LAT_UNITS:
+        raise InputFileError(f"{where}: latitude coordinate {name!r} has units {units!r}; "
+                             f"expected degrees_north (CF §4.1: "
+                             f"{', '.join(sorted(LATITUDE_UNITS))})")
+    lat = np.asarray(coord.values, dtype=float)
+    if lat.ndim != 1 or not np.all(np.isfinite(lat)):
+        raise InputFileError(f"{where}: latitude coordinate {name!r} must be a 1-D axis "
+                             f"without missing values")
+    if np.any(np.abs(lat) > 90.0 + 1e-6):
+        worst = float(lat[np.argmax(np.abs(lat))])
+        raise InputFileError(f"{where}: latitude coordinate {name!r} has values outside "
+                             f"[-90, 90] (e.g. {worst:g}); expected degrees north")
+    return np.clip(lat, -90.0, 90.0)
 
 
 def _find_dims(ds, da, where: str) -> tuple[str, str, str | None]:

@@ -11,14 +11,22 @@ key                            what it holds
 ``mean_error_wm2``             mean error (bias)
 ``tolerance_wm2``              T of the verdict rule
 ``noise_wm2``                  noise level σ used (estimated unless given)
-``allowed_max_abs_error_wm2``  T + √(2 ln N) σ
+``noise_estimated``            whether σ was estimated
+``noise_limit_wm2``            the largest σ not noisier than the tolerance
+``allowed_max_abs_error_wm2``  T + √(2 ln N) σₐ, σₐ = min(σ, T)
+``allowed_rms_error_wm2``      T + σₐ
+``accept_file_calendar``       whether a file calendar other than the spec's
+                               was accepted
 ``reasons``                    why the output is inconsistent (empty list if consistent)
 ``findings``                   explanations, best first, each with ``code``,
                                ``description``, ``fitted_value``,
                                ``misfit_before_wm2``, ``misfit_after_wm2`` and
                                ``expected_value``, ``unit``,
                                ``largest_effect_wm2``, ``free_parameters``,
-                               ``delta_bic``, ``significant``, ``details``
+                               ``delta_bic``, ``significant``, ``explains``
+                               (false for a partial fit, null for
+                               ``calendar_differs``),
+                               ``max_abs_misfit_after_wm2``, ``details``
 ``worst_places``               the largest errors, one per month and latitude
 ``errors_by_month_and_band``   ``month``, ``band``, ``n_values``,
                                ``max_abs_error_wm2``, ``rms_error_wm2``,
@@ -78,7 +86,11 @@ def to_dict(result) -> dict:
         "mean_error_wm2": comp.mean_error_wm2,
         "tolerance_wm2": result.tolerance_wm2,
         "noise_wm2": result.noise_wm2,
+        "noise_estimated": result.noise_estimated,
+        "noise_limit_wm2": result.noise_limit_wm2,
         "allowed_max_abs_error_wm2": result.allowed_max_abs_error_wm2,
+        "allowed_rms_error_wm2": result.allowed_rms_error_wm2,
+        "accept_file_calendar": result.accept_file_calendar,
         "reasons": list(result.reasons),
         "worst_places": [p.to_dict() for p in comp.worst],
         "errors_by_month_and_band": [c.to_dict() for c in comp.cells],
@@ -146,9 +158,13 @@ def to_text(result) -> str:
     lines.append(
         f"verdict: {result.verdict.upper()}  max abs error {comp.max_abs_error_wm2:.3f} W m-2 "
         f"(allowed {result.allowed_max_abs_error_wm2:.3f} = tolerance {result.tolerance_wm2:g} + "
-        f"noise allowance for sigma {result.noise_wm2:.3f}), rms {comp.rms_error_wm2:.3f}, "
-        f"mean {comp.mean_error_wm2:+.3f} W m-2; {comp.n_values} values"
-        + (f", {comp.n_missing} missing" if comp.n_missing else ""))
+        f"noise allowance), rms {comp.rms_error_wm2:.3f} (allowed "
+        f"{result.allowed_rms_error_wm2:.3f}), mean {comp.mean_error_wm2:+.3f} W m-2; "
+        f"{comp.n_values} values" + (f", {comp.n_missing} missing" if comp.n_missing else ""))
+    lines.append(
+        f"noise: sigma {result.noise_wm2:.3f} W m-2 "
+        f"({'estimated' if result.noise_estimated else 'given'}; at most "
+        f"{result.noise_limit_wm2:.3f} allowed, counted up to the tolerance in the allowances)")
     lines += [f"  because {r}" for r in result.reasons]
     if result.table_errors:
         lines.append("orbit table errors: " + "; ".join(
@@ -175,11 +191,14 @@ def to_text(result) -> str:
             lines.append("  " + f"{band:>9}" + cells)
     lines.append("")
     if result.findings:
-        lines.append("diagnosis (explanations that reduce the misfit, best first):")
+        lines.append("diagnosis (explanations first, best first; then partial fits):")
         for i, f in enumerate(result.findings, 1):
             value = _value(f)
+            mark = " [partial fit: does not explain the differences]" if (
+                f.explains is False and f.code != "unexplained") else ""
             lines.append(f"  {i}. {f.code}" + (f" = {value}" if value else "")
-                         + f": misfit {f.misfit_before_wm2:.3f} -> {f.misfit_after_wm2:.3f} W m-2")
+                         + f": misfit {f.misfit_before_wm2:.3f} -> {f.misfit_after_wm2:.3f} W m-2"
+                         + mark)
             lines.append(f"     {f.description}")
     else:
         lines.append("diagnosis: no catalogued mistake fits significantly better than the "
@@ -194,12 +213,20 @@ def summary_line(result) -> str:
     text = (f"{result.output.source} is inconsistent with the spec: max abs error "
             f"{comp.max_abs_error_wm2:.2f} W m-2 ({where}; allowed "
             f"{result.allowed_max_abs_error_wm2:.2f})")
-    if result.findings and result.findings[0].code != "unexplained":
-        f = result.findings[0]
-        value = _value(f)
-        text += (f"; most likely {f.code}" + (f" ({value})" if value and not isinstance(
-            f.fitted_value, dict) else "") + f", misfit {f.misfit_before_wm2:.2f} -> "
-                 f"{f.misfit_after_wm2:.2f} W m-2")
+    if result.noise_wm2 > result.noise_limit_wm2:
+        text += (f"; noisier than the tolerance (noise {result.noise_wm2:.2f} W m-2, tolerance "
+                 f"{result.tolerance_wm2:g})")
+    first = result.findings[0] if result.findings else None
+    if first is not None and first.code not in ("unexplained", "calendar_differs"):
+        value = _value(first)
+        text += (f"; most likely {first.code}" + (f" ({value})" if value and not isinstance(
+            first.fitted_value, dict) else "") + f", misfit {first.misfit_before_wm2:.2f} -> "
+                 f"{first.misfit_after_wm2:.2f} W m-2")
+    elif first is not None and first.code == "calendar_differs":
+        text += (f"; the file's calendar {first.fitted_value} is not the spec's "
+                 f"{first.expected_value}")
     else:
         text += "; no catalogued mistake explains it"
+    if any(f.code == "calendar_differs" for f in result.findings[1:]):
+        text += "; the file's calendar is not the spec's"
     return text

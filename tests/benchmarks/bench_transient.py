@@ -158,7 +158,8 @@ def speed(rounds: int) -> None:
     )
     rounds_text = ", ".join(f"{b / w:.2f}" for b, w in zip(t_build, t_bare, strict=True))
     print(
-        f"  ratio build / bare = {ratio:.2f} (rounds: {rounds_text}; target <= "
+        f"  ratio build / bare = {ratio:.2f}, median build time / median bare time (per-round "
+        f"ratios: {rounds_text}; target <= "
         f"{TARGET_RATIO:g}: {'met' if ratio <= TARGET_RATIO else 'NOT met'})"
     )
     print(
