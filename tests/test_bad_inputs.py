@@ -117,6 +117,11 @@ FILES: dict[str, Path | bytes | Callable[[Path], None]] = {
     "existing.nc": b"an earlier output that must survive\n",
     "existing.png": b"an earlier figure that must survive\n",
     "a_file": b"a file where a folder is expected\n",
+    # A transient run of 20 model years, two products, files of 10 model years.
+    "transient.yaml": b"experiment: {name: tr}\n"
+                      b"transient: {start_epoch: 6ka, end_epoch: 5981 BP, years_per_file: 10}\n"
+                      b"grid: {kind: zonal, resolution_deg: 30}\n"
+                      b"products: [orbit, monthly_insolation_fixed_day]\n",
 }
 
 
@@ -180,6 +185,62 @@ def disk_full(monkeypatch, after: int = 0) -> None:
         raise OSError(errno.ENOSPC, "No space left on device")
 
     monkeypatch.setattr(bcgen.writer, "_to_netcdf", write)
+
+
+def no_space_left(monkeypatch) -> None:
+    """The file system reports no free block (os.statvfs f_bavail = 0), as a full disk does."""
+    real = os.statvfs
+
+    def statvfs(path):
+        st = real(path)
+        return os.statvfs_result((st.f_bsize, st.f_frsize, st.f_blocks, 0, 0, st.f_files,
+                                  st.f_ffree, st.f_favail, st.f_flag, st.f_namemax))
+
+    monkeypatch.setattr(os, "statvfs", statvfs)
+
+
+def disk_full_as(monkeypatch, error: BaseException, after: int = 0) -> None:
+    """A full disk that the netCDF library reports as ``error`` rather than ENOSPC.
+
+    The library turns a file it cannot create into EACCES ("Permission denied") and a
+    failed HDF5 write into RuntimeError "NetCDF: HDF error" (netCDF-C's error codes, from
+    memory); the free space (statvfs) is what tells a full disk.
+    """
+    real = bcgen.writer._to_netcdf
+    calls = {"n": 0}
+
+    def write(dataset, tmp, encoding):
+        calls["n"] += 1
+        if calls["n"] <= after:
+            return real(dataset, tmp, encoding)
+        with open(tmp, "wb") as fh:
+            fh.write(b"\x89HDF\r\n\x1a\n partly written")
+        raise error
+
+    monkeypatch.setattr(bcgen.writer, "_to_netcdf", write)
+    no_space_left(monkeypatch)
+
+
+def transient_disk_full(monkeypatch, after: int = 0) -> None:
+    """A full disk under a transient build: its low-level chunk write fails (after ``after``).
+
+    The failing write first writes part of its values, as a real one does, then raises
+    what the netCDF library raises: RuntimeError "NetCDF: HDF error".
+    """
+    from bcgen.transient.stream import SeriesFile
+
+    real = SeriesFile.write_chunk
+    calls = {"n": 0}
+
+    def write_chunk(self, name, start, values):
+        calls["n"] += 1
+        if calls["n"] <= after:
+            return real(self, name, start, values)
+        real(self, name, start, values[:1])
+        raise RuntimeError("NetCDF: HDF error")
+
+    monkeypatch.setattr(SeriesFile, "write_chunk", write_chunk)
+    no_space_left(monkeypatch)
 
 
 def built_before(folder: Path, monkeypatch) -> None:
@@ -299,6 +360,10 @@ CASES = [
     C("feb30-noleap-option", ["months", "6ka", "--equinox", "02-30 00:00"],
       r"^--equinox: anchor date 02-30 00:00 does not exist in calendar noleap \(February has 28 "
       r"days\); give a date that exists in every year$"),
+    C("feb30-noleap-convert-option",
+      ["convert", "model.nc", "-o", "out.nc", "--epoch", "6ka", "--equinox", "02-30 12:00"],
+      r"^--equinox: anchor date 02-30 12:00 does not exist in calendar noleap \(February has 28 "
+      r"days\)$", ["model.nc"]),
     C("month-13-option", ["months", "6ka", "--equinox", "13-01 00:00"],
       r"^--equinox: '13-01 00:00': anchor month must be a whole number from 1 to 12; got 13$"),
     C("year-0-standard", "months 6ka --calendar standard --year 0",
@@ -405,6 +470,17 @@ CASES = [
     C("disk-full-build-second-file", "build ok.yaml -o out",
       r"^cannot write out/t_monthly_insolation_fixed_day\.nc: no space left on the device "
       r"\(disk full\)$", ["ok.yaml"], prepare=lambda d, mp: disk_full(mp, after=1)),
+    C("disk-full-as-eacces-convert", "convert model.nc -o out.nc --epoch 6ka",
+      r"^cannot write out\.nc: no space left on the device \(disk full\)$", ["model.nc"],
+      prepare=lambda d, mp: disk_full_as(mp, PermissionError(errno.EACCES, "Permission denied"))),
+    C("disk-full-as-hdf-error-build", "build ok.yaml -o out",
+      r"^cannot write out/t_monthly_insolation_fixed_day\.nc: no space left on the device "
+      r"\(disk full\)$", ["ok.yaml"],
+      prepare=lambda d, mp: disk_full_as(mp, RuntimeError("NetCDF: HDF error"), after=1)),
+    C("disk-full-transient", "build transient.yaml -o out",
+      r"^cannot write out/tr_orbit_1-10\.nc: no space left on the device \(disk full\)$",
+      ["transient.yaml"],
+      prepare=lambda d, mp: ((d / "out").mkdir(), transient_disk_full(mp))),
     C("disk-full-build-force", "build ok.yaml -o out --force",
       r"^cannot write out/t_monthly_insolation_fixed_day\.nc: no space left on the device "
       r"\(disk full\)$", ["ok.yaml"],

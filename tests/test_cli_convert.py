@@ -193,6 +193,117 @@ def test_daily_input_and_inverse_direction(tmp_path, capsys):
     assert_cf_compliant(back)
 
 
+# --- CF climatologies (CF 1.11 §7.4) -------------------------------------------------------------
+CLIM_YEARS = 30  # a 1980-2009 climatology: each interval from its start in 1980 to its end in 2009
+
+
+def write_climatology(path, *, bounds_units=True, calendar="noleap"):
+    """A CF climatology of monthly means of the analytic cycle over 1980-2009 (CF §7.4).
+
+    The climatology bounds run from each month's start in 1980 to its end in 2009, as in
+    the climatology examples of CF §7.4. With ``bounds_units=False`` they carry no units
+    or calendar: CF §7.4 lets them be left out, and they are then the time variable's.
+    """
+    edges = month_edges()
+    with netCDF4.Dataset(path, "w") as nc:
+        nc.createDimension("time", 12)
+        nc.createDimension("lat", 2)
+        nc.createDimension("bnds", 2)
+        t = nc.createVariable("time", "f8", ("time",))
+        t.units, t.calendar = "days since 1980-01-01 00:00:00", calendar
+        t.standard_name, t.axis, t.climatology = "time", "T", "climatology_bnds"
+        t[:] = 0.5 * (edges[:-1] + edges[1:])
+        cb = nc.createVariable("climatology_bnds", "f8", ("time", "bnds"))
+        if bounds_units:
+            cb.units, cb.calendar = t.units, calendar
+        cb[:, 0] = edges[:-1]
+        cb[:, 1] = edges[1:] + 365.0 * (CLIM_YEARS - 1)
+        la = nc.createVariable("lat", "f8", ("lat",))
+        la.units, la.standard_name = "degrees_north", "latitude"
+        la[:] = [-30.0, 30.0]
+        v = nc.createVariable("tas", "f8", ("time", "lat"))
+        v.units, v.standard_name = "K", "air_temperature"
+        v.cell_methods = "time: mean within years time: mean over years"
+        v[:] = np.repeat(cycle_mean(edges[:-1], edges[1:]), 2).reshape(12, 2)
+        nc.Conventions = "CF-1.11"
+
+
+def climatology_bounds(path):
+    """Raw climatology bounds (days since the units' date), their units and the calendar."""
+    with netCDF4.Dataset(path) as nc:
+        t = nc["time"]
+        return np.asarray(nc[t.climatology][:]), t.units, t.calendar
+
+
+def fixed_angle_starts(capsys, epoch):
+    """Start days of the fixed-angle months, as ``bcgen months`` defines them."""
+    status, stdout, _ = run(["months", epoch, "--format", "json"], capsys)
+    assert status == 0
+    return np.array([m["start_day"] for m in json.loads(stdout)])
+
+
+def test_climatology_bounds_without_units_take_the_time_units(tmp_path, capsys):
+    src, out = tmp_path / "clim.nc", tmp_path / "out.nc"
+    write_climatology(src, bounds_units=False)
+    status, _, err = run(["convert", str(src), "-o", str(out), "--epoch", "127ka",
+                          "--method", "epstein1991"], capsys)
+    assert status == 0, err
+    bnds, units, calendar = climatology_bounds(out)
+    assert (units, calendar) == ("days since 1980-01-01", "noleap")
+    # Still a 1980-2009 climatology: each fixed-angle month from its start in 1980
+    # (the definition of `bcgen months`) to its end in 2009.
+    starts = fixed_angle_starts(capsys, "127ka")
+    np.testing.assert_allclose(bnds[:, 0], starts, atol=1e-6)
+    ends = np.append(starts[1:], starts[0] + 365.0)
+    np.testing.assert_allclose(bnds[:, 1], ends + 365.0 * (CLIM_YEARS - 1), atol=1e-6)
+    with xr.open_dataset(out, decode_times=DECODE) as ds:
+        got = ds["tas"].values[:, 0]
+        assert ds["time"].attrs["climatology"] == "climatology_bnds"
+    # Epstein (1991): the 12 harmonic terms include the annual one, and the fit that
+    # reproduces the 12 month means is unique, so an annual harmonic is reconstructed
+    # exactly and the new means are its analytic means (to float64 round-off).
+    np.testing.assert_allclose(got, cycle_mean(starts, ends), rtol=0, atol=1e-8)
+    assert_cf_compliant(out)
+
+
+@pytest.mark.parametrize("method", ["epstein1991", "killworth1996"])
+def test_climatology_round_trip_through_fixed_angle_months(tmp_path, capsys, method):
+    src, fa, back = tmp_path / "clim.nc", tmp_path / "fa.nc", tmp_path / "back.nc"
+    write_climatology(src, calendar="365_day")
+    assert main(["convert", str(src), "-o", str(fa), "--epoch", "127ka",
+                 "--method", method]) == 0
+    status, _, err = run(["convert", str(fa), "-o", str(back), "--to", "fixed-day",
+                          "--method", method], capsys)
+    assert status == 0, err
+    # The climatology comes back over the same months and years, in the calendar named as
+    # the input names it (365_day is CF's other name of noleap, CF §4.4.1).
+    np.testing.assert_allclose(climatology_bounds(back)[0], climatology_bounds(src)[0],
+                               atol=1e-6)
+    assert climatology_bounds(fa)[2] == climatology_bounds(back)[2] == "365_day"
+    with xr.open_dataset(src) as a, xr.open_dataset(back) as b:
+        err_k = np.max(np.abs(b["tas"].values - a["tas"].values))
+    if method == "epstein1991":
+        # Exact for an annual harmonic both ways (see the test above): float64 round-off.
+        assert err_k < 1e-8
+    else:
+        # Two conversions, each within the Killworth bound of test_values_follow_the_truth
+        # (0.24 K for this 10 K harmonic at 127 ka, derived in
+        # tests/test_convert_api.py::interpolation_bound).
+        assert err_k < 2 * 0.24
+
+
+def test_calendar_name_is_kept_as_written(tmp_path, capsys):
+    for written, kept in (("365_day", "365_day"), ("noleap", "noleap"),
+                          ("gregorian", "standard")):  # CF 1.9 deprecated "gregorian"
+        src, out = tmp_path / f"{written}.nc", tmp_path / f"{written}_out.nc"
+        write_series(src, month_edges(), calendar=written)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            assert main(["convert", str(src), "-o", str(out), "--epoch", "6ka"]) == 0
+        with netCDF4.Dataset(out) as nc:
+            assert nc["time"].calendar == kept
+
+
 def test_scheduler_option_runs_on_a_cluster(two_files, tmp_path, capsys):
     distributed = pytest.importorskip("distributed")
     out_local, out_cluster = tmp_path / "local.nc", tmp_path / "cluster.nc"

@@ -68,6 +68,17 @@ def test_every_command_is_registered():
                              "plot"}
 
 
+def test_every_listed_command_has_its_module():
+    # bcgen/cli/__init__.py lists the subcommand modules; a listed name without a module
+    # would be skipped silently (build_parser ignores a missing module).
+    import bcgen.cli
+
+    here = Path(bcgen.cli.__file__).parent
+    missing = [name for name in bcgen.cli.COMMANDS if not (here / f"{name}.py").is_file()]
+    assert missing == []
+    assert COMMANDS == bcgen.cli.COMMANDS
+
+
 @pytest.mark.parametrize("command", [None, *COMMANDS])
 def test_help_shows_an_example_that_names_the_command(command, run_cli):
     argv = ["--help"] if command is None else [command, "--help"]

@@ -21,6 +21,7 @@ from bcgen.convert.api import (
     to_fixed_angle_months,
     to_fixed_day_months,
 )
+from bcgen.convert.interpolation import METHODS
 from bcgen.errors import InputFileError
 from bcgen.orbit import solve
 from bcgen.solar_calendar.calendars import ModelCalendar
@@ -336,6 +337,23 @@ def test_missing_values_and_masks():
     shift = np.abs(start - edges[:-1]) + np.abs(end - edges[1:])
     tol = pattern * interpolation_bound(np.max(shift / (end - start)))
     assert np.max(np.abs(out[ok, 1, 1] - pattern * exact_mean(start, end)[ok])) < tol
+
+
+def test_epstein_loses_the_whole_year_of_a_point_with_one_missing_month():
+    # Documented in bcgen.convert.interpolation: every Epstein (1991) coefficient depends on
+    # all twelve means, so one missing month leaves nothing to fit at that point.
+    ds, _ = make_dataset(month_edges("noleap", 1, 1), climatology=True)
+    tas = ds["tas"].values.copy()
+    tas[4, 1, 1] = np.nan
+    ds["tas"].values = tas
+    epstein = to_fixed_angle_months(ds, ORBIT_6KA, method="epstein1991")["tas"].values
+    assert np.isnan(epstein[:, 1, 1]).all()
+    others = np.ones(epstein.shape[1:], dtype=bool)
+    others[1, 1] = False
+    assert np.isfinite(epstein[:, others]).all()
+    killworth = to_fixed_angle_months(ds, ORBIT_6KA)["tas"].values
+    assert 10 <= np.isfinite(killworth[:, 1, 1]).sum() < 12  # only the months near the gap
+    assert "whole year" in METHODS["epstein1991"][0]
 
 
 def test_packed_and_integer_variables(tmp_path):

@@ -560,6 +560,59 @@ def test_disk_full_leaves_no_file(tmp_path, small, monkeypatch):
     assert list(tmp_path.iterdir()) == []
 
 
+def _free_blocks(n: int):
+    """A stand-in for os.statvfs reporting ``n`` blocks free (the rest as the real one says)."""
+    real = os.statvfs
+
+    def fake(path):
+        st = real(path)
+        return os.statvfs_result((st.f_bsize, st.f_frsize, st.f_blocks, n, n, st.f_files,
+                                  st.f_ffree, st.f_favail, st.f_flag, st.f_namemax))
+
+    return fake
+
+
+# A full disk does not always come back as ENOSPC: the netCDF library turns a file it could
+# not create into EACCES ("Permission denied") and a failed HDF5 write into "NetCDF: HDF
+# error" (netCDF-C's documented error codes, from memory). The writer then asks the file
+# system how much space is left (statvfs f_bavail, POSIX).
+@pytest.mark.parametrize(
+    "failure",
+    [
+        PermissionError(errno.EACCES, "Permission denied"),
+        RuntimeError("NetCDF: HDF error"),
+        OSError(errno.EIO, "Input/output error"),
+    ],
+    ids=["eacces", "hdf-error", "eio"],
+)
+def test_full_disk_is_named_whatever_the_library_reports(tmp_path, small, monkeypatch, failure):
+    monkeypatch.setattr(os, "statvfs", _free_blocks(0))
+    monkeypatch.setattr(writer, "_to_netcdf", _partial_then(failure))
+    with pytest.raises(OutputError) as info:
+        write_netcdf(small, tmp_path / "full.nc")
+    assert str(info.value) == (
+        f"cannot write {tmp_path / 'full.nc'}: no space left on the device (disk full)"
+    )
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_quota_and_a_writable_disk_are_told_apart(tmp_path, small, monkeypatch):
+    # EDQUOT (POSIX): out of space for this user, whatever statvfs says.
+    monkeypatch.setattr(writer, "_to_netcdf",
+                        _partial_then(OSError(errno.EDQUOT, "Disk quota exceeded")))
+    with pytest.raises(OutputError, match=r"q\.nc: no space left on the device \(disk quota "
+                       r"exceeded\)$"):
+        write_netcdf(small, tmp_path / "q.nc")
+    # Plenty of space (1e6 free blocks): EACCES is a permission problem, not a full disk.
+    monkeypatch.setattr(os, "statvfs", _free_blocks(10**6))
+    monkeypatch.setattr(writer, "_to_netcdf",
+                        _partial_then(PermissionError(errno.EACCES, "Permission denied")))
+    with pytest.raises(OutputError, match=r"p\.nc: permission denied \(is the folder "
+                       r"writable\?\)$"):
+        write_netcdf(small, tmp_path / "p.nc")
+    assert list(tmp_path.iterdir()) == []
+
+
 def test_library_failure_is_one_line_and_leaves_no_file(tmp_path, small, monkeypatch):
     monkeypatch.setattr(writer, "_to_netcdf", _partial_then(RuntimeError("NetCDF: HDF error\n")))
     with pytest.raises(OutputError, match=r"lib.nc: NetCDF: HDF error$") as info:

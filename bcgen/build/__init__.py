@@ -25,7 +25,7 @@ from bcgen.build.context import BuildContext
 from bcgen.build.products import PRODUCTS, Output, make_outputs
 from bcgen.errors import OutputError
 from bcgen.spec import ExperimentSpec
-from bcgen.writer import write_netcdf
+from bcgen.writer import write_failure, write_netcdf
 
 __all__ = ["PRODUCTS", "BuildResult", "build", "write_text_atomic"]
 
@@ -173,7 +173,7 @@ def write_text_atomic(path: Path, text: str, *, force: bool = False) -> Path:
             os.fsync(fh.fileno())
         os.replace(tmp, path)
     except OSError as exc:
-        raise OutputError(f"cannot write {path}: {exc.strerror or exc}") from None
+        raise OutputError(write_failure(path, exc)) from None
     finally:
         if tmp.exists():
             tmp.unlink()

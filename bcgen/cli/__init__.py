@@ -5,7 +5,10 @@ Each subcommand lives in ``bcgen/cli/<name>.py`` and exposes
 Errors derived from :class:`bcgen.errors.BcgenError` are printed as one line
 ``bcgen: error: ...`` with their exit status (2 for bad input, 1 for a check
 that failed by design); ``--debug`` shows the traceback instead. An interrupt
-(Ctrl-C) prints one line and exits with status 130.
+(Ctrl-C) prints one line and exits with status 130. SIGTERM, which batch
+schedulers send when a job reaches its time limit, is handled the same way
+(temporary files deleted, completed files kept) and exits with status 143
+(128 + 15, the shell's convention for a process ended by signal 15).
 
 ``-q``/``--quiet``, ``-v``/``--verbose`` and ``--debug`` are accepted before and
 after the subcommand (``bcgen -q build ...`` and ``bcgen build -q ...``):
@@ -18,9 +21,12 @@ escapes, and progress bars only when stderr is a terminal.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import importlib
 import os
+import signal
 import sys
+import threading
 import time
 import warnings
 
@@ -28,7 +34,42 @@ from bcgen import __version__
 from bcgen.errors import BcgenError, BcgenWarning, CheckFailed
 
 #: Subcommand modules, in the order ``bcgen --help`` lists them.
-COMMANDS = ("build", "orbit", "months", "insolation", "convert", "validate", "transient", "plot")
+COMMANDS = ("build", "orbit", "months", "insolation", "convert", "validate", "plot")
+
+INTERRUPTED = "bcgen: interrupted; no partial output was left"
+TERMINATED = "bcgen: terminated; no partial output was left"
+
+
+class Terminated(KeyboardInterrupt):
+    """SIGTERM arrived: raised in the main thread so that Ctrl-C's clean-up runs too."""
+
+
+def _raise_terminated(signum, frame) -> None:
+    # Once is enough: a second SIGTERM must not interrupt the clean-up of the first.
+    signal.signal(signal.SIGTERM, signal.SIG_IGN)
+    raise Terminated
+
+
+@contextlib.contextmanager
+def _sigterm_as_interrupt():
+    """Turn SIGTERM into :class:`Terminated` for the duration of one command."""
+    if threading.current_thread() is not threading.main_thread():
+        yield  # signal handlers can only be set from the main thread
+        return
+    previous = signal.signal(signal.SIGTERM, _raise_terminated)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGTERM, previous)
+
+
+def _interrupted(exc: KeyboardInterrupt) -> int:
+    """Print the one line of an interrupt and return its exit status (130 or 143)."""
+    if isinstance(exc, Terminated):
+        print(TERMINATED, file=sys.stderr)
+        return 128 + signal.SIGTERM
+    print(INTERRUPTED, file=sys.stderr)
+    return 130
 
 
 class _Parser(argparse.ArgumentParser):
@@ -78,13 +119,17 @@ def _add_common_options(parser: argparse.ArgumentParser, prefix: str) -> None:
 
 def main(argv: list[str] | None = None) -> int:
     """Run the ``bcgen`` command line; return the exit status."""
+    with _sigterm_as_interrupt():
+        return _main(argv)
+
+
+def _main(argv: list[str] | None) -> int:
     started = time.perf_counter()
     try:
         parser = build_parser()
         args = parser.parse_args(argv)
-    except KeyboardInterrupt:  # Ctrl-C while starting up
-        print("bcgen: interrupted; no partial output was left", file=sys.stderr)
-        return 130
+    except KeyboardInterrupt as exc:  # Ctrl-C or SIGTERM while starting up
+        return _interrupted(exc)
     # Options given after the subcommand add to those given before it.
     args.quiet += getattr(args, "sub_quiet", 0)
     args.verbose += getattr(args, "sub_verbose", 0)
@@ -106,11 +151,10 @@ def main(argv: list[str] | None = None) -> int:
             prefix = "check failed" if isinstance(exc, CheckFailed) else "error"
             print(f"bcgen: {prefix}: {_one_line(str(exc))}", file=sys.stderr)
             return exc.exit_status
-        except KeyboardInterrupt:
+        except KeyboardInterrupt as exc:  # Ctrl-C, or SIGTERM (Terminated)
             if args.debug:
                 raise
-            print("bcgen: interrupted; no partial output was left", file=sys.stderr)
-            return 130
+            return _interrupted(exc)
         except BrokenPipeError:
             # The reader of our output went away (`bcgen orbit ... | head`): not an error.
             devnull = os.open(os.devnull, os.O_WRONLY)

@@ -92,6 +92,11 @@ def summarize(result) -> dict:
     return summary
 
 
+def _count(n, noun: str) -> str:
+    """``1 year``, ``10 years``."""
+    return f"{n} {noun}" if n == 1 else f"{n} {noun}s"
+
+
 def _size(n: int) -> str:
     for unit in ("B", "KiB", "MiB", "GiB"):
         if n < 1024 or unit == "GiB":
@@ -126,9 +131,9 @@ def format_summary(s: dict) -> str:
         first, last = s["model_years"]
         lines += [
             f"  model years {first}-{last}: epochs {s['start_epoch']} to {s['end_epoch']}, "
-            f"{s['acceleration']} years of orbit per model year, {s['years_per_file']} model "
-            f"years per file; orbit {s['orbit_solution']}, solar constant "
-            f"{s['solar_constant_wm2']} W m-2",
+            f"{_count(s['acceleration'], 'year')} of orbit per model year, "
+            f"{_count(s['years_per_file'], 'model year')} per file; orbit "
+            f"{s['orbit_solution']}, solar constant {s['solar_constant_wm2']} W m-2",
             f"  calendar: {s['calendar']['name']}, {s['calendar']['anchor']}",
         ]
         if s.get("greenhouse_gases"):

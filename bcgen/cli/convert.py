@@ -13,7 +13,7 @@ import contextlib
 import json
 import sys
 
-from bcgen.errors import BcgenError, OrbitError
+from bcgen.errors import BcgenError, CalendarError, OrbitError
 from bcgen.orbit.elements import PERIHELION_CONVENTIONS
 
 #: A progress bar appears (on a terminal only) for conversions longer than this.
@@ -186,10 +186,18 @@ def run(args) -> int:
     ds, label = open_inputs(args.inputs)
     with ds:
         if args.to == "fixed-angle":
-            out = to_fixed_angle_months(ds, orbit, reference=reference, anchor=anchor,
-                                        calendar=calendar, method=args.method, cyclic=cyclic,
-                                        min_valid_fraction=args.min_valid_fraction,
-                                        source=label)
+            try:
+                out = to_fixed_angle_months(ds, orbit, reference=reference, anchor=anchor,
+                                            calendar=calendar, method=args.method,
+                                            cyclic=cyclic,
+                                            min_valid_fraction=args.min_valid_fraction,
+                                            source=label)
+            except CalendarError as exc:
+                # An anchor that exists in no year of the file's calendar (02-30 in noleap)
+                # is found only once the calendar is read: name the option that gave it.
+                if args.equinox is None or not str(exc).startswith("anchor date"):
+                    raise
+                raise CalendarError(f"--equinox: {exc}") from None
         else:
             out = to_fixed_day_months(ds, method=args.method, cyclic=cyclic,
                                       min_valid_fraction=args.min_valid_fraction, source=label)

@@ -17,7 +17,11 @@ How
   climatology).
 - Missing data: see :mod:`bcgen.convert.aggregate` (a month whose source is all
   missing stays missing; a partly missing one is the mean of its valid part when that
-  covers at least ``min_valid_fraction`` of it).
+  covers at least ``min_valid_fraction`` of it). With ``epstein1991`` one missing
+  month makes every month of that point's year missing: the harmonic fit needs all
+  twelve means.
+- The output's time axis repeats the input's calendar name as written (``365_day``
+  stays ``365_day``; only the deprecated ``gregorian`` becomes ``standard``).
 - The work is lazy on dask-backed data: each variable goes through
   :meth:`dask.array.Array.map_blocks`, one task per spatial chunk with the whole time
   axis (time is made one chunk when needed; the time axis keeps its place, so blocks
@@ -391,15 +395,16 @@ def _time_coordinate(axis: TimeAxis, start, end, cyclic_years, attrs) -> xr.Data
         lower = start - axis.year_offset_days(axis.origin_year) + axis.year_offset_days(y1)
         upper = end - axis.year_offset_days(axis.origin_year) + axis.year_offset_days(y2)
     units = f"days since {axis.origin_year:04d}-01-01 00:00:00"
+    calendar = axis.calendar_name or cal.name  # as the input writes it (365_day stays 365_day)
     times = np.array([axis.date(t) for t in mid], dtype=object)
     bnds = np.array([[axis.date(a), axis.date(b)] for a, b in zip(lower, upper, strict=True)],
                     dtype=object)
     tvar_attrs.update({"standard_name": "time", "axis": "T", link: bname})
     time = xr.Variable((dim,), times, tvar_attrs,
-                       encoding={"units": units, "calendar": cal.name, "dtype": "float64",
+                       encoding={"units": units, "calendar": calendar, "dtype": "float64",
                                  "_FillValue": None})
     bounds = xr.Variable((dim, "bnds"), bnds, {},
-                         encoding={"units": units, "calendar": cal.name, "dtype": "float64",
+                         encoding={"units": units, "calendar": calendar, "dtype": "float64",
                                    "_FillValue": None})
     return xr.Dataset({bname: bounds}, coords={dim: time})
 
@@ -433,7 +438,9 @@ def to_fixed_angle_months(
     calendar : ModelCalendar or str, optional
         Must match the file's calendar; a ModelCalendar also gives the anchor.
     method : {"killworth1996", "epstein1991"}
-        Interpolation of monthly means (ignored for daily input).
+        Interpolation of monthly means (ignored for daily input). ``epstein1991``
+        needs all twelve months at a point: one missing month makes that point's
+        whole year missing (``killworth1996`` interpolates each run of valid months).
     cyclic : bool, optional
         Force a climatology or a series (default: detected, see :mod:`bcgen.convert.timeaxis`).
     min_valid_fraction : float

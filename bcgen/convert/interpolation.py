@@ -41,6 +41,9 @@ Methods
     formula assumes equal months; here the coefficients solve the 12 × 12 system of
     exact interval means of each harmonic over the actual (unequal) months, which
     reduces to Epstein's formula for equal months. Climatologies (cyclic) only.
+    Missing data: every coefficient depends on every month, so one missing month
+    makes the whole year of that point missing (all twelve converted months are
+    NaN there); ``killworth1996`` keeps the months it can compute.
 
 End rules
 ---------
@@ -87,7 +90,7 @@ METHODS: dict[str, tuple[str, str]] = {
     "epstein1991": (
         "harmonic series with as many terms as intervals reproducing every interval mean "
         "(Epstein 1991), generalised to unequal month lengths, integrated exactly; "
-        "climatologies only",
+        "climatologies only; one missing month makes that point's whole year missing",
         "Epstein, E. S. (1991), On obtaining daily climatological values from monthly means, "
         "J. Climate 4, 365-368",
     ),

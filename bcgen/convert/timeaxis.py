@@ -17,6 +17,13 @@ Rules (documented for users in :mod:`bcgen.convert`)
 - The input is a climatology (cyclic) when its time variable has a CF ``climatology``
   attribute (CF §7.4), or when it holds exactly one calendar year (1 January to
   1 January) of means; otherwise it is a series.
+- Climatology bounds (CF §7.4) run from the start of each interval in the first year
+  to its end in the last year. The intervals of the repeating year are read from them:
+  each start as it is, each end moved back by whole years to the first end after the
+  start. Numeric climatology bounds without ``units`` take the time variable's units
+  and calendar (CF §7.4: they may be left out and are then those of the time
+  variable). The climatology's years are the year that holds most of the repeating
+  year and that year plus the number of years moved back.
 """
 
 from __future__ import annotations
@@ -29,7 +36,11 @@ import cftime
 import numpy as np
 
 from bcgen.errors import InputFileError
-from bcgen.solar_calendar.calendars import ModelCalendar, canonical_calendar
+from bcgen.solar_calendar.calendars import (
+    DEPRECATED_CALENDAR_NAMES,
+    ModelCalendar,
+    canonical_calendar,
+)
 
 TimeKind = Literal["monthly", "daily", "any_months"]
 
@@ -59,6 +70,9 @@ class TimeAxis:
         Name of the input bounds (or climatology bounds) variable.
     climatology : tuple of int or None
         First and last year of a CF climatology (from its climatology bounds).
+    calendar_name : str or None
+        The calendar name as the file writes it (``365_day`` stays ``365_day``;
+        ``calendar.name`` is the canonical one); outputs repeat it.
     """
 
     dim: str
@@ -69,6 +83,7 @@ class TimeAxis:
     cyclic: bool
     bounds_name: str | None
     climatology: tuple[int, int] | None
+    calendar_name: str | None = None
 
     @property
     def period_days(self) -> float | None:
@@ -171,22 +186,24 @@ def read_time_axis(ds, source: str = "input", *, cyclic: bool | None = None,
     bounds_name = tvar.attrs.get("bounds") or tvar.encoding.get("bounds")
     climatology = None
     bounds = None
+    years_back = 0
     if clim_name is not None and clim_name in ds.variables:
-        cb = _as_cftime(np.asarray(ds[clim_name].values), cal.name)
-        climatology = (int(cb[0, 0].year),
-                       int((cb[-1, 1] - _dt.timedelta(minutes=1)).year))
         bounds_name = clim_name
+        cb = _decoded_bounds(ds, clim_name, tvar, cal, dates.size, source)
+        bounds, years_back = _one_year_of(cb, cal, clim_name, source)
     elif bounds_name is not None and bounds_name in ds.variables:
-        bounds = np.asarray(ds[bounds_name].values)
-        if bounds.dtype != object and not np.issubdtype(bounds.dtype, np.datetime64):
-            units = tvar.encoding.get("units")
-            bounds = cftime.num2date(bounds, units, calendar=cal.name,
-                                     only_use_cftime_datetimes=True)
-        bounds = _as_cftime(np.asarray(bounds), cal.name)
+        bounds = _decoded_bounds(ds, bounds_name, tvar, cal, dates.size, source)
     else:
         bounds_name = None
-    first = bounds[0, 0] if bounds is not None else dates[0]
-    origin_year = int((first + _dt.timedelta(minutes=1)).year)
+    if bounds is not None and clim_name is not None:
+        # The year that holds the middle of the repeating year (a first month that starts
+        # in late December belongs to the next year's cycle).
+        span = bounds[-1, 1] - bounds[0, 0]
+        origin_year = int((bounds[0, 0] + span / 2).year)
+        climatology = (origin_year, origin_year + years_back)
+    else:
+        first = bounds[0, 0] if bounds is not None else dates[0]
+        origin_year = int((first + _dt.timedelta(minutes=1)).year)
     origin = _new_year(cal, origin_year)
     if bounds is not None:
         b = _days(bounds, origin)
@@ -223,7 +240,86 @@ def read_time_axis(ds, source: str = "input", *, cyclic: bool | None = None,
     ):
         raise InputFileError(f"{source}: a climatology must hold one whole year of means "
                              f"(1 January to 1 January); '{dim}' spans {dates[0]} to {dates[-1]}")
-    return TimeAxis(dim, cal, origin_year, edges, kind, bool(cyclic), bounds_name, climatology)
+    return TimeAxis(dim, cal, origin_year, edges, kind, bool(cyclic), bounds_name, climatology,
+                    _written_calendar_name(cal_name, cal.name))
+
+
+def _written_calendar_name(written: str, canonical: str) -> str:
+    """Return the calendar name outputs repeat: as written, but never a deprecated alias."""
+    name = str(written).strip()
+    if name.lower() in DEPRECATED_CALENDAR_NAMES:  # CF 1.9 deprecated "gregorian"
+        return canonical
+    return name
+
+
+def _decoded_bounds(ds, name: str, tvar, cal: ModelCalendar, n: int, source: str) -> np.ndarray:
+    """Bounds (or climatology bounds) as cftime dates, shape (n, 2).
+
+    Numeric values without units of their own are decoded with the time variable's
+    units and calendar (CF §7.1 and §7.4: bounds inherit them).
+    """
+    values = np.asarray(ds[name].values)
+    if values.ndim != 2 or values.shape != (n, 2):
+        raise InputFileError(f"{source}: bounds variable '{name}' must have shape ({n}, 2); "
+                             f"got {values.shape}")
+    if values.dtype != object and not np.issubdtype(values.dtype, np.datetime64):
+        units = ds[name].attrs.get("units") or tvar.encoding.get("units")
+        if not units:
+            raise InputFileError(f"{source}: cannot read '{name}': neither it nor the time "
+                                 "variable has units 'days since ...'")
+        try:
+            values = cftime.num2date(values, units, calendar=cal.name,
+                                     only_use_cftime_datetimes=True,
+                                     has_year_zero=cal.has_year_zero)
+        except (ValueError, TypeError) as exc:
+            raise InputFileError(f"{source}: cannot read '{name}' as dates with units "
+                                 f"{units!r} ({' '.join(str(exc).split())})") from None
+    return _as_cftime(np.asarray(values), cal.name)
+
+
+def _one_year_of(cb: np.ndarray, cal: ModelCalendar, name: str, source: str):
+    """Return the intervals of the repeating year of CF climatology bounds, and the years.
+
+    Each interval's start is kept; its end is moved back by whole calendar years to
+    the first time after the start that falls on the same date (CF §7.4). Returns
+    the (n, 2) dates and the number of years moved back (last year − first year).
+    """
+    out = cb.copy()
+    moved = set()
+    for i, (start, end) in enumerate(cb):
+        if not end > start:
+            raise InputFileError(f"{source}: climatology bounds row {i} of '{name}' "
+                                 f"({start} to {end}) ends before it starts")
+        first_end = _same_moment_in(end, start.year, cal)
+        if first_end is not None and not first_end > start:
+            next_year = start.year + 1 if (start.year != -1 or cal.has_year_zero) else 1
+            first_end = _same_moment_in(end, next_year, cal)
+        if first_end is None:
+            raise InputFileError(f"{source}: climatology bounds row {i} of '{name}' ends on "
+                                 f"{end}, a date that does not exist in every year")
+        out[i, 1] = first_end
+        moved.add(_years_between(end, first_end, cal))
+    if len(moved) != 1:
+        raise InputFileError(f"{source}: the climatology bounds '{name}' span different "
+                             "numbers of years; expected every interval over the same years")
+    return out, moved.pop()
+
+
+def _same_moment_in(date, year: int, cal: ModelCalendar):
+    """``date`` moved to ``year`` (None when that day does not exist, e.g. 29 February)."""
+    try:
+        return cftime.datetime(int(year), date.month, date.day, date.hour, date.minute,
+                               date.second, date.microsecond, calendar=cal.name,
+                               has_year_zero=cal.has_year_zero)
+    except ValueError:
+        return None
+
+
+def _years_between(later, earlier, cal: ModelCalendar) -> int:
+    years = later.year - earlier.year
+    if not cal.has_year_zero and earlier.year < 0 < later.year:
+        years -= 1
+    return years
 
 
 def _classify(bounds, edges, expect, source) -> TimeKind:

@@ -18,17 +18,27 @@ Streaming
 
 Interruption and re-runs
     A file is written under a temporary name and renamed into place when it
-    is complete; Ctrl-C deletes the temporary file, and the files completed
-    before it stay valid and recorded in the manifest. A re-run skips every
-    file whose SHA-256 and parameters match its manifest record and builds
-    the rest; other existing files are rebuilt with ``force`` and refused
-    without it.
+    is complete; Ctrl-C (or SIGTERM through the command line) deletes the
+    temporary file, and the files completed before it stay valid and recorded
+    in the manifest. A process killed outright (SIGKILL, a node failure) can
+    leave a hidden temporary file ``.NAME.nc.<hex>.tmp``: a re-run deletes those
+    of its own files (and of its manifest) before it writes anything. A re-run
+    skips every file whose SHA-256 and parameters match its manifest record and
+    builds the rest; other existing files are rebuilt with ``force`` and
+    refused without it.
+
+Failed writes
+    A write the file system refuses (a full disk, a lost mount) raises
+    :class:`~bcgen.errors.OutputError` naming the file ("no space left on the
+    device" when the disk is full) and deletes its temporary file; the files
+    completed before stay valid and recorded.
 """
 
 from __future__ import annotations
 
 import hashlib
 import os
+import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -45,7 +55,7 @@ from bcgen.transient.pipeline import ChunkProducer
 from bcgen.transient.progress import Progress
 from bcgen.transient.series import SERIES, RunContext, Series
 from bcgen.transient.stream import SeriesFile, sha256_of
-from bcgen.writer import time_axis
+from bcgen.writer import time_axis, write_failure
 
 __all__ = ["GasTable", "TransientBuildResult", "build_transient", "load_gas_table", "plan_files"]
 
@@ -190,11 +200,12 @@ def build_transient(
     result = TransientBuildResult(
         directory, manifest=manifest_path, transient=_summary(ctx, series)
     )
-    work = sum(j.n_years for j in jobs if todo[j.file_name] == "build")
-    bar = Progress(work, f"{spec.experiment.name}: model years", enabled=progress)
     pending = [j for j in jobs if todo[j.file_name] == "build"]
+    work, shares = _model_year_shares(pending)
+    bar = Progress(work, f"{spec.experiment.name}: model years", enabled=progress)
     ctx.prepare(gases="greenhouse_gases" in series)  # inputs are read before the thread starts
-    writer = _FileWriter(ctx, series, directory, manifest_path, header, records, bar)
+    remove_stale_temporaries(directory, [j.file_name for j in jobs] + [manifest_path.name])
+    writer = _FileWriter(ctx, series, directory, manifest_path, header, records, bar, shares)
     try:
         with ChunkProducer(pending, series, threaded=THREADED) as producer:
             for message in producer:
@@ -208,6 +219,57 @@ def build_transient(
         for j in jobs
     ]
     return result
+
+
+def _model_year_shares(pending: list[FileJob]) -> tuple[int, dict[str, float]]:
+    """Model years to build (each counted once) and each file's share of its years.
+
+    The files of one range of model years (one per product) share its years, so
+    the progress bar counts model years, not files times years.
+    """
+    by_range: dict[tuple[int, int], list[FileJob]] = {}
+    for job in pending:
+        by_range.setdefault((job.first_year, job.last_year), []).append(job)
+    work = sum(last - first + 1 for first, last in by_range)
+    shares = {j.file_name: 1.0 / len(group) for group in by_range.values() for j in group}
+    return work, shares
+
+
+def stale_temporary(name: str, candidate: str) -> bool:
+    """Tell whether ``candidate`` is a temporary file bcgen writes for the file ``name``.
+
+    Those are ``.NAME.<12 hex digits>.tmp`` (:class:`SeriesFile`,
+    :func:`bcgen.writer.write_netcdf`) and ``.NAME.<process id>.tmp``
+    (:func:`bcgen.build.write_text_atomic`, the manifest).
+    """
+    return re.fullmatch(rf"\.{re.escape(name)}\.(?:[0-9a-f]{{12}}|[0-9]+)\.tmp", candidate) \
+        is not None
+
+
+def remove_stale_temporaries(directory: Path, names: list[str]) -> list[Path]:
+    """Delete temporary files an earlier, killed run left for the files ``names``.
+
+    Only names of this run's own files are touched (see :func:`stale_temporary`);
+    returns the files deleted.
+    """
+    wanted = set(names)
+    removed = []
+    for entry in os.scandir(directory):
+        if not (entry.name.startswith(".") and entry.name.endswith(".tmp")):
+            continue
+        if not entry.is_file(follow_symlinks=False):
+            continue
+        if any(stale_temporary(name, entry.name) for name in wanted
+               if entry.name.startswith(f".{name}.")):
+            try:
+                os.unlink(entry.path)
+            except FileNotFoundError:
+                continue
+            except OSError as exc:
+                raise OutputError(f"cannot delete the stale temporary file {entry.path}: "
+                                  f"{exc.strerror or exc}") from None
+            removed.append(Path(entry.path))
+    return removed
 
 
 class _FileWriter:
@@ -226,6 +288,7 @@ class _FileWriter:
         header: dict,
         records: dict,
         bar: Progress,
+        shares: dict[str, float] | None = None,
     ) -> None:
         self.ctx, self.series, self.directory = ctx, series, directory
         self.manifest_path, self.header, self.records, self.bar = (
@@ -234,18 +297,30 @@ class _FileWriter:
             records,
             bar,
         )
+        self.shares = shares or {}
         self.sf: SeriesFile | None = None
         self.step = 0
 
     def handle(self, message: tuple) -> None:
-        """Act on one message: start a file, write a chunk, or finish the file."""
+        """Act on one message: start a file, write a chunk, or finish the file.
+
+        A failure of the file system or the netCDF library (``OSError``,
+        ``RuntimeError``) becomes :class:`OutputError` naming the file, after its
+        temporary file is deleted.
+        """
         kind = message[0]
-        if kind == "start":
-            self.start(*message[1:])
-        elif kind == "chunk":
-            self.chunk(*message[1:])
-        elif kind == "end":
-            self.finish(message[1])
+        try:
+            if kind == "start":
+                self.start(*message[1:])
+            elif kind == "chunk":
+                self.chunk(*message[1:])
+            elif kind == "end":
+                self.finish(message[1])
+        except (OSError, RuntimeError) as exc:
+            job = message[1] if kind in ("start", "end") else self.job
+            text = write_failure(self.directory / job.file_name, exc)  # before the discard
+            self.discard()
+            raise OutputError(text) from None
 
     def start(self, job: FileJob, n_steps: int, first_bounds: np.ndarray) -> None:
         """Create the file and define its dimensions, coordinates and variables."""
@@ -277,7 +352,7 @@ class _FileWriter:
         for name in list(values):
             series.write(sf, name, values.pop(name))
         self.step += bounds.shape[0]
-        self.bar.advance(n_years)
+        self.bar.advance(n_years * self.shares.get(self.job.file_name, 1.0))
 
     def finish(self, job: FileJob) -> None:
         """Close the file, record it in the manifest, then rename it into place."""

@@ -5,7 +5,9 @@ It shows the fraction done, the count, the rate and the time left::
     model years [##########··········]  50%  1,500/3,000  812/s  0:02 left
 
 The rate and time left count only the work done in this run (files skipped
-because they are already complete do not inflate the rate). When the stream
+because they are already complete do not inflate the rate). A transient build
+counts model years once however many products (files) each has: each file of a
+range of model years advances the bar by its share of those years. When the stream
 is not a terminal (a log file, a pipe, a test) nothing is written at all.
 """
 
@@ -39,7 +41,7 @@ class Progress:
         Units of work of the whole task.
     label : str
         Name of the units, shown before the bar.
-    done : int
+    done : float
         Units already done before this run (shown, but not counted in the rate).
     stream : file, optional
         Where to draw (default ``sys.stderr``).
@@ -52,14 +54,14 @@ class Progress:
         total: int,
         label: str = "model years",
         *,
-        done: int = 0,
+        done: float = 0,
         stream: TextIO | None = None,
         enabled: bool | None = None,
         clock=time.monotonic,
     ) -> None:
         self.total = max(int(total), 0)
         self.label = label
-        self.done = int(done)
+        self.done = float(done)
         self.stream = stream if stream is not None else sys.stderr
         if enabled is None:
             isatty = getattr(self.stream, "isatty", None)
@@ -71,9 +73,9 @@ class Progress:
         self._last_draw = -float("inf")
         self._width = 0
 
-    def advance(self, n: int) -> None:
-        """Count ``n`` more units done and redraw if it is time to."""
-        self.done += int(n)
+    def advance(self, n: float) -> None:
+        """Count ``n`` more units done (fractions allowed) and redraw if it is time to."""
+        self.done += float(n)
         if self.enabled and self._clock() - self._last_draw >= REDRAW_INTERVAL_S:
             self._draw()
 
@@ -88,7 +90,7 @@ class Progress:
         left = (self.total - self.done) / rate if rate > 0 else float("nan")
         return (
             f"{self.label} [{'#' * filled}{'.' * (BAR_WIDTH - filled)}] "
-            f"{100 * fraction:3.0f}%  {self.done:,}/{self.total:,}  "
+            f"{100 * fraction:3.0f}%  {round(self.done):,}/{self.total:,}  "
             f"{rate:,.0f}/s  {format_duration(left)} left"
         )
 

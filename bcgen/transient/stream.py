@@ -9,6 +9,13 @@ target folder; :meth:`SeriesFile.publish` renames it into place. Leaving the
 ``with`` block any other way (an error, Ctrl-C) closes and deletes the
 temporary file, so an interrupted run leaves no partial output.
 
+A write that fails (a full disk, a lost file system) raises
+:class:`~bcgen.errors.OutputError` naming the file, "no space left on the
+device" when the disk is full (:func:`bcgen.writer.write_failure`), after the
+temporary file is deleted. The netCDF library reports such failures as
+``RuntimeError`` ("NetCDF: HDF error") or ``OSError``, at the write itself, at a
+flush or only when the file is closed.
+
 The encoding follows :mod:`bcgen.writer`: coordinates and bounds are stored
 uncompressed without a fill value (CF §7.1), floating-point data variables with
 zlib and the shuffle filter at the spec's level, and chunks of whole time
@@ -23,16 +30,17 @@ computation of the next values, rather than all at once when the file closes.
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
 import os
 import uuid
-from collections.abc import Mapping
+from collections.abc import Iterator, Mapping
 from pathlib import Path
 
 import numpy as np
 
 from bcgen.errors import OutputError
-from bcgen.writer import default_chunks
+from bcgen.writer import default_chunks, write_failure
 
 
 class SeriesFile:
@@ -66,26 +74,40 @@ class SeriesFile:
         self._chunk_rows: dict[str, int] = {}
         self._buffers: dict[str, list] = {}  # name -> [buffer or None, rows filled, next row]
         self.tmp = self.path.with_name(f".{self.path.name}.{uuid.uuid4().hex[:12]}.tmp")
+        self._ds = None
         try:
             fd = os.open(self.tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666)
             os.close(fd)
             self._ds = netCDF4.Dataset(self.tmp, "w", format="NETCDF4")
-        except OSError as exc:
-            self._remove_tmp()
-            raise OutputError(f"cannot write {self.path}: {exc.strerror or exc}") from None
+            self._ds.set_fill_off()
+        except (OSError, RuntimeError) as exc:
+            message = write_failure(self.path, exc)  # before the file is removed
+            self.discard()
+            raise OutputError(message) from None
         except BaseException:  # an interrupt between creating and opening the file
-            self._remove_tmp()
+            self.discard()
             raise
-        self._ds.set_fill_off()
+
+    @contextlib.contextmanager
+    def _writing(self) -> Iterator[None]:
+        """Turn a failure of the netCDF library into OutputError and delete the temporary file."""
+        try:
+            yield
+        except (OSError, RuntimeError) as exc:
+            message = write_failure(self.path, exc)  # while the partial file still fills the disk
+            self.discard()
+            raise OutputError(message) from None
 
     # --- definition ----------------------------------------------------------------------
     def set_attributes(self, attrs: Mapping[str, object]) -> None:
         """Set global attributes (None values are left out)."""
-        self._ds.setncatts({k: _attr(v) for k, v in attrs.items() if v is not None})
+        with self._writing():
+            self._ds.setncatts({k: _attr(v) for k, v in attrs.items() if v is not None})
 
     def define_dimension(self, name: str, size: int | None) -> None:
         """Create a dimension (``size`` None: unlimited)."""
-        self._ds.createDimension(name, size)
+        with self._writing():
+            self._ds.createDimension(name, size)
 
     def define_variable(
         self,
@@ -113,17 +135,19 @@ class SeriesFile:
                 kwargs["chunksizes"] = chunks
                 if dims[0] == time_dim:
                     self._chunk_rows[name] = chunks[0]
-        var = self._ds.createVariable(name, dtype, dims, **kwargs)
-        if attrs:
-            var.setncatts({k: _attr(v) for k, v in attrs.items() if v is not None})
-        if data is not None:
-            var[...] = np.asarray(data)
+        with self._writing():
+            var = self._ds.createVariable(name, dtype, dims, **kwargs)
+            if attrs:
+                var.setncatts({k: _attr(v) for k, v in attrs.items() if v is not None})
+            if data is not None:
+                var[...] = np.asarray(data)
 
     # --- data ----------------------------------------------------------------------------
     def write_chunk(self, name: str, start: int, values: np.ndarray) -> None:
         """Write ``values`` into variable ``name`` from time step ``start`` on (first axis)."""
         values = np.asarray(values)
-        self._ds.variables[name][start : start + values.shape[0], ...] = values
+        with self._writing():
+            self._ds.variables[name][start : start + values.shape[0], ...] = values
         self.chunks_written += 1
 
     def append(self, name: str, values: np.ndarray) -> None:
@@ -148,7 +172,7 @@ class SeriesFile:
                 self.write_chunk(name, start, values[i : i + whole])
                 state[2] += whole
                 i += whole
-                self._ds.sync()
+                self._sync()
                 continue
             if buffer is None:
                 buffer = state[0] = np.empty((rows,) + values.shape[1:], dtype=values.dtype)
@@ -159,7 +183,12 @@ class SeriesFile:
             if filled == rows:
                 self.write_chunk(name, start, buffer)
                 state[1], state[2] = 0, start + rows
-                self._ds.sync()
+                self._sync()
+
+    def _sync(self) -> None:
+        """Hand what the library holds to the operating system (HDF5 writes it then)."""
+        with self._writing():
+            self._ds.sync()
 
     def _flush_buffers(self) -> None:
         for name, (buffer, filled, start) in self._buffers.items():
@@ -172,26 +201,27 @@ class SeriesFile:
         """Write what :meth:`append` still holds, close the temporary file; return its SHA-256."""
         if self._ds.isopen():
             self._flush_buffers()
-            self._ds.close()
-        return sha256_of(self.tmp)
+            with self._writing():  # the library writes its caches when the file closes
+                self._ds.close()
+        with self._writing():
+            return sha256_of(self.tmp)
 
     def publish(self, *, force: bool = True) -> Path:
         """Rename the closed temporary file into place (replacing a file only with ``force``)."""
         if self._ds.isopen():
-            self._ds.close()
+            with self._writing():
+                self._ds.close()
         if self.path.exists() and not force:
             raise OutputError(f"{self.path} already exists; use --force to overwrite it")
-        try:
+        with self._writing():
             os.replace(self.tmp, self.path)
-        except OSError as exc:
-            raise OutputError(f"cannot write {self.path}: {exc.strerror or exc}") from None
         self._published = True
         return self.path
 
     def discard(self) -> None:
         """Close and delete the temporary file (nothing is left behind)."""
         try:
-            if self._ds.isopen():
+            if self._ds is not None and self._ds.isopen():
                 self._ds.close()
         except Exception:  # noqa: BLE001 - a half-written file may fail to close; delete it anyway
             pass
@@ -201,6 +231,8 @@ class SeriesFile:
         try:
             self.tmp.unlink()
         except FileNotFoundError:
+            pass
+        except OSError:  # the error being reported matters more than a file left behind
             pass
 
     def __enter__(self) -> SeriesFile:
