@@ -462,7 +462,7 @@ def write_netcdf(
     try:
         tmp = _create_temporary(path)
         _to_netcdf(dataset, tmp, enc)
-        _move_into_place(tmp, path, force)
+        move_into_place(tmp, path, force)
         tmp = None
     except OutputError:
         raise
@@ -543,7 +543,22 @@ def _to_netcdf(dataset, tmp: Path, encoding: dict) -> None:
         raise failure[0]
 
 
-def _move_into_place(tmp: Path, path: Path, force: bool) -> None:
+def prepare_output_folder(directory) -> Path:
+    """Create the output folder if needed and check that it is a writable folder."""
+    directory = Path(directory)
+    if directory.exists() and not directory.is_dir():
+        raise OutputError(f"output folder {directory} is a file; give a folder with -o")
+    try:
+        directory.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise OutputError(f"cannot create output folder {directory}: {exc.strerror}") from None
+    if not os.access(directory, os.W_OK | os.X_OK):
+        raise OutputError(f"output folder {directory} is not writable")
+    return directory
+
+
+def move_into_place(tmp: Path, path: Path, force: bool) -> None:
+    """Rename a complete temporary file into place; without ``force`` never clobber a file."""
     if force:
         os.replace(tmp, path)
         return

@@ -25,7 +25,7 @@ from bcgen.build.context import BuildContext
 from bcgen.build.products import PRODUCTS, Output, make_outputs
 from bcgen.errors import OutputError
 from bcgen.spec import ExperimentSpec
-from bcgen.writer import write_failure, write_netcdf
+from bcgen.writer import move_into_place, prepare_output_folder, write_failure, write_netcdf
 
 __all__ = ["PRODUCTS", "BuildResult", "build", "write_text_atomic"]
 
@@ -98,7 +98,7 @@ def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
             result.files.append(_file_record(path, out))
         _write_manifest(stage / manifest_path.name, ctx, result, force)
         for name in names:
-            _move_into_place(stage / name, directory / name, force)
+            move_into_place(stage / name, directory / name, force)
     except OutputError as exc:  # name the file where it was going, not the staging folder
         message = str(exc) if stage is None else str(exc).replace(str(stage), str(directory))
         raise OutputError(message) from None
@@ -119,36 +119,13 @@ def manifest_name(spec: ExperimentSpec) -> str:
 
 
 def _prepare_directory(directory: Path, names: list[str], force: bool) -> None:
-    if directory.exists() and not directory.is_dir():
-        raise OutputError(f"output folder {directory} is a file; give a folder with -o")
-    try:
-        directory.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise OutputError(f"cannot create output folder {directory}: {exc.strerror}") from None
-    if not os.access(directory, os.W_OK | os.X_OK):
-        raise OutputError(f"output folder {directory} is not writable")
+    prepare_output_folder(directory)
     if not force:
         existing = [n for n in names if (directory / n).exists()]
         if existing:
             more = f" and {len(existing) - 1} more" if len(existing) > 1 else ""
             raise OutputError(f"{directory / existing[0]}{more} already exist(s); use --force "
                               "to overwrite")
-
-
-def _move_into_place(staged: Path, path: Path, force: bool) -> None:
-    if force:
-        os.replace(staged, path)
-        return
-    try:
-        os.link(staged, path)  # fails if ``path`` appeared meanwhile: never clobber
-    except FileExistsError:
-        raise OutputError(f"{path} already exists; use --force to overwrite it") from None
-    except OSError:  # a file system without hard links
-        if path.exists():
-            raise OutputError(f"{path} already exists; use --force to overwrite it") from None
-        os.replace(staged, path)
-        return
-    os.unlink(staged)
 
 
 def _encoding(dataset, compression_level: int, shuffle: bool) -> dict:
@@ -206,14 +183,7 @@ def _write_manifest(path: Path, ctx: BuildContext, result: BuildResult, force: b
         "spec_file": str(ctx.spec.path) if ctx.spec.path else None,
         "spec_sha256": ctx.spec.sha256,
         "created": ctx.created.strftime("%Y-%m-%dT%H:%M:%SZ"),
-        "orbit": {
-            "solution": o.solution,
-            "eccentricity": float(o.eccentricity),
-            "obliquity_deg": float(o.obliquity_deg),
-            "perihelion_longitude_deg": float(o.perihelion_longitude_deg),
-            "sun_longitude_at_perihelion_deg": float(o.sun_longitude_at_perihelion_deg),
-            "precession_index": float(o.precession_index),
-        },
+        "orbit": o.as_record(),
         "solar_constant_wm2": ctx.spec.solar_constant_wm2,
         "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_text},
         "files": result.files,

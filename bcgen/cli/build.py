@@ -73,13 +73,7 @@ def summarize(result) -> dict:
     summary.update({
         "experiment": spec.experiment.name,
         "epoch": spec.epoch,
-        "orbit": {
-            "solution": o.solution,
-            "eccentricity": float(o.eccentricity),
-            "obliquity_deg": float(o.obliquity_deg),
-            "perihelion_longitude_deg": float(o.perihelion_longitude_deg),
-            "sun_longitude_at_perihelion_deg": float(o.sun_longitude_at_perihelion_deg),
-        },
+        "orbit": o.as_record(),
         "solar_constant_wm2": spec.solar_constant_wm2,
         "greenhouse_gases": {g.name: {"value": g.value, "units": g.units}
                              for g in spec.greenhouse_gases},

@@ -212,6 +212,20 @@ class OrbitalElements:
     def __len__(self) -> int:
         return len(self.eccentricity)
 
+    def as_record(self) -> dict[str, float | str]:
+        """Return the elements of one epoch as a JSON-ready dict, every convention named."""
+        if self.shape:
+            raise OrbitError(f"as_record needs the elements of one epoch; these have shape "
+                             f"{self.shape}")
+        return {
+            "solution": self.solution,
+            "eccentricity": float(self.eccentricity),
+            "obliquity_deg": float(self.obliquity_deg),
+            "perihelion_longitude_deg": float(self.perihelion_longitude_deg),
+            "sun_longitude_at_perihelion_deg": float(self.sun_longitude_at_perihelion_deg),
+            "precession_index": float(self.precession_index),
+        }
+
     def perihelion(self, convention: str = "perihelion_longitude", unit: str = "deg"):
         """Longitude of perihelion in any named convention and unit (see module docstring)."""
         return convert_perihelion(

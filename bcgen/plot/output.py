@@ -6,7 +6,7 @@ from pathlib import Path
 from typing import Literal
 
 from bcgen.errors import OutputError
-from bcgen.writer import _create_temporary, _describe, _move_into_place, _remove
+from bcgen.writer import _create_temporary, _describe, _remove, move_into_place
 
 FigureFormat = Literal["png", "pdf"]
 #: File suffixes and the format each selects.
@@ -84,7 +84,7 @@ def save_figure(fig, path, *, force: bool = False, dpi: int = 150) -> Path:
     try:
         tmp = _create_temporary(path)
         fig.savefig(tmp, format=fmt, dpi=dpi, metadata=metadata)
-        _move_into_place(tmp, path, force)
+        move_into_place(tmp, path, force)
         tmp = None
     except OutputError:
         raise

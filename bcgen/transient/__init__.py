@@ -55,7 +55,7 @@ from bcgen.transient.pipeline import ChunkProducer
 from bcgen.transient.progress import Progress
 from bcgen.transient.series import SERIES, RunContext, Series
 from bcgen.transient.stream import SeriesFile, sha256_of
-from bcgen.writer import time_axis, write_failure
+from bcgen.writer import prepare_output_folder, time_axis, write_failure
 
 __all__ = ["GasTable", "TransientBuildResult", "build_transient", "load_gas_table", "plan_files"]
 
@@ -171,7 +171,7 @@ def build_transient(
     if spec.transient is None:
         raise SpecError("build_transient needs a spec with a 'transient' section")
     directory = Path(output_dir if output_dir is not None else spec.output.directory)
-    _prepare_directory(directory)
+    prepare_output_folder(directory)
     ctx = RunContext(spec, command=command)
     series = {p: SERIES[p](ctx) for p in spec.products if p in SERIES}
     unknown = [p for p in spec.products if p not in SERIES]
@@ -457,14 +457,3 @@ def _input_hashes(spec: ExperimentSpec) -> dict[str, str]:
         "grid.path": spec.grid.path if spec.grid is not None and spec.grid.kind == "file" else None,
     }
     return {key: sha256_of(path) for key, path in paths.items() if path is not None}
-
-
-def _prepare_directory(directory: Path) -> None:
-    if directory.exists() and not directory.is_dir():
-        raise OutputError(f"output folder {directory} is a file; give a folder with -o")
-    try:
-        directory.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise OutputError(f"cannot create output folder {directory}: {exc.strerror}") from None
-    if not os.access(directory, os.W_OK | os.X_OK):
-        raise OutputError(f"output folder {directory} is not writable")
