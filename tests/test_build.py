@@ -19,6 +19,7 @@ import numpy as np
 import pytest
 import xarray as xr
 from cf_checker import assert_cf_compliant
+from published_tables import PMIP1_SPEC_HEAD, PMIP1_TODAY_WM2  # Bonfils et al. 1998
 
 from bcgen.build import build
 from bcgen.cli import main
@@ -123,41 +124,19 @@ def test_two_builds_give_identical_data(tmp_path):
                 xr.testing.assert_identical(da.drop_attrs(), db.drop_attrs())
 
 
-PMIP1_SPEC = """
-experiment: {name: pmip1-check}
-epoch: 0ka
-orbit:
-  solution: fixed
-  eccentricity: 0.016724
-  obliquity_deg: 23.446
-  perihelion_deg: 102.04
-  perihelion_convention: perihelion_longitude
-solar_constant_wm2: 1365
-calendar: {name: noleap, anchor: march_equinox, date: "03-21 12:00"}
-grid: {kind: zonal, latitudes_deg: [-90, -60, 0, 60, 90]}
-insolation: {daily_method: midday}
-products: [monthly_insolation_fixed_day]
-"""
+PMIP1_SPEC = (
+    "experiment: {name: pmip1-check}\nepoch: 0ka\n" + PMIP1_SPEC_HEAD
+    + "grid: {kind: zonal, latitudes_deg: [-90, -60, 0, 60, 90]}\n"
+    "products: [monthly_insolation_fixed_day]\n"
+)
 
-# Bonfils et al. (1998), "Documentation of the PMIP models", appendix on insolation
-# (published-values.md §4.7): TODAY, 365-day year, vernal equinox 21 March 12:00, W m-2.
-PMIP1_TODAY = {
-    90: [0.00, 0.00, 16.69, 226.23, 428.89, 518.14, 478.16, 316.18, 78.00, 0.00, 0.00, 0.00],
-    60: [40.79, 99.47, 199.95, 320.61, 423.31, 473.71, 449.70, 362.23, 246.58, 135.19, 57.36,
-         26.96],
-    0: [419.41, 433.45, 437.87, 424.80, 402.22, 387.51, 392.10, 411.28, 428.62, 431.65, 421.40,
-        412.83],
-    -60: [474.04, 370.62, 241.20, 124.69, 51.89, 24.98, 35.60, 88.41, 185.96, 313.84, 436.76,
-          503.60],
-    -90: [500.27, 313.10, 64.32, 0.00, 0.00, 0.00, 0.00, 0.00, 7.99, 206.29, 438.09, 550.37],
-}
 
 
 def test_built_file_reproduces_the_pmip1_check_table(tmp_path):
     spec = parse_spec_text(PMIP1_SPEC, filename="pmip1.yaml")
     result = build(spec, tmp_path)
     with xr.open_dataset(tmp_path / result.files[0]["file"]) as ds:
-        for lat, row in PMIP1_TODAY.items():
+        for lat, row in PMIP1_TODAY_WM2.items():
             got = ds.insolation.sel(lat=lat).values.astype(float)
             # Within 0.01 W m-2, the tolerance issue 3 sets for this table (the printed values are
             # rounded to 0.01; float32 storage adds < 3e-5 W m-2).

@@ -2,6 +2,7 @@
 
 import numpy as np
 import pytest
+from published_tables import PMIP1_TODAY_WM2  # Bonfils et al. (1998); §4.7
 
 from bcgen.insolation import monthly_insolation
 from bcgen.orbit import solve
@@ -11,19 +12,6 @@ from bcgen.solar_calendar import Anchor, ModelCalendar, parse_anchor
 # two decimals (the table itself is rounded to 0.005).
 PMIP1_TOL_WM2 = 0.01
 
-# Bonfils et al. (1998), "Documentation of the PMIP models", appendix "About insolation
-# computations" (pmip1.lsce.ipsl.fr/docs/appendoc.html): monthly-mean TOA insolation, W m-2,
-# "TODAY, 365 day year, 21.00 march vernal equinox" (published-values.md §4.7, [confirmed]).
-PMIP1_TODAY_WM2 = {
-    90: [0.00, 0.00, 16.69, 226.23, 428.89, 518.14, 478.16, 316.18, 78.00, 0.00, 0.00, 0.00],
-    60: [40.79, 99.47, 199.95, 320.61, 423.31, 473.71, 449.70, 362.23, 246.58, 135.19, 57.36,
-         26.96],
-    0: [419.41, 433.45, 437.87, 424.80, 402.22, 387.51, 392.10, 411.28, 428.62, 431.65, 421.40,
-        412.83],
-    -60: [474.04, 370.62, 241.20, 124.69, 51.89, 24.98, 35.60, 88.41, 185.96, 313.84, 436.76,
-          503.60],
-    -90: [500.27, 313.10, 64.32, 0.00, 0.00, 0.00, 0.00, 0.00, 7.99, 206.29, 438.09, 550.37],
-}
 
 
 def _pmip1_setup():

@@ -17,6 +17,8 @@ import pytest
 
 matplotlib.use("Agg")  # no display in tests
 
+from published_tables import PMIP1_SPEC_HEAD, PMIP1_TODAY_WM2  # noqa: E402
+
 from bcgen.cli import main  # noqa: E402
 from bcgen.plot import (  # noqa: E402
     anomaly_figure,
@@ -38,32 +40,11 @@ MONTHS = ["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", 
 # The PMIP1 check conventions (Bonfils et al. 1998, "Documentation of the PMIP models",
 # appendix "About insolation computations"; published-values.md §4.7): 1950 orbit, S0 = 1365,
 # 365-day year, vernal equinox 21 March 12:00, daily values at mid-day.
-PMIP1_SPEC = """\
-experiment: {name: pmip1-today}
-epoch: 0ka
-orbit:
-  solution: fixed
-  eccentricity: 0.016724
-  obliquity_deg: 23.446
-  perihelion_deg: 102.04
-  perihelion_convention: perihelion_longitude
-solar_constant_wm2: 1365
-calendar: {name: noleap, anchor: march_equinox, date: "03-21 12:00"}
-grid: {kind: zonal, latitudes_deg: [-90, -60, -30, 0, 30, 60, 90]}
-insolation: {daily_method: midday}
-products: [monthly_insolation_fixed_day, monthly_insolation_fixed_angle, daily_insolation]
-"""
-# Rows of the PMIP1 table "TODAY, 365 day year, 21.00 march vernal equinox", W m-2 (§4.7).
-PMIP1_TODAY = {
-    90: [0.0, 0.0, 16.69, 226.23, 428.89, 518.14, 478.16, 316.18, 78.00, 0.0, 0.0, 0.0],
-    60: [40.79, 99.47, 199.95, 320.61, 423.31, 473.71, 449.70, 362.23, 246.58, 135.19, 57.36,
-         26.96],
-    0: [419.41, 433.45, 437.87, 424.80, 402.22, 387.51, 392.10, 411.28, 428.62, 431.65, 421.40,
-        412.83],
-    -60: [474.04, 370.62, 241.20, 124.69, 51.89, 24.98, 35.60, 88.41, 185.96, 313.84, 436.76,
-          503.60],
-    -90: [500.27, 313.10, 64.32, 0.0, 0.0, 0.0, 0.0, 0.0, 7.99, 206.29, 438.09, 550.37],
-}
+PMIP1_SPEC = (
+    "experiment: {name: pmip1-today}\nepoch: 0ka\n" + PMIP1_SPEC_HEAD
+    + "grid: {kind: zonal, latitudes_deg: [-90, -60, -30, 0, 30, 60, 90]}\n"
+    "products: [monthly_insolation_fixed_day, monthly_insolation_fixed_angle, daily_insolation]\n"
+)
 TRANSIENT_SPEC = """\
 experiment: {name: deglacial-orbit}
 transient: {start_epoch: 21ka, end_epoch: 0ka, acceleration: 500}
@@ -144,14 +125,14 @@ def test_a_built_file_reproduces_the_pmip1_table(built):
     field = monthly_field(built["fixed_day"])
     assert field.months == "fixed_day" and field.label == "pmip1-today (0ka)"
     assert field.settings.solar_constant_wm2 == 1365.0  # read back from the spec in the file
-    for lat, row in PMIP1_TODAY.items():
+    for lat, row in PMIP1_TODAY_WM2.items():
         i = int(np.flatnonzero(field.latitude_deg == lat)[0])
         np.testing.assert_allclose(field.insolation_wm2[i], row, atol=0.011)
 
 
 def test_a_spec_reproduces_the_pmip1_table(built):
     field = monthly_field(built["spec"], latitude_deg=[-90, -60, 0, 60, 90])
-    for lat, row in PMIP1_TODAY.items():
+    for lat, row in PMIP1_TODAY_WM2.items():
         i = int(np.flatnonzero(field.latitude_deg == lat)[0])
         np.testing.assert_allclose(field.insolation_wm2[i], row, atol=0.01)  # §4.7: ±0.01
 
