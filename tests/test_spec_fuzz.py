@@ -12,12 +12,17 @@ from __future__ import annotations
 import copy
 from pathlib import Path
 
+import pytest
 import yaml
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from bcgen.errors import SpecError
 from bcgen.spec import ExperimentSpec, parse_spec_text
+
+# Random mutations often give values in an implausible unit; their warning is expected here
+# (tests/test_spec.py checks it on its own).
+pytestmark = pytest.mark.filterwarnings("ignore::bcgen.errors.ImplausibleValueWarning")
 
 CONFIGS = Path(__file__).resolve().parent.parent / "configs"
 VALID_TEXTS = [p.read_text() for p in sorted(CONFIGS.rglob("*.yaml"))]
