@@ -33,6 +33,7 @@ import numpy as np
 from bcgen.epochs import format_epoch
 from bcgen.errors import InputFileError, OrbitError
 from bcgen.orbit.elements import OrbitalElements, convert_perihelion
+from bcgen.textfile import content_lines
 
 NAME = "table"
 REFERENCE = "a table supplied by the user"
@@ -62,15 +63,7 @@ def read_table(path) -> dict[str, np.ndarray]:
 
 
 def _read_csv(path: Path) -> dict[str, np.ndarray]:
-    try:
-        text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputFileError(f"{path}: cannot read as a UTF-8 CSV table ({exc})") from None
-    lines = [
-        (n, line)
-        for n, line in enumerate(text.splitlines(), start=1)
-        if line.strip() and not line.lstrip().startswith("#")
-    ]
+    lines = content_lines(path, "orbit table")
     if len(lines) < 3:
         raise InputFileError(f"{path}: an orbit table needs a header line and at least two rows")
     header = [h.strip() for h in lines[0][1].split(",")]

@@ -45,6 +45,7 @@ from bcgen.epochs import format_epoch
 from bcgen.errors import InputFileError
 from bcgen.orbit.table import TIME_COLUMNS
 from bcgen.spec import schema as S
+from bcgen.textfile import content_lines
 
 GasInterpolation = Literal["linear", "nearest"]
 
@@ -173,17 +174,7 @@ def load_gas_table(path) -> GasTable:
         One line naming the file (and line) and what is expected.
     """
     path = Path(path)
-    if not path.is_file():
-        raise InputFileError(f"{path}: greenhouse-gas table not found")
-    try:
-        text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputFileError(f"{path}: cannot read as a UTF-8 CSV table ({exc})") from None
-    lines = [
-        (n, line)
-        for n, line in enumerate(text.splitlines(), start=1)
-        if line.strip() and not line.lstrip().startswith("#")
-    ]
+    lines = content_lines(path, "greenhouse-gas table")
     if len(lines) < 3:
         raise InputFileError(
             f"{path}: a greenhouse-gas table needs a header line and at least two rows"

@@ -67,6 +67,7 @@ import numpy as np
 from bcgen.cf import LATITUDE_UNITS
 from bcgen.errors import BcgenError, BcgenWarning, InputFileError
 from bcgen.solar_calendar.calendars import ModelCalendar, canonical_calendar
+from bcgen.textfile import content_lines
 
 Frequency = Literal["daily", "monthly", "sub-daily", "instant", "other"]
 
@@ -524,14 +525,7 @@ def read_orbit_table(path) -> OrbitTable:
         is not a number (with its line number).
     """
     path = Path(path)
-    if not path.is_file():
-        raise InputFileError(f"{path}: no such file")
-    try:
-        text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputFileError(f"{path}: cannot read ({_first_line(exc)})") from None
-    lines = [(i + 1, line) for i, line in enumerate(text.splitlines())
-             if line.strip() and not line.lstrip().startswith("#")]
+    lines = content_lines(path, "orbit table")
     if not lines:
         raise InputFileError(f"{path}: empty table; expected a header line such as "
                              f"'time_days,declination_deg,distance_factor'")
