@@ -6,6 +6,7 @@ import sys
 
 import numpy as np
 import pytest
+from cli_checks import one_error_line
 
 from bcgen.cli import main
 
@@ -14,14 +15,6 @@ def run(capsys, *argv):
     status = main(["insolation", *argv])
     out, err = capsys.readouterr()
     return status, out, err
-
-
-def one_error_line(err: str) -> str:
-    lines = err.splitlines()
-    assert len(lines) == 1, err
-    assert lines[0].startswith("bcgen: error: ")
-    assert "Traceback" not in err
-    return lines[0]
 
 
 def test_json_for_the_mid_holocene(capsys):

@@ -9,6 +9,7 @@ import sys
 from pathlib import Path
 
 import pytest
+from cli_checks import one_error_line
 
 from bcgen.cli import main
 from bcgen.errors import EpochError
@@ -29,14 +30,6 @@ def run(capsys, *argv):
     status = main(["orbit", *argv])
     out, err = capsys.readouterr()
     return status, out, err
-
-
-def one_error_line(err: str) -> str:
-    lines = err.splitlines()
-    assert len(lines) == 1, err
-    assert lines[0].startswith("bcgen: error: ")
-    assert "Traceback" not in err
-    return lines[0]
 
 
 def test_json_gives_the_pmip4_protocol_orbits(capsys):

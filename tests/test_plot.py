@@ -17,6 +17,7 @@ import pytest
 
 matplotlib.use("Agg")  # no display in tests
 
+from cli_checks import one_error_line  # noqa: E402
 from published_tables import PMIP1_SPEC_HEAD, PMIP1_TODAY_WM2  # noqa: E402
 
 from bcgen.cli import main  # noqa: E402
@@ -80,14 +81,6 @@ def run(capsys, *argv):
         status = exc.code
     out, err = capsys.readouterr()
     return status, out, err
-
-
-def one_error_line(err: str) -> str:
-    lines = err.splitlines()
-    assert len(lines) == 1, err
-    assert lines[0].startswith("bcgen: error: ")
-    assert "Traceback" not in err
-    return lines[0]
 
 
 def texts(fig) -> str:

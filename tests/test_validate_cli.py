@@ -9,6 +9,7 @@ import sys
 import numpy as np
 import pytest
 import xarray as xr
+from cli_checks import one_error_line
 from validate_synthetic import orbit_table, synthetic_output, write_spec
 
 from bcgen.cli import main
@@ -56,14 +57,6 @@ def run(capsys, *argv):
         status = exc.code
     out, err = capsys.readouterr()
     return status, out, err
-
-
-def one_error_line(err: str, prefix: str = "bcgen: error: ") -> str:
-    lines = err.splitlines()
-    assert len(lines) == 1, err
-    assert lines[0].startswith(prefix)
-    assert "Traceback" not in err
-    return lines[0]
 
 
 def test_consistent_exits_0_with_text_report(capsys, files):
