@@ -155,6 +155,16 @@ class Grid:
         return int(np.prod(self.shape))
 
     # --- areas --------------------------------------------------------------------------
+    def unique_latitudes_deg(self) -> tuple[np.ndarray, np.ndarray]:
+        """Return the distinct latitudes and, for each grid point, its index into them.
+
+        Daily-mean insolation depends on latitude only, so it is computed once per
+        distinct latitude and spread over the grid with the index.
+        """
+        lat = np.asarray(self.lat_deg, dtype=float)
+        unique, inverse = np.unique(lat, return_inverse=True)
+        return unique, inverse.reshape(lat.shape)
+
     def cell_area_weights(self) -> np.ndarray:
         r"""Cell areas as fractions of the whole sphere (they sum to 1 on a global grid).
 

@@ -93,9 +93,7 @@ class BuildContext:
     @cached_property
     def unique_latitudes_deg(self) -> tuple[np.ndarray, np.ndarray]:
         """Distinct latitudes of the grid and the index of each grid point into them."""
-        lat = np.asarray(self.grid.lat_deg, dtype=float)
-        unique, inverse = np.unique(lat, return_inverse=True)
-        return unique, inverse.reshape(lat.shape)
+        return self.grid.unique_latitudes_deg()
 
     @cached_property
     def global_annual_mean_wm2(self) -> float:
