@@ -10,16 +10,13 @@ imported only by the functions that need them.
 >>> round(float(orbit.eccentricity), 6)
 0.018682
 
-``bcgen.build`` and ``bcgen.validate`` are also the names of subpackages; after either
-is imported the attribute is that subpackage, which is made callable (it calls the
-function of the same name), so ``bcgen.build(spec, "out")`` always works.
+No subpackage shares its name with a public function: ``bcgen.build`` is the function of
+:mod:`bcgen.timeslice` and ``bcgen.validate`` that of :mod:`bcgen.validation`.
 """
 
 from __future__ import annotations
 
 import importlib
-import sys
-import types
 
 __version__ = "0.1.0"
 
@@ -58,14 +55,11 @@ _LAZY = {
     "annual_mean_insolation_wm2": "bcgen.insolation",
     "load_spec": "bcgen.spec",
     "parse_spec_text": "bcgen.spec",
-    "build": "bcgen.build",
+    "build": "bcgen.timeslice",
     "to_fixed_angle_months": "bcgen.convert",
     "to_fixed_day_months": "bcgen.convert",
-    "validate": "bcgen.validate",
+    "validate": "bcgen.validation",
 }
-
-#: Subpackages that share their name with a public function.
-_CALLABLE_SUBPACKAGES = ("build", "validate")
 
 __all__ = [
     "Anchor",
@@ -106,34 +100,11 @@ __all__ = [
 ]
 
 
-class _CallableSubpackage(types.ModuleType):
-    """A subpackage that can be called as the function of the same name (``bcgen.build``)."""
-
-    def __call__(self, *args, **kwargs):
-        return getattr(self, self.__name__.rpartition(".")[2])(*args, **kwargs)
-
-    @property
-    def __wrapped__(self):  # inspect.signature(bcgen.build) shows the function's
-        return getattr(self, self.__name__.rpartition(".")[2])
-
-
-class _Package(types.ModuleType):
-    """The ``bcgen`` module: makes ``bcgen.build``/``bcgen.validate`` callable when imported."""
-
-    def __setattr__(self, name: str, value) -> None:
-        if name in _CALLABLE_SUBPACKAGES and isinstance(value, types.ModuleType):
-            value.__class__ = _CallableSubpackage
-        super().__setattr__(name, value)
-
-
 def __getattr__(name: str):
     """Load a public name from its module on first use (PEP 562)."""
     if name not in _LAZY:
         raise AttributeError(f"module 'bcgen' has no attribute {name!r}")
-    module = importlib.import_module(_LAZY[name])
-    if name in _CALLABLE_SUBPACKAGES:
-        return module  # callable: see _CallableSubpackage
-    value = getattr(module, name)
+    value = getattr(importlib.import_module(_LAZY[name]), name)
     globals()[name] = value
     return value
 
@@ -141,9 +112,3 @@ def __getattr__(name: str):
 def __dir__() -> list[str]:
     return sorted(set(globals()) | set(__all__))
 
-
-sys.modules[__name__].__class__ = _Package
-for _name in _CALLABLE_SUBPACKAGES:  # imported before this point (never, but be sure)
-    if f"{__name__}.{_name}" in sys.modules:
-        setattr(sys.modules[__name__], _name, sys.modules[f"{__name__}.{_name}"])
-del _name

@@ -116,9 +116,10 @@ def test_public_names_resolve_and_build_and_validate_are_callable():
     for name in bcgen.__all__:
         assert getattr(bcgen, name) is not None, name
     assert set(bcgen.__all__) <= set(dir(bcgen))
-    importlib.import_module("bcgen.build")  # the subpackages, imported: still callable
-    importlib.import_module("bcgen.validate")
+    importlib.import_module("bcgen.timeslice")  # their subpackages, imported: still callable
+    importlib.import_module("bcgen.validation")
     assert callable(bcgen.build) and callable(bcgen.validate)
+    assert inspect.isfunction(bcgen.build) and inspect.isfunction(bcgen.validate)
     assert list(inspect.signature(bcgen.build).parameters)[:2] == ["spec", "output_dir"]
     assert list(inspect.signature(bcgen.validate).parameters)[:2] == ["model_file", "spec"]
     with pytest.raises(AttributeError, match="no attribute 'not_a_name'"):

@@ -1,4 +1,4 @@
-"""Tests of bcgen.validate: readers, comparison, diagnosis of deliberate mistakes, verdict.
+"""Tests of bcgen.validation: readers, comparison, diagnosis of deliberate mistakes, verdict.
 
 Synthetic model outputs come from ``validate_synthetic.py``: bcgen's engine run
 with each mistake applied to its *inputs*. Expected fitted values are the
@@ -24,7 +24,7 @@ from validate_synthetic import (
 )
 
 from bcgen.errors import InputFileError, SpecError
-from bcgen.validate import (
+from bcgen.validation import (
     CODES,
     ModelOutput,
     read_model_output,
@@ -33,11 +33,11 @@ from bcgen.validate import (
     validate,
     validate_output,
 )
-from bcgen.validate import diagnose as diagnose_module
-from bcgen.validate.compare import Comparison, estimate_noise_wm2, noise_estimate
-from bcgen.validate.diagnose import golden_section, levenberg_marquardt
-from bcgen.validate.readers import AmbiguousTimeWarning
-from bcgen.validate.reference import insolation_from_geometry
+from bcgen.validation import diagnose as diagnose_module
+from bcgen.validation.compare import Comparison, estimate_noise_wm2, noise_estimate
+from bcgen.validation.diagnose import golden_section, levenberg_marquardt
+from bcgen.validation.readers import AmbiguousTimeWarning
+from bcgen.validation.reference import insolation_from_geometry
 
 # PMIP4/PMIP3 midHolocene "perihelion - 180" = 0.87 deg (published-values §1.1, PMIP3 6 ka
 # design page): a model that used the value 180 deg off has 180.87.

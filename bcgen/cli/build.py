@@ -42,8 +42,8 @@ def register(subparsers) -> argparse.ArgumentParser:
 
 def run(args: argparse.Namespace) -> int:
     """Build, print the summary, return the exit status."""
-    from bcgen.build import build
     from bcgen.spec import load_spec
+    from bcgen.timeslice import build
 
     spec = load_spec(args.spec)
     command = "bcgen " + " ".join(shlex.quote(a) for a in sys.argv[1:]) if sys.argv else None

@@ -11,7 +11,7 @@ import argparse
 import math
 
 from bcgen.errors import CheckFailed
-from bcgen.validate.compare import DEFAULT_TOLERANCE_WM2
+from bcgen.validation.compare import DEFAULT_TOLERANCE_WM2
 
 EPILOG = """\
 examples:
@@ -88,8 +88,8 @@ def register(subparsers) -> argparse.ArgumentParser:
 
 def run(args: argparse.Namespace) -> int:
     """Run ``bcgen validate``; raise CheckFailed (exit 1) when inconsistent."""
-    from bcgen.validate import validate
-    from bcgen.validate.report import summary_line, to_json, to_text
+    from bcgen.validation import validate
+    from bcgen.validation.report import summary_line, to_json, to_text
 
     result = validate(args.model_file, args.spec, var=args.var,
                       tolerance_wm2=args.tolerance_wm2, noise_wm2=args.noise_wm2,

@@ -116,7 +116,7 @@ class Settings:
 
 
 def _settings_from_spec(spec) -> Settings:
-    from bcgen.build.context import model_calendar
+    from bcgen.timeslice.context import model_calendar
 
     return Settings(
         calendar=model_calendar(spec),

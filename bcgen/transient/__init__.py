@@ -45,10 +45,10 @@ from pathlib import Path
 import numpy as np
 
 from bcgen import __version__
-from bcgen.build import BuildResult, manifest_name
 from bcgen.epochs import format_epoch
 from bcgen.errors import OutputError, SpecError
 from bcgen.spec import ExperimentSpec
+from bcgen.timeslice import BuildResult, manifest_name
 from bcgen.transient.gases import GasTable, load_gas_table
 from bcgen.transient.manifest import decide, read_manifest, records_by_file, write_manifest
 from bcgen.transient.pipeline import ChunkProducer
@@ -240,7 +240,7 @@ def stale_temporary(name: str, candidate: str) -> bool:
 
     Those are ``.NAME.<12 hex digits>.tmp`` (:class:`SeriesFile`,
     :func:`bcgen.writer.write_netcdf`) and ``.NAME.<process id>.tmp``
-    (:func:`bcgen.build.write_text_atomic`, the manifest).
+    (:func:`bcgen.timeslice.write_text_atomic`, the manifest).
     """
     return re.fullmatch(rf"\.{re.escape(name)}\.(?:[0-9a-f]{{12}}|[0-9]+)\.tmp", candidate) \
         is not None

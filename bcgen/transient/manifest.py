@@ -120,7 +120,7 @@ def decide(
 
 def write_manifest(path: Path, header: dict, records: Iterable[dict]) -> Path:
     """Write the manifest atomically (temporary file, then rename)."""
-    from bcgen.build import write_text_atomic
+    from bcgen.timeslice import write_text_atomic
 
     manifest = dict(header)
     manifest["kind"] = KIND

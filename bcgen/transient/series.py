@@ -88,14 +88,14 @@ class RunContext:
     @cached_property
     def calendar(self) -> ModelCalendar:
         """The model calendar with its anchor."""
-        from bcgen.build.context import model_calendar
+        from bcgen.timeslice.context import model_calendar
 
         return model_calendar(self.spec)
 
     @cached_property
     def grid(self) -> Grid | None:
         """The grid of the insolation products (None if the spec has none)."""
-        from bcgen.build.context import make_grid
+        from bcgen.timeslice.context import make_grid
 
         return make_grid(self.spec)
 

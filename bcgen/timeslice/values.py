@@ -23,7 +23,7 @@ def in_units(mole_fraction: float, factor: float) -> float:
 def template_values(ctx) -> dict[str, object]:
     """Return the value of every placeholder of :data:`bcgen.render.PLACEHOLDERS`.
 
-    ``ctx`` is a :class:`bcgen.build.context.BuildContext`. A gas the spec does not set is
+    ``ctx`` is a :class:`bcgen.timeslice.context.BuildContext`. A gas the spec does not set is
     :class:`~bcgen.render.Unavailable`, so a template that uses it is refused with the
     reason instead of being written with a value a model cannot read.
     """

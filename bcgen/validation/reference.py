@@ -49,7 +49,7 @@ from bcgen.insolation.daily import DAY_AVERAGE_NODES, DailyMethod
 from bcgen.orbit.elements import OrbitalElements
 from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.solar_calendar.position import SolarYear
-from bcgen.validate.readers import ModelOutput
+from bcgen.validation.readers import ModelOutput
 
 #: Calendars whose days map to the orbit in the same way every year.
 _FIXED_LENGTH = ("noleap", "all_leap", "360_day")

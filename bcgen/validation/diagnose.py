@@ -1,7 +1,7 @@
 r"""Name what is wrong: fit a model's output against a catalogue of common mistakes.
 
 Each explanation is a version of bcgen's reference computation with one
-mistake applied to its inputs (:class:`bcgen.validate.reference.ForwardModel`);
+mistake applied to its inputs (:class:`bcgen.validation.reference.ForwardModel`);
 its free parameters are fitted to the model's values by least squares, and the
 explanations are ranked by how much they reduce the misfit (the RMS of model
 minus prediction over every valid value).
@@ -42,7 +42,7 @@ Codes
     anchor. Only a file with a calendar is checked (NetCDF), and two calendars
     that lay out the file's years identically (``standard`` and
     ``proleptic_gregorian`` after 1582) do not differ. Reported by
-    :func:`bcgen.validate.validate_output`, unless the file's calendar is
+    :func:`bcgen.validation.validate_output`, unless the file's calendar is
     accepted with ``--accept-file-calendar``.
 ``unexplained``
     Reported first when the insolation is inconsistent and no catalogued
@@ -71,7 +71,7 @@ Explains
 --------
 A significant explanation *explains* the differences (``explains: true``) when,
 with the mistake put into the reference, the output would pass the error rules
-(A) and (B) of :mod:`bcgen.validate.compare`: the misfit left is at most
+(A) and (B) of :mod:`bcgen.validation.compare`: the misfit left is at most
 T + σₐ in RMS and at most T + √(2 ln N) σₐ at its largest (T the tolerance,
 σₐ = min(σ, T)). A significant explanation that leaves more is a *partial*
 fit (``explains: false``): it removes part of a difference it does not
@@ -115,8 +115,8 @@ import numpy as np
 from bcgen.epochs import format_epoch
 from bcgen.orbit import solve as solve_orbit
 from bcgen.orbit.elements import OrbitalElements
-from bcgen.validate.compare import max_abs_allowed_wm2, noise_estimate, rms_allowed_wm2
-from bcgen.validate.reference import ForwardModel, orbit_with
+from bcgen.validation.compare import max_abs_allowed_wm2, noise_estimate, rms_allowed_wm2
+from bcgen.validation.reference import ForwardModel, orbit_with
 
 #: Differences below this (W m-2) are numerical precision, not a misfit.
 MISFIT_FLOOR_WM2 = 0.01
@@ -187,7 +187,7 @@ class Finding:
         Largest absolute difference between the model and the explanation's prediction.
     noise_after_wm2 : float
         Noise level σ of the residual left by the explanation
-        (:func:`bcgen.validate.compare.noise_estimate`).
+        (:func:`bcgen.validation.compare.noise_estimate`).
     explains : bool or None
         Whether the explanation accounts for the differences to within the
         tolerance (module docstring, "Explains"); None until judged.

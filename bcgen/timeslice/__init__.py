@@ -1,7 +1,7 @@
 """The main job: an experiment spec in, every product it asks for out, with a manifest.
 
-:func:`build` resolves the spec once (:class:`~bcgen.build.context.BuildContext`),
-computes every product (:mod:`bcgen.build.products`) before writing anything,
+:func:`build` resolves the spec once (:class:`~bcgen.timeslice.context.BuildContext`),
+computes every product (:mod:`bcgen.timeslice.products`) before writing anything,
 refuses to overwrite existing outputs without ``force`` before writing
 anything, writes every file and a JSON manifest (each file with its SHA-256
 and what it holds) into a hidden staging folder inside the output folder, and
@@ -21,10 +21,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from bcgen import __version__
-from bcgen.build.context import BuildContext
-from bcgen.build.products import PRODUCTS, Output, make_outputs
 from bcgen.errors import OutputError
 from bcgen.spec import ExperimentSpec
+from bcgen.timeslice.context import BuildContext
+from bcgen.timeslice.products import PRODUCTS, Output, make_outputs
 from bcgen.writer import move_into_place, prepare_output_folder, write_failure, write_netcdf
 
 __all__ = ["PRODUCTS", "BuildResult", "build", "write_text_atomic"]

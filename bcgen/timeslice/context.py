@@ -159,9 +159,9 @@ class BuildContext:
         """
         import json
 
-        from bcgen.build.values import template_values
         from bcgen.errors import InputFileError
         from bcgen.render import bundled_template_path, render_file
+        from bcgen.timeslice.values import template_values
 
         attrs: dict[str, str] = {}
         values = template_values(self) if self.spec.attribute_templates else {}

@@ -50,7 +50,7 @@ import math
 import numpy as np
 
 from bcgen import __version__
-from bcgen.validate.compare import MONTH_NAMES
+from bcgen.validation.compare import MONTH_NAMES
 
 _ORDER = ("verdict", "max_abs_error_wm2", "rms_error_wm2", "findings")
 

@@ -21,7 +21,7 @@ Noise
     annual cycle of a wrong orbit in monthly means) also has second
     differences, so σ is estimated from the residual against the reference and
     from the residual left by each significant explanation of
-    :mod:`bcgen.validate.diagnose`, and the smallest is used; ``--noise-wm2``
+    :mod:`bcgen.validation.diagnose`, and the smallest is used; ``--noise-wm2``
     gives σ instead. For white noise the estimate from n second differences has
     a relative standard error of about :data:`NOISE_RELATIVE_SE` /√n (1.17/√n
     for the median absolute deviation of independent Gaussian values, from
@@ -43,12 +43,12 @@ Verdict
         when given with ``--noise-wm2``. Beyond that, errors of the size of
         the tolerance cannot be told from the noise;
     (D) no catalogued mistake is *significant* (see
-        :mod:`bcgen.validate.diagnose`) while changing the insolation by more
+        :mod:`bcgen.validation.diagnose`) while changing the insolation by more
         than T somewhere: a mistake detected beneath the noise still counts
         when it is larger than the tolerance;
     (E) the file's calendar lays out the model years as the spec's calendar
         does, unless the file's calendar is accepted explicitly
-        (``--accept-file-calendar``; :mod:`bcgen.validate`).
+        (``--accept-file-calendar``; :mod:`bcgen.validation`).
 
     Otherwise ``inconsistent``. A correct output with 1 W m-2 of random noise
     is consistent; 5 W m-2 of noise is not (at the default tolerance), and each
@@ -62,7 +62,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bcgen.validate.readers import ModelOutput
+from bcgen.validation.readers import ModelOutput
 
 #: Latitude band edges, degrees north (bands 30° wide).
 DEFAULT_BAND_EDGES_DEG = (-90.0, -60.0, -30.0, 0.0, 30.0, 60.0, 90.0)

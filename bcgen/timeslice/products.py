@@ -1,8 +1,8 @@
 """The products of a time-slice build: one function per product, each returning outputs.
 
-A product function takes a :class:`~bcgen.build.context.BuildContext` and
+A product function takes a :class:`~bcgen.timeslice.context.BuildContext` and
 returns a list of :class:`Output` (a CF dataset or a text, with the file name
-and a description); :mod:`bcgen.build` writes them. Nothing here touches the
+and a description); :mod:`bcgen.timeslice` writes them. Nothing here touches the
 file system.
 """
 
@@ -17,8 +17,6 @@ from pathlib import Path
 import numpy as np
 import xarray as xr
 
-from bcgen.build.context import BuildContext
-from bcgen.build.values import in_units, template_values
 from bcgen.cf import variable_attrs
 from bcgen.errors import SpecError
 from bcgen.insolation import daily_insolation, instantaneous_insolation, monthly_insolation
@@ -26,6 +24,8 @@ from bcgen.orbit import SOLUTIONS
 from bcgen.render import bundled_template_path, render_file
 from bcgen.solar_calendar.months import fixed_angle_months, fixed_day_months
 from bcgen.solar_calendar.position import SolarYear
+from bcgen.timeslice.context import BuildContext
+from bcgen.timeslice.values import in_units, template_values
 from bcgen.writer import climatology_time_axis, time_axis
 
 #: Attributes of the precession index (no CF standard name exists).

@@ -2,12 +2,12 @@
 
 ``bcgen validate MODEL_FILE --spec SPEC`` reads what the model produced (TOA
 incoming shortwave in NetCDF, or a CSV table from its orbit routine; see
-:mod:`bcgen.validate.readers`), computes bcgen's reference for the same
+:mod:`bcgen.validation.readers`), computes bcgen's reference for the same
 intervals and latitudes from the experiment spec
-(:mod:`bcgen.validate.reference`), reports the errors per month and latitude
-band with the worst places (:mod:`bcgen.validate.compare`), fits a catalogue
-of common mistakes (:mod:`bcgen.validate.diagnose`) and gives a verdict,
-``consistent`` or ``inconsistent`` (rule in :mod:`bcgen.validate.compare`).
+(:mod:`bcgen.validation.reference`), reports the errors per month and latitude
+band with the worst places (:mod:`bcgen.validation.compare`), fits a catalogue
+of common mistakes (:mod:`bcgen.validation.diagnose`) and gives a verdict,
+``consistent`` or ``inconsistent`` (rule in :mod:`bcgen.validation.compare`).
 
 A NetCDF file on another calendar than the spec's is compared on its own
 calendar with the spec's anchor, and is inconsistent (finding
@@ -17,7 +17,7 @@ run the experiment's year, and only the modeller can say that this is intended.
 Calendars that lay out the file's years identically (``standard`` and
 ``proleptic_gregorian`` after 1582) do not differ.
 
->>> from bcgen.validate import validate
+>>> from bcgen.validation import validate
 >>> result = validate("model_rsdt.nc", "configs/protocols/midHolocene.yaml")  # doctest: +SKIP
 >>> result.verdict, result.findings[0].code                                   # doctest: +SKIP
 ('inconsistent', 'perihelion_opposite')
@@ -34,10 +34,10 @@ import numpy as np
 from bcgen.errors import BcgenError, InputFileError, SpecError
 from bcgen.insolation.daily import distance_factor as _distance_factor
 from bcgen.solar_calendar.calendars import Anchor, ModelCalendar
-from bcgen.validate import compare as _compare
-from bcgen.validate.compare import DEFAULT_BAND_EDGES_DEG, DEFAULT_TOLERANCE_WM2, Comparison
-from bcgen.validate.diagnose import CODES, Diagnosis, Finding
-from bcgen.validate.readers import (
+from bcgen.validation import compare as _compare
+from bcgen.validation.compare import DEFAULT_BAND_EDGES_DEG, DEFAULT_TOLERANCE_WM2, Comparison
+from bcgen.validation.diagnose import CODES, Diagnosis, Finding
+from bcgen.validation.readers import (
     TABLE_COLUMNS,
     ModelOutput,
     OrbitTable,
@@ -46,7 +46,7 @@ from bcgen.validate.readers import (
     read_model_output,
     read_orbit_table,
 )
-from bcgen.validate.reference import ForwardModel, Setup, insolation_from_geometry
+from bcgen.validation.reference import ForwardModel, Setup, insolation_from_geometry
 
 Verdict = Literal["consistent", "inconsistent"]
 
@@ -63,7 +63,7 @@ TABLE_LATITUDES_DEG = np.arange(-90.0, 91.0, 10.0)
 
 @dataclass(frozen=True)
 class ValidationResult:
-    """Everything ``bcgen validate`` found (see :mod:`bcgen.validate.report` for the output).
+    """Everything ``bcgen validate`` found (see :mod:`bcgen.validation.report` for the output).
 
     Attributes
     ----------
@@ -74,7 +74,7 @@ class ValidationResult:
         T and the noise level σ used (estimated, or given).
     allowed_max_abs_error_wm2, allowed_rms_error_wm2 : float
         T + √(2 ln N) σₐ and T + σₐ, with σₐ = min(σ, T) (rules A and B of
-        :mod:`bcgen.validate.compare`).
+        :mod:`bcgen.validation.compare`).
     comparison : Comparison
         Errors overall, per month and latitude band, worst places.
     findings : tuple of Finding
@@ -278,7 +278,7 @@ def validate_output(
         T of the verdict rule (default 1 W m-2).
     noise_wm2 : float, optional
         Noise level σ; default: estimated from the residuals (see
-        :mod:`bcgen.validate.compare`).
+        :mod:`bcgen.validation.compare`).
     band_edges_deg : sequence of float
         Latitude band edges of the error table.
     n_worst : int
