@@ -35,8 +35,9 @@ from pathlib import Path
 import netCDF4
 import numpy as np
 import pytest
+from io_faults import FailingBackend
 
-import bcgen.writer
+from bcgen.io import set_backend
 
 # --- input files ---------------------------------------------------------------------------
 #: Month edges of a noleap year, days after 1 January (CF 1.11 §4.4.1: noleap months).
@@ -169,22 +170,11 @@ def read_only(folder: Path, monkeypatch) -> None:
 
 
 def disk_full(monkeypatch, after: int = 0) -> None:
-    """Simulate ENOSPC: the writer's low-level NetCDF write fails (after ``after`` files).
+    """Simulate ENOSPC: the NetCDF write fails (after ``after`` files), through the seam.
 
     The failing write leaves a partly written temporary file, as a real full disk does.
     """
-    real = bcgen.writer._to_netcdf
-    calls = {"n": 0}
-
-    def write(dataset, tmp, encoding):
-        calls["n"] += 1
-        if calls["n"] <= after:
-            return real(dataset, tmp, encoding)
-        with open(tmp, "wb") as fh:
-            fh.write(b"\x89HDF\r\n\x1a\n partly written")
-        raise OSError(errno.ENOSPC, "No space left on device")
-
-    monkeypatch.setattr(bcgen.writer, "_to_netcdf", write)
+    set_backend(FailingBackend(OSError(errno.ENOSPC, "No space left on device"), after=after))
 
 
 def no_space_left(monkeypatch) -> None:
@@ -206,18 +196,7 @@ def disk_full_as(monkeypatch, error: BaseException, after: int = 0) -> None:
     failed HDF5 write into RuntimeError "NetCDF: HDF error" (netCDF-C's error codes, from
     memory); the free space (statvfs) is what tells a full disk.
     """
-    real = bcgen.writer._to_netcdf
-    calls = {"n": 0}
-
-    def write(dataset, tmp, encoding):
-        calls["n"] += 1
-        if calls["n"] <= after:
-            return real(dataset, tmp, encoding)
-        with open(tmp, "wb") as fh:
-            fh.write(b"\x89HDF\r\n\x1a\n partly written")
-        raise error
-
-    monkeypatch.setattr(bcgen.writer, "_to_netcdf", write)
+    set_backend(FailingBackend(error, after=after))
     no_space_left(monkeypatch)
 
 
@@ -227,19 +206,7 @@ def transient_disk_full(monkeypatch, after: int = 0) -> None:
     The failing write first writes part of its values, as a real one does, then raises
     what the netCDF library raises: RuntimeError "NetCDF: HDF error".
     """
-    from bcgen.transient.stream import SeriesFile
-
-    real = SeriesFile.write_chunk
-    calls = {"n": 0}
-
-    def write_chunk(self, name, start, values):
-        calls["n"] += 1
-        if calls["n"] <= after:
-            return real(self, name, start, values)
-        real(self, name, start, values[:1])
-        raise RuntimeError("NetCDF: HDF error")
-
-    monkeypatch.setattr(SeriesFile, "write_chunk", write_chunk)
+    set_backend(FailingBackend(RuntimeError("NetCDF: HDF error"), after=after, slabs=True))
     no_space_left(monkeypatch)
 
 
@@ -531,11 +498,12 @@ def test_the_corpus_is_large_and_its_ids_unique():
 def test_bad_input(case, tmp_path, monkeypatch, run_cli):
     monkeypatch.chdir(tmp_path)
     make_files(tmp_path, case.files)
-    if case.prepare is not None:
-        case.prepare(tmp_path, monkeypatch)
-    before = snapshot(tmp_path)
     try:
-        status, out, err = run_cli(case.argv)
+        with set_backend(None):  # a prepare may install a failing backend for this case only
+            if case.prepare is not None:
+                case.prepare(tmp_path, monkeypatch)
+            before = snapshot(tmp_path)
+            status, out, err = run_cli(case.argv)
     finally:
         for path in tmp_path.rglob("*"):  # undo chmod (read_only) so pytest can clean up
             if path.is_dir():

@@ -30,18 +30,19 @@ import cftime
 import netCDF4
 import numpy as np
 import pytest
+from io_faults import FailingBackend, RecordingBackend
 
 import bcgen.transient.pipeline as pipeline
 import bcgen.transient.series as series_module
 from bcgen.cli import main
 from bcgen.errors import InputFileError, OutputError
+from bcgen.io import SeriesFile, set_backend, sha256_of
 from bcgen.orbit import solve
 from bcgen.spec import load_spec
 from bcgen.timeslice import build
 from bcgen.transient import build_transient
 from bcgen.transient.gases import load_gas_table
 from bcgen.transient.progress import Progress, format_duration
-from bcgen.transient.stream import SeriesFile, sha256_of
 
 REPO = Path(__file__).resolve().parents[1]
 
@@ -353,7 +354,7 @@ products: [orbit, greenhouse_gases]
     )
     with pytest.raises(InputFileError, match=message):
         build_transient(spec, tmp_path / "out")
-    assert list((tmp_path / "out").iterdir()) == []
+    assert not (tmp_path / "out").exists()  # the folder it created is gone again
 
 
 # --- streaming: chunks are written and released ------------------------------------------------
@@ -376,9 +377,10 @@ def test_long_series_is_written_in_released_chunks(tmp_path, monkeypatch):
     per_year = 18 * 366 * 8 * series_module._TEMPORARIES
     monkeypatch.setattr(series_module, "COMPUTE_BUDGET_BYTES", 5 * per_year)
     monkeypatch.setattr(series_module, "WRITE_BUDGET_BYTES", 18 * 4 * 400)  # 400 days per slab
-    written, computed, stored = [], [], []
+    written, computed = [], []
     state = {"live_blocks": 0, "live_rows": 0}
-    real_append, real_write = SeriesFile.append, SeriesFile.write_chunk
+    real_append = SeriesFile.append
+    recording = RecordingBackend()
     real_compute = series_module.InsolationSeries.compute
 
     def counting_append(self, name, values):
@@ -387,11 +389,6 @@ def test_long_series_is_written_in_released_chunks(tmp_path, monkeypatch):
             written.append(weakref.ref(values))
         return real_append(self, name, values)
 
-    def counting_write(self, name, start, values):
-        if name == "insolation":
-            stored.append((start, values.shape[0]))
-        return real_write(self, name, start, values)
-
     def counting_compute(self, years):
         state["live_rows"] = max(state["live_rows"], sum(r() is not None for r in computed))
         out = real_compute(self, years)
@@ -399,7 +396,6 @@ def test_long_series_is_written_in_released_chunks(tmp_path, monkeypatch):
         return out
 
     monkeypatch.setattr(SeriesFile, "append", counting_append)
-    monkeypatch.setattr(SeriesFile, "write_chunk", counting_write)
     monkeypatch.setattr(series_module.InsolationSeries, "compute", counting_compute)
 
     # Warm-up: the first build imports modules and fills caches, which tracemalloc would count.
@@ -408,12 +404,15 @@ def test_long_series_is_written_in_released_chunks(tmp_path, monkeypatch):
     for n_years in (200, 800):
         written.clear()
         computed.clear()
-        stored.clear()
+        recording.slabs.clear()
         spec = _long_spec(tmp_path, n_years)
         tracemalloc.start()
-        build_transient(spec, tmp_path / f"out{n_years}")
+        with set_backend(recording):
+            build_transient(spec, tmp_path / f"out{n_years}")
         peaks[n_years] = tracemalloc.get_traced_memory()[1]
         tracemalloc.stop()
+        stored = [(start, rows) for _, name, start, rows in recording.slabs
+                  if name == "insolation"]
         # 5 model years per chunk → n/5 computations; each chunk's 5 x 365 days are written in
         # slabs of at most 400 days → 5 slabs per chunk.
         assert len(computed) == n_years // 5
@@ -466,19 +465,10 @@ def _check_complete_and_recorded(folder: Path, manifest: Path) -> dict:
 def test_interrupted_build_leaves_no_partial_file_and_resumes(tmp_path, monkeypatch):
     spec = _resumable_spec(tmp_path)
     out = tmp_path / "out"
-    real_write = SeriesFile.write_chunk
-    calls = {"n": 0}
-
-    def interrupting_write(self, name, start, values):
-        calls["n"] += 1
-        if calls["n"] > 25:  # part-way through the run (101 model years, 12 files)
-            raise KeyboardInterrupt
-        return real_write(self, name, start, values)
-
-    monkeypatch.setattr(SeriesFile, "write_chunk", interrupting_write)
-    with pytest.raises(KeyboardInterrupt):
+    # Part-way through the run (101 model years, 12 files), the 26th slab write is interrupted.
+    with set_backend(FailingBackend(KeyboardInterrupt(), after=25, slabs=True)), \
+            pytest.raises(KeyboardInterrupt):
         build_transient(spec, out)
-    monkeypatch.setattr(SeriesFile, "write_chunk", real_write)
     assert leftovers(out) == []
     done = nc_files(out)
     assert 0 < len(done) < 12
@@ -654,13 +644,18 @@ def test_rerun_removes_stale_temporaries_of_its_own_files_only(tmp_path):
     out.mkdir()
     # What a killed run leaves (SIGKILL: no clean-up): hidden temporaries of its own files
     # and of its manifest ...
-    stale = [".resume_orbit_1-20.nc.0123456789ab.tmp",
-             ".resume_monthly_insolation_fixed_day_81-100.nc.fedcba987654.tmp",
-             ".resume_manifest.json.4242.tmp"]
-    # ... and files that are not its own, which must stay.
-    foreign = [".other_orbit_1-20.nc.0123456789ab.tmp", ".resume_orbit_1-20.nc.mine.tmp",
-               "resume_orbit_1-20.nc.0123456789ab.tmp", ".resume_orbit_1-2.nc.0123456789ab.tmp",
-               "notes.tmp"]
+    # (their names carry the pid of their writer, which has ended) ...
+    dead = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"],
+                          capture_output=True, text=True, check=True).stdout.strip()
+    stale = [f".resume_orbit_1-20.nc.{dead}.0123456789ab.tmp",
+             f".resume_monthly_insolation_fixed_day_81-100.nc.{dead}.fedcba987654.tmp",
+             f".resume_manifest.json.{dead}.0123456789ab.tmp"]
+    # ... and files that are not its own, or whose writer still runs, which must stay.
+    alive = os.getppid()
+    foreign = [f".other_orbit_1-20.nc.{dead}.0123456789ab.tmp", ".resume_orbit_1-20.nc.mine.tmp",
+               f"resume_orbit_1-20.nc.{dead}.0123456789ab.tmp",
+               f".resume_orbit_1-2.nc.{dead}.0123456789ab.tmp",
+               f".resume_orbit_1-20.nc.{alive}.0123456789ab.tmp", "notes.tmp"]
     for name in stale + foreign:
         (out / name).write_bytes(b"\x89HDF\r\n\x1a\n partly written")
     result = build_transient(spec, out)
@@ -693,21 +688,12 @@ def test_failed_write_names_the_file_and_leaves_no_partial_file(tmp_path, monkey
     # whether the disk is full is asked of the file system (statvfs f_bavail, POSIX).
     spec = _resumable_spec(tmp_path)
     out = tmp_path / "out"
-    real_write = SeriesFile.write_chunk
-    calls, failed = {"n": 0}, []
-
-    def failing_write(self, name, start, values):
-        calls["n"] += 1
-        if calls["n"] <= 25:  # part-way through the run (12 files)
-            return real_write(self, name, start, values)
-        real_write(self, name, start, values[:1])  # a partial write, then the failure
-        failed.append(self.path.name)
-        raise RuntimeError("NetCDF: HDF error")
-
-    monkeypatch.setattr(SeriesFile, "write_chunk", failing_write)
+    # The 26th slab write fails, part-way through the run (12 files).
+    failing = FailingBackend(RuntimeError("NetCDF: HDF error"), after=25, slabs=True)
     _free_blocks(monkeypatch, free)
-    with pytest.raises(OutputError) as info:
+    with set_backend(failing), pytest.raises(OutputError) as info:
         build_transient(spec, out)
+    failed = failing.failed
     assert re.fullmatch(rf"cannot write .*{re.escape(failed[0])}: {reason}", str(info.value))
     assert "\n" not in str(info.value)
     assert leftovers(out) == []

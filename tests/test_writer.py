@@ -13,15 +13,16 @@ import netCDF4
 import numpy as np
 import pytest
 import xarray as xr
+from io_faults import FailingBackend
 
 from bcgen import cf, writer
 from bcgen.errors import CalendarError, OutputError
 from bcgen.grids import gaussian_grid, regular_grid, zonal_grid
+from bcgen.io import default_chunks, set_backend, write_netcdf
 from bcgen.writer import (
     climatology_time_axis,
     provenance_attrs,
     time_axis,
-    write_netcdf,
 )
 
 CFTIME = xr.coders.CFDatetimeCoder(use_cftime=True)
@@ -430,10 +431,10 @@ def test_default_encoding_compression_chunks_and_no_fill_on_coordinates(tmp_path
     # Chunk shapes by hand: 360 x 720 float32 = 1,036,800 bytes per step; 4 MiB = 4,194,304
     # bytes holds 4 steps; a series row is 365 x 720 x 4 = 1,051,200 bytes, 3 rows per chunk.
     dims = ("time", "lat", "lon")
-    assert writer.default_chunks((365, 360, 720), dims, 4) == (4, 360, 720)
-    assert writer.default_chunks((365, 360, 720), dims, 4, layout="series") == (365, 3, 720)
-    assert writer.default_chunks((365, 1800, 3600), dims, 4) == (1, 291, 3600)
-    assert writer.default_chunks((12,), ("time",), 8) is None
+    assert default_chunks((365, 360, 720), dims, 4) == (4, 360, 720)
+    assert default_chunks((365, 360, 720), dims, 4, layout="series") == (365, 3, 720)
+    assert default_chunks((365, 1800, 3600), dims, 4) == (1, 291, 3600)
+    assert default_chunks((12,), ("time",), 8) is None
 
 
 def test_caller_encoding_wins_and_unknown_names_are_refused(tmp_path):
@@ -496,15 +497,9 @@ def test_existing_file_is_not_overwritten_without_force(tmp_path, small):
 
 def test_file_appearing_during_the_write_is_not_clobbered(tmp_path, small, monkeypatch):
     target = tmp_path / "race.nc"
-    real = writer._to_netcdf
-
-    def write_then_someone_else_creates_target(dataset, tmp, encoding):
-        real(dataset, tmp, encoding)
-        target.write_bytes(b"theirs")
-
-    monkeypatch.setattr(writer, "_to_netcdf", write_then_someone_else_creates_target)
+    someone_else_creates_target = FailingBackend(then=lambda tmp: target.write_bytes(b"theirs"))
     with pytest.raises(OutputError, match="race.nc already exists; use --force"):
-        write_netcdf(small, target)
+        write_netcdf(small, target, backend=someone_else_creates_target)
     assert target.read_bytes() == b"theirs"
     assert _leftovers(tmp_path) == []
 
@@ -521,38 +516,33 @@ def test_read_only_folder(tmp_path, small, monkeypatch):
     folder = tmp_path / "ro"
     folder.mkdir()
     folder.chmod(0o555)
+    backend = None
     if os.geteuid() == 0:
-        # Root ignores directory permissions; make the temporary file fail as it would.
-        def refuse(path):
-            raise PermissionError(errno.EACCES, "Permission denied", str(path))
-
-        monkeypatch.setattr(writer, "_create_temporary", refuse)
+        # Root ignores directory permissions: writing into the folder would succeed. The
+        # library then fails as it would for anyone else (and no file may be left).
+        folder.chmod(0o755)
+        backend = FailingBackend(PermissionError(errno.EACCES, "Permission denied"))
+        monkeypatch.setattr(os, "statvfs", _free_blocks(10**6))
     try:
         with pytest.raises(
             OutputError,
             match=r"cannot write .*out.nc: permission denied \(is the folder "
             r"writable\?\)$",
         ):
-            write_netcdf(small, folder / "out.nc")
+            write_netcdf(small, folder / "out.nc", backend=backend)
         assert list(folder.iterdir()) == []
     finally:
         folder.chmod(0o755)
 
 
 def _partial_then(exc):
-    def fake(dataset, tmp, encoding):
-        with open(tmp, "wb") as f:
-            f.write(b"\x89HDF partial")
-        raise exc
-
-    return fake
+    """A backend whose write leaves a partial file, then fails with ``exc``."""
+    return set_backend(FailingBackend(exc))
 
 
 def test_disk_full_leaves_no_file(tmp_path, small, monkeypatch):
-    monkeypatch.setattr(
-        writer, "_to_netcdf", _partial_then(OSError(errno.ENOSPC, "No space left on device"))
-    )
-    with pytest.raises(OutputError) as info:
+    full = _partial_then(OSError(errno.ENOSPC, "No space left on device"))
+    with full, pytest.raises(OutputError) as info:
         write_netcdf(small, tmp_path / "full.nc")
     assert str(info.value) == (
         f"cannot write {tmp_path / 'full.nc'}: no space left on the device (disk full)"
@@ -587,8 +577,7 @@ def _free_blocks(n: int):
 )
 def test_full_disk_is_named_whatever_the_library_reports(tmp_path, small, monkeypatch, failure):
     monkeypatch.setattr(os, "statvfs", _free_blocks(0))
-    monkeypatch.setattr(writer, "_to_netcdf", _partial_then(failure))
-    with pytest.raises(OutputError) as info:
+    with _partial_then(failure), pytest.raises(OutputError) as info:
         write_netcdf(small, tmp_path / "full.nc")
     assert str(info.value) == (
         f"cannot write {tmp_path / 'full.nc'}: no space left on the device (disk full)"
@@ -598,24 +587,20 @@ def test_full_disk_is_named_whatever_the_library_reports(tmp_path, small, monkey
 
 def test_quota_and_a_writable_disk_are_told_apart(tmp_path, small, monkeypatch):
     # EDQUOT (POSIX): out of space for this user, whatever statvfs says.
-    monkeypatch.setattr(writer, "_to_netcdf",
-                        _partial_then(OSError(errno.EDQUOT, "Disk quota exceeded")))
-    with pytest.raises(OutputError, match=r"q\.nc: no space left on the device \(disk quota "
-                       r"exceeded\)$"):
+    with _partial_then(OSError(errno.EDQUOT, "Disk quota exceeded")), pytest.raises(
+            OutputError, match=r"q\.nc: no space left on the device \(disk quota exceeded\)$"):
         write_netcdf(small, tmp_path / "q.nc")
     # Plenty of space (1e6 free blocks): EACCES is a permission problem, not a full disk.
     monkeypatch.setattr(os, "statvfs", _free_blocks(10**6))
-    monkeypatch.setattr(writer, "_to_netcdf",
-                        _partial_then(PermissionError(errno.EACCES, "Permission denied")))
-    with pytest.raises(OutputError, match=r"p\.nc: permission denied \(is the folder "
-                       r"writable\?\)$"):
+    with _partial_then(PermissionError(errno.EACCES, "Permission denied")), pytest.raises(
+            OutputError, match=r"p\.nc: permission denied \(is the folder writable\?\)$"):
         write_netcdf(small, tmp_path / "p.nc")
     assert list(tmp_path.iterdir()) == []
 
 
 def test_library_failure_is_one_line_and_leaves_no_file(tmp_path, small, monkeypatch):
-    monkeypatch.setattr(writer, "_to_netcdf", _partial_then(RuntimeError("NetCDF: HDF error\n")))
-    with pytest.raises(OutputError, match=r"lib.nc: NetCDF: HDF error$") as info:
+    with _partial_then(RuntimeError("NetCDF: HDF error\n")), pytest.raises(
+            OutputError, match=r"lib.nc: NetCDF: HDF error$") as info:
         write_netcdf(small, tmp_path / "lib.nc")
     assert "\n" not in str(info.value)
     assert list(tmp_path.iterdir()) == []
@@ -625,8 +610,7 @@ def test_interrupt_leaves_no_partial_file_and_keeps_the_old_one(tmp_path, small,
     target = tmp_path / "old.nc"
     write_netcdf(small, target)
     before = target.read_bytes()
-    monkeypatch.setattr(writer, "_to_netcdf", _partial_then(KeyboardInterrupt()))
-    with pytest.raises(KeyboardInterrupt):
+    with _partial_then(KeyboardInterrupt()), pytest.raises(KeyboardInterrupt):
         write_netcdf(small, target, force=True)
     assert target.read_bytes() == before
     assert _leftovers(tmp_path) == []

@@ -7,7 +7,7 @@ calendars, and time axes that are neither monthly nor daily or that leave gaps
 between files. The data are dask-backed and chunked for conversion: the whole time
 axis in one chunk, space cut so that one chunk holds about :data:`CHUNK_BYTES`.
 
-:func:`write_output` writes through :func:`bcgen.writer.write_netcdf` (atomic,
+:func:`write_output` writes through :func:`bcgen.io.write_netcdf` (atomic,
 refuses to overwrite without ``force``), with the data variables' compression taken
 from the input.
 """
@@ -188,7 +188,7 @@ def _storage_chunks(var, time_dim: str, time_steps: int = 120) -> tuple[int, ...
 
 
 def write_output(ds: xr.Dataset, path: os.PathLike | str, *, force: bool = False) -> Path:
-    """Write the converted dataset atomically (see :func:`bcgen.writer.write_netcdf`)."""
-    from bcgen.writer import write_netcdf
+    """Write the converted dataset atomically (see :func:`bcgen.io.write_netcdf`)."""
+    from bcgen.io import write_netcdf
 
     return write_netcdf(ds, path, force=force, encoding=output_encoding(ds))

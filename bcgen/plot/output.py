@@ -6,7 +6,7 @@ from pathlib import Path
 from typing import Literal
 
 from bcgen.errors import OutputError
-from bcgen.writer import _create_temporary, _describe, _remove, move_into_place
+from bcgen.io import create_temporary, move_into_place, remove_quietly, write_failure
 
 FigureFormat = Literal["png", "pdf"]
 #: File suffixes and the format each selects.
@@ -54,7 +54,7 @@ def save_figure(fig, path, *, force: bool = False, dpi: int = 150) -> Path:
     """Save a matplotlib Figure to ``path``, atomically.
 
     The figure is written to a hidden temporary file in the target folder and
-    renamed into place only when complete (as :func:`bcgen.writer.write_netcdf`
+    renamed into place only when complete (as :func:`bcgen.io.write_netcdf`
     does); on any failure, including an interrupt, no output is left.
 
     Parameters
@@ -82,15 +82,15 @@ def save_figure(fig, path, *, force: bool = False, dpi: int = 150) -> Path:
         "Software": f"bcgen {__version__}"}
     tmp = None
     try:
-        tmp = _create_temporary(path)
+        tmp = create_temporary(path)
         fig.savefig(tmp, format=fmt, dpi=dpi, metadata=metadata)
         move_into_place(tmp, path, force)
         tmp = None
     except OutputError:
         raise
     except OSError as exc:
-        raise OutputError(_describe(path, exc)) from None
+        raise OutputError(write_failure(path, exc)) from None
     finally:
         if tmp is not None:
-            _remove(tmp)
+            remove_quietly(tmp)
     return path

@@ -3,31 +3,33 @@
 :func:`build` resolves the spec once (:class:`~bcgen.timeslice.context.BuildContext`),
 computes every product (:mod:`bcgen.timeslice.products`) before writing anything,
 refuses to overwrite existing outputs without ``force`` before writing
-anything, writes every file and a JSON manifest (each file with its SHA-256
+anything, takes the output folder's lock (:class:`bcgen.io.lock.FolderLock`: one
+writer per folder), writes every file and a JSON manifest (each file with its SHA-256
 and what it holds) into a hidden staging folder inside the output folder, and
-moves them into place only when all are complete, so that a failure (disk
-full) or an interrupt leaves the output folder as it was. A transient spec is handed to
-:mod:`bcgen.transient`.
+replaces the old set by the new one all at once (:func:`bcgen.io.staging.replace_all`),
+so that a failure (disk full, a file that cannot be replaced) or an interrupt leaves
+the output folder as it was, and the manifest always matches the folder. A transient
+spec is handed to :mod:`bcgen.transient`.
 """
 
 from __future__ import annotations
 
-import hashlib
 import json
 import os
 import shutil
-import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
 from bcgen import __version__
 from bcgen.errors import OutputError
+from bcgen.io import prepare_output_folder, sha256_of, write_netcdf, write_text_atomic
+from bcgen.io.lock import FolderLock
+from bcgen.io.staging import make_stage, replace_all, sweep_stale_temporaries
 from bcgen.spec import ExperimentSpec
 from bcgen.timeslice.context import BuildContext
 from bcgen.timeslice.products import PRODUCTS, Output, make_outputs
-from bcgen.writer import move_into_place, prepare_output_folder, write_failure, write_netcdf
 
-__all__ = ["PRODUCTS", "BuildResult", "build", "write_text_atomic"]
+__all__ = ["PRODUCTS", "BuildResult", "build"]
 
 
 @dataclass
@@ -82,12 +84,18 @@ def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
     encoding_options = {"compression_level": spec.output.compression_level,
                         "shuffle": spec.output.shuffle}
     # Every file is first written into a hidden staging folder and moved into place only
-    # when all are complete: a failure or an interrupt leaves the folder as it was.
+    # when all are complete, the old set moved aside and back on any failure
+    # (bcgen.io.staging.replace_all): the folder holds the old set or the new one, whole.
     created = not directory.exists()
     stage = None
+    lock = None
     try:
-        _prepare_directory(directory, names, force)
-        stage = Path(tempfile.mkdtemp(prefix=".bcgen-build-", dir=directory))
+        prepare_output_folder(directory)
+        lock = FolderLock(directory).acquire()
+        old_files = _previous_files(directory / manifest_path.name, names) if force else []
+        _refuse_existing(directory, names, force)
+        sweep_stale_temporaries(directory, names)
+        stage = make_stage(directory)
         for out in outputs:
             path = stage / out.file_name
             if out.dataset is not None:
@@ -96,9 +104,8 @@ def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
             else:
                 write_text_atomic(path, out.text)
             result.files.append(_file_record(path, out))
-        _write_manifest(stage / manifest_path.name, ctx, result, force)
-        for name in names:
-            move_into_place(stage / name, directory / name, force)
+        _write_manifest(stage / manifest_path.name, ctx, result, False)
+        replace_all(stage, directory, names, remove=old_files)
     except OutputError as exc:  # name the file where it was going, not the staging folder
         message = str(exc) if stage is None else str(exc).replace(str(stage), str(directory))
         raise OutputError(message) from None
@@ -107,6 +114,8 @@ def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
     finally:
         if stage is not None:
             shutil.rmtree(stage, ignore_errors=True)
+        if lock is not None:
+            lock.release()
         if created and directory.is_dir() and not any(directory.iterdir()):
             directory.rmdir()
     result.manifest = manifest_path
@@ -118,14 +127,28 @@ def manifest_name(spec: ExperimentSpec) -> str:
     return f"{spec.experiment.name}_manifest.json"
 
 
-def _prepare_directory(directory: Path, names: list[str], force: bool) -> None:
-    prepare_output_folder(directory)
+def _refuse_existing(directory: Path, names: list[str], force: bool) -> None:
     if not force:
-        existing = [n for n in names if (directory / n).exists()]
+        existing = [n for n in names if os.path.lexists(directory / n)]
         if existing:
             more = f" and {len(existing) - 1} more" if len(existing) > 1 else ""
             raise OutputError(f"{directory / existing[0]}{more} already exist(s); use --force "
                               "to overwrite")
+
+
+def _previous_files(manifest: Path, names: list[str]) -> list[str]:
+    """Files of the set an earlier build recorded in ``manifest`` that this one does not write.
+
+    They are replaced with the rest (moved aside, then deleted), so that after a
+    ``--force`` rebuild the folder holds the new set only and matches the new manifest.
+    """
+    try:
+        data = json.loads(manifest.read_text(encoding="utf-8"))
+        files = [f["file"] for f in data.get("files", []) if isinstance(f, dict)]
+    except (OSError, ValueError, AttributeError, KeyError, TypeError):
+        return []
+    return [f for f in files if isinstance(f, str) and f not in names
+            and Path(f).name == f and not f.startswith(".")]
 
 
 def _encoding(dataset, compression_level: int, shuffle: bool) -> dict:
@@ -135,35 +158,6 @@ def _encoding(dataset, compression_level: int, shuffle: bool) -> dict:
             enc[name] = {"zlib": compression_level > 0, "complevel": compression_level,
                          "shuffle": shuffle and compression_level > 0}
     return enc
-
-
-def write_text_atomic(path: Path, text: str, *, force: bool = False) -> Path:
-    """Write a text file through a temporary file in the same folder; never a partial file."""
-    path = Path(path)
-    if path.exists() and not force:
-        raise OutputError(f"{path} already exists; use --force to overwrite it")
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    try:
-        with open(tmp, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except OSError as exc:
-        raise OutputError(write_failure(path, exc)) from None
-    finally:
-        if tmp.exists():
-            tmp.unlink()
-    return path
-
-
-def sha256_of(path: Path) -> str:
-    """SHA-256 of a file's bytes."""
-    digest = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for block in iter(lambda: fh.read(1 << 20), b""):
-            digest.update(block)
-    return digest.hexdigest()
 
 
 def _file_record(path: Path, out: Output) -> dict:

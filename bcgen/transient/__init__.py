@@ -12,7 +12,7 @@ Model years and epochs
 
 Streaming
     Each file is computed and written a chunk of model years at a time
-    (:mod:`bcgen.transient.series`, :mod:`bcgen.transient.stream`), so the
+    (:mod:`bcgen.transient.series`, :class:`bcgen.io.SeriesFile`), so the
     peak memory depends on the grid and the chunk size, not on the number of
     model years.
 
@@ -21,8 +21,9 @@ Interruption and re-runs
     is complete; Ctrl-C (or SIGTERM through the command line) deletes the
     temporary file, and the files completed before it stay valid and recorded
     in the manifest. A process killed outright (SIGKILL, a node failure) can
-    leave a hidden temporary file ``.NAME.nc.<hex>.tmp``: a re-run deletes those
-    of its own files (and of its manifest) before it writes anything. A re-run
+    leave a hidden temporary file ``.NAME.nc.<pid>.<hex>.tmp``: a re-run deletes those
+    of its own files (and of its manifest) whose writing process is gone, before it
+    writes anything (:func:`bcgen.io.staging.sweep_stale_temporaries`). A re-run
     skips every file whose SHA-256 and parameters match its manifest record and
     builds the rest; other existing files are rebuilt with ``force`` and
     refused without it.
@@ -38,7 +39,6 @@ from __future__ import annotations
 
 import hashlib
 import os
-import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -47,6 +47,9 @@ import numpy as np
 from bcgen import __version__
 from bcgen.epochs import format_epoch
 from bcgen.errors import OutputError, SpecError
+from bcgen.io import SeriesFile, prepare_output_folder, sha256_of, write_failure
+from bcgen.io.lock import FolderLock
+from bcgen.io.staging import sweep_stale_temporaries
 from bcgen.spec import ExperimentSpec
 from bcgen.timeslice import BuildResult, manifest_name
 from bcgen.transient.gases import GasTable, load_gas_table
@@ -54,8 +57,7 @@ from bcgen.transient.manifest import decide, read_manifest, records_by_file, wri
 from bcgen.transient.pipeline import ChunkProducer
 from bcgen.transient.progress import Progress
 from bcgen.transient.series import SERIES, RunContext, Series
-from bcgen.transient.stream import SeriesFile, sha256_of
-from bcgen.writer import prepare_output_folder, time_axis, write_failure
+from bcgen.writer import time_axis
 
 __all__ = ["GasTable", "TransientBuildResult", "build_transient", "load_gas_table", "plan_files"]
 
@@ -171,7 +173,18 @@ def build_transient(
     if spec.transient is None:
         raise SpecError("build_transient needs a spec with a 'transient' section")
     directory = Path(output_dir if output_dir is not None else spec.output.directory)
+    created = not directory.exists()
     prepare_output_folder(directory)
+    try:
+        with FolderLock(directory):
+            return _build_locked(spec, directory, force, command, progress)
+    finally:
+        if created and directory.is_dir() and not any(directory.iterdir()):
+            directory.rmdir()
+
+
+def _build_locked(spec, directory: Path, force: bool, command, progress):
+    """:func:`build_transient` once the output folder's lock is held."""
     ctx = RunContext(spec, command=command)
     series = {p: SERIES[p](ctx) for p in spec.products if p in SERIES}
     unknown = [p for p in spec.products if p not in SERIES]
@@ -204,7 +217,7 @@ def build_transient(
     work, shares = _model_year_shares(pending)
     bar = Progress(work, f"{spec.experiment.name}: model years", enabled=progress)
     ctx.prepare(gases="greenhouse_gases" in series)  # inputs are read before the thread starts
-    remove_stale_temporaries(directory, [j.file_name for j in jobs] + [manifest_path.name])
+    sweep_stale_temporaries(directory, [j.file_name for j in jobs] + [manifest_path.name])
     writer = _FileWriter(ctx, series, directory, manifest_path, header, records, bar, shares)
     try:
         with ChunkProducer(pending, series, threaded=THREADED) as producer:
@@ -233,43 +246,6 @@ def _model_year_shares(pending: list[FileJob]) -> tuple[int, dict[str, float]]:
     work = sum(last - first + 1 for first, last in by_range)
     shares = {j.file_name: 1.0 / len(group) for group in by_range.values() for j in group}
     return work, shares
-
-
-def stale_temporary(name: str, candidate: str) -> bool:
-    """Tell whether ``candidate`` is a temporary file bcgen writes for the file ``name``.
-
-    Those are ``.NAME.<12 hex digits>.tmp`` (:class:`SeriesFile`,
-    :func:`bcgen.writer.write_netcdf`) and ``.NAME.<process id>.tmp``
-    (:func:`bcgen.timeslice.write_text_atomic`, the manifest).
-    """
-    return re.fullmatch(rf"\.{re.escape(name)}\.(?:[0-9a-f]{{12}}|[0-9]+)\.tmp", candidate) \
-        is not None
-
-
-def remove_stale_temporaries(directory: Path, names: list[str]) -> list[Path]:
-    """Delete temporary files an earlier, killed run left for the files ``names``.
-
-    Only names of this run's own files are touched (see :func:`stale_temporary`);
-    returns the files deleted.
-    """
-    wanted = set(names)
-    removed = []
-    for entry in os.scandir(directory):
-        if not (entry.name.startswith(".") and entry.name.endswith(".tmp")):
-            continue
-        if not entry.is_file(follow_symlinks=False):
-            continue
-        if any(stale_temporary(name, entry.name) for name in wanted
-               if entry.name.startswith(f".{name}.")):
-            try:
-                os.unlink(entry.path)
-            except FileNotFoundError:
-                continue
-            except OSError as exc:
-                raise OutputError(f"cannot delete the stale temporary file {entry.path}: "
-                                  f"{exc.strerror or exc}") from None
-            removed.append(Path(entry.path))
-    return removed
 
 
 class _FileWriter:

@@ -30,7 +30,7 @@ from pathlib import Path
 from typing import Literal
 
 from bcgen.errors import OutputError
-from bcgen.transient.stream import sha256_of
+from bcgen.io import sha256_of, write_text_atomic
 
 #: Value of the manifest's ``kind`` key for a transient run.
 KIND = "transient"
@@ -120,8 +120,6 @@ def decide(
 
 def write_manifest(path: Path, header: dict, records: Iterable[dict]) -> Path:
     """Write the manifest atomically (temporary file, then rename)."""
-    from bcgen.timeslice import write_text_atomic
-
     manifest = dict(header)
     manifest["kind"] = KIND
     manifest["files"] = list(records)

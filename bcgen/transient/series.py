@@ -2,7 +2,7 @@
 
 Each product is a :class:`Series`: it says how many time steps a model year
 has and where they lie (:meth:`Series.year_bounds`), defines its variables in
-a :class:`~bcgen.transient.stream.SeriesFile`, and computes its values for a
+a :class:`~bcgen.io.SeriesFile`, and computes its values for a
 chunk of model years (:meth:`Series.compute`). Nothing here decides which
 files to write; :func:`bcgen.transient.build_transient` does.
 
@@ -33,11 +33,11 @@ from bcgen.grids import Grid
 from bcgen.insolation import daily_insolation, monthly_insolation
 from bcgen.insolation.daily import DAILY_METHODS, DAY_AVERAGE_NODES
 from bcgen.insolation.monthly import MONTHLY_AVERAGING
+from bcgen.io import SeriesFile
 from bcgen.orbit import SOLUTIONS, OrbitalElements
 from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.spec import ExperimentSpec
 from bcgen.transient.gases import INTERPOLATION_METHODS, GasTable, load_gas_table, output_units
-from bcgen.transient.stream import SeriesFile
 from bcgen.writer import provenance_attrs
 
 #: Bytes of float64 work arrays one insolation chunk may use (sets the model years per

@@ -108,12 +108,12 @@ def child_bare(folder: Path) -> dict:
 
 def child_stream(folder: Path) -> dict:
     import numpy as np
+    from bcgen.transient.stream import SeriesFile
 
     from bcgen.grids import regular_grid
     from bcgen.insolation import daily_insolation
     from bcgen.orbit import solve
     from bcgen.transient.series import WRITE_BUDGET_BYTES, spread_to_grid
-    from bcgen.transient.stream import SeriesFile
 
     grid = regular_grid(0.5)
     lat, index = np.unique(grid.lat_deg, return_inverse=True)

@@ -1,4 +1,4 @@
-"""Chunked writing of one NetCDF-4 file of a transient series, through a temporary file.
+"""Chunked writing of one NetCDF-4 file of a time series, through a temporary file.
 
 :class:`SeriesFile` writes straight through the netCDF4 library: the
 dimensions, coordinates and attributes are defined first, then each data
@@ -11,15 +11,20 @@ temporary file, so an interrupted run leaves no partial output.
 
 A write that fails (a full disk, a lost file system) raises
 :class:`~bcgen.errors.OutputError` naming the file, "no space left on the
-device" when the disk is full (:func:`bcgen.writer.write_failure`), after the
+device" when the disk is full (:func:`bcgen.io.write_failure`), after the
 temporary file is deleted. The netCDF library reports such failures as
 ``RuntimeError`` ("NetCDF: HDF error") or ``OSError``, at the write itself, at a
 flush or only when the file is closed.
 
-The encoding follows :mod:`bcgen.writer`: coordinates and bounds are stored
+Every call into the netCDF library goes through the backend in force
+(:mod:`bcgen.io.backend`, the fault-injection seam) and holds SIGINT and SIGTERM
+until it returns (:func:`bcgen.io.signals.held_signals`), so an interrupt never
+tears the library's state down in the middle of a write.
+
+The encoding follows :mod:`bcgen.io.netcdf`: coordinates and bounds are stored
 uncompressed without a fill value (CF §7.1), floating-point data variables with
 zlib and the shuffle filter at the spec's level, and chunks of whole time
-steps from :func:`bcgen.writer.default_chunks`.
+steps from :func:`bcgen.io.default_chunks`.
 
 Compressed variables with a time axis are best filled through
 :meth:`SeriesFile.append`, which gathers values into whole storage chunks
@@ -31,16 +36,18 @@ computation of the next values, rather than all at once when the file closes.
 from __future__ import annotations
 
 import contextlib
-import hashlib
 import os
-import uuid
 from collections.abc import Iterator, Mapping
 from pathlib import Path
 
 import numpy as np
 
 from bcgen.errors import OutputError
-from bcgen.writer import default_chunks, write_failure
+from bcgen.io.atomic import remove_quietly, sha256_of, temporary_name
+from bcgen.io.backend import NetCDFBackend, current_backend
+from bcgen.io.diagnose import write_failure
+from bcgen.io.netcdf import default_chunks
+from bcgen.io.signals import held_signals
 
 
 class SeriesFile:
@@ -54,6 +61,8 @@ class SeriesFile:
         zlib level 0-9 of floating-point data variables (0: none).
     shuffle : bool
         Use the HDF5 shuffle filter with compression.
+    backend : NetCDFBackend, optional
+        What writes the bytes (default: :func:`bcgen.io.current_backend`).
 
     Attributes
     ----------
@@ -61,9 +70,9 @@ class SeriesFile:
         Number of :meth:`write_chunk` calls so far.
     """
 
-    def __init__(self, path, *, compression_level: int = 4, shuffle: bool = True) -> None:
-        import netCDF4
-
+    def __init__(self, path, *, compression_level: int = 4, shuffle: bool = True,
+                 backend: NetCDFBackend | None = None) -> None:
+        self.backend = backend or current_backend()
         self.path = Path(path)
         if not self.path.parent.is_dir():
             raise OutputError(f"cannot write {self.path}: folder {self.path.parent} does not exist")
@@ -73,13 +82,14 @@ class SeriesFile:
         self._published = False
         self._chunk_rows: dict[str, int] = {}
         self._buffers: dict[str, list] = {}  # name -> [buffer or None, rows filled, next row]
-        self.tmp = self.path.with_name(f".{self.path.name}.{uuid.uuid4().hex[:12]}.tmp")
+        # Named before it is created, so that an interrupt at any moment finds it to delete.
+        self.tmp = self.path.with_name(temporary_name(self.path.name))
         self._ds = None
         try:
             fd = os.open(self.tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666)
             os.close(fd)
-            self._ds = netCDF4.Dataset(self.tmp, "w", format="NETCDF4")
-            self._ds.set_fill_off()
+            with held_signals():
+                self._ds = self.backend.create(self.tmp)
         except (OSError, RuntimeError) as exc:
             message = write_failure(self.path, exc)  # before the file is removed
             self.discard()
@@ -90,9 +100,10 @@ class SeriesFile:
 
     @contextlib.contextmanager
     def _writing(self) -> Iterator[None]:
-        """Turn a failure of the netCDF library into OutputError and delete the temporary file."""
+        """Hold signals during a library call; a failure becomes OutputError, the file deleted."""
         try:
-            yield
+            with held_signals():
+                yield
         except (OSError, RuntimeError) as exc:
             message = write_failure(self.path, exc)  # while the partial file still fills the disk
             self.discard()
@@ -123,7 +134,7 @@ class SeriesFile:
         """Create a variable; write ``data`` at once if given (for coordinates and bounds).
 
         ``compress=True`` applies the file's zlib level and shuffle filter and
-        chunks of whole time steps (:func:`bcgen.writer.default_chunks`).
+        chunks of whole time steps (:func:`bcgen.io.default_chunks`).
         """
         kwargs: dict = {"fill_value": False}
         if compress and self.compression_level > 0:
@@ -147,7 +158,7 @@ class SeriesFile:
         """Write ``values`` into variable ``name`` from time step ``start`` on (first axis)."""
         values = np.asarray(values)
         with self._writing():
-            self._ds.variables[name][start : start + values.shape[0], ...] = values
+            self.backend.write_slab(self._ds, name, start, values)
         self.chunks_written += 1
 
     def append(self, name: str, values: np.ndarray) -> None:
@@ -221,19 +232,12 @@ class SeriesFile:
     def discard(self) -> None:
         """Close and delete the temporary file (nothing is left behind)."""
         try:
-            if self._ds is not None and self._ds.isopen():
-                self._ds.close()
+            with held_signals():
+                if self._ds is not None and self._ds.isopen():
+                    self._ds.close()
         except Exception:  # noqa: BLE001 - a half-written file may fail to close; delete it anyway
             pass
-        self._remove_tmp()
-
-    def _remove_tmp(self) -> None:
-        try:
-            self.tmp.unlink()
-        except FileNotFoundError:
-            pass
-        except OSError:  # the error being reported matters more than a file left behind
-            pass
+        remove_quietly(self.tmp)
 
     def __enter__(self) -> SeriesFile:
         return self
@@ -241,15 +245,6 @@ class SeriesFile:
     def __exit__(self, exc_type, exc, tb) -> None:
         if not self._published:
             self.discard()
-
-
-def sha256_of(path) -> str:
-    """SHA-256 of a file's bytes."""
-    digest = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for block in iter(lambda: fh.read(1 << 20), b""):
-            digest.update(block)
-    return digest.hexdigest()
 
 
 def _attr(value):
