@@ -99,7 +99,7 @@ def check_field_axes(fig) -> None:
     low, high = ax.get_ylim()
     assert low < high  # south at the bottom, north at the top
     assert "latitude (degrees north" in ax.get_ylabel()
-    assert "W m$^{-2}$" in colorbar_label(fig)
+    assert "W m-2" in colorbar_label(fig)
 
 
 # --- sources ---------------------------------------------------------------------------
@@ -243,7 +243,7 @@ def test_orbit_figure_from_a_range():
     axes = fig.axes
     assert len(axes) == 4
     assert "(dimensionless)" in axes[0].get_ylabel() and "(degrees)" in axes[1].get_ylabel()
-    assert "e sin ϖ" in axes[2].get_ylabel() and "W m$^{-2}$" in axes[3].get_ylabel()
+    assert "e sin ϖ" in axes[2].get_ylabel() and "W m-2" in axes[3].get_ylabel()
     assert "ka BP" in axes[-1].get_xlabel()
     assert "30ka to 0ka every 1ka" in texts(fig)
     left, right = axes[-1].get_xlim()

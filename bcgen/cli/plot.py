@@ -15,7 +15,7 @@ KINDS = {
     "insolation": "monthly-mean TOA insolation by latitude and month",
     "anomaly": "insolation minus that of a reference experiment (--reference)",
     "month-lengths": "fixed-day against fixed-angle month lengths",
-    "orbit": "eccentricity, obliquity, precession index and June-solstice insolation in time",
+    "orbit": "eccentricity, obliquity, precession index and summer-solstice insolation in time",
 }
 
 EPILOG = """\
@@ -23,11 +23,12 @@ kinds:
   insolation      monthly-mean TOA insolation by latitude and month (W m-2)
   anomaly         the same minus a reference experiment (--reference, required)
   month-lengths   fixed-day against fixed-angle month lengths (days)
-  orbit           e, obliquity, e sin(perihelion) and June-solstice insolation in time
+  orbit           e, obliquity, e sin(perihelion) and summer-solstice insolation in time
 
 examples:
   bcgen plot insolation 6ka -o 6ka.png
   bcgen plot insolation 127ka --months fixed-angle -o 127ka-angle.pdf
+  bcgen plot insolation 127ka --months fixed-angle --reference 1850CE -o 127ka-1850arcs.pdf
   bcgen plot anomaly 6ka --reference 0ka -o 6ka-minus-0ka.png
   bcgen plot anomaly configs/protocols/lig127k.yaml --reference configs/protocols/piControl.yaml
   bcgen build configs/demo.yaml -o demo-output
@@ -35,6 +36,7 @@ examples:
       --reference 1850CE
   bcgen plot month-lengths 127ka --reference 1850CE -o months-127ka.png
   bcgen plot orbit 800ka..0ka/1ka --lat 65 -65 -o orbit.pdf
+  bcgen plot orbit 800ka..0ka/1ka --lat 65 --true-longitude-deg 120 -o orbit-120.pdf
 
 SOURCE is an epoch (6ka, 1850CE), a range START..END/STEP (orbit), an
 experiment spec (.yaml) or a monthly insolation file written by 'bcgen build'
@@ -47,9 +49,12 @@ Months run Jan..Dec left to right, latitudes south to north bottom to top,
 ages from the past (left) to the present (right).
 
 --reference is the experiment subtracted for 'anomaly', and the epoch of the
-reference orbit of the fixed-angle months for 'month-lengths' (as in
-'bcgen months'). --lat gives the latitudes of a computed field (default every
-degree) or, for 'orbit', of the June-solstice insolation panel (default 65).
+reference orbit of the fixed-angle months for 'month-lengths' and for
+'insolation --months fixed-angle' of an epoch (as in 'bcgen months'; a spec or
+file carries its own). --lat gives the latitudes of a computed field (default
+every degree) or, for 'orbit', of the insolation panel (default 65): each
+latitude at its own summer solstice (true longitude 90 in the north, 270 in the
+south), or at --true-longitude-deg; the legend says which.
 The format follows the suffix of -o (.png or .pdf); the default name is
 KIND_SOURCE.png (anomaly: KIND_SOURCE_minus_REFERENCE.png) in the current
 folder. An existing file is kept unless --force.
@@ -74,12 +79,17 @@ def register(subparsers) -> argparse.ArgumentParser:
                              "(.nc)")
     parser.add_argument("--reference", metavar="SOURCE",
                         help="anomaly: the experiment to subtract (epoch, spec or file); "
-                             "month-lengths: epoch of the reference orbit (default 1950CE)")
+                             "month-lengths and fixed-angle insolation: epoch of the reference "
+                             "orbit (default 1950CE)")
     parser.add_argument("--months", choices=list(MONTH_OPTIONS),
                         help="month definition of insolation and anomaly (default: fixed-day, "
                              "or the file's)")
     parser.add_argument("--lat", nargs="+", type=float, metavar="LAT",
                         help="latitudes in degrees north (south negative)")
+    parser.add_argument("--true-longitude-deg", type=float, metavar="DEG",
+                        help="orbit: the Sun's true longitude of the insolation panel, degrees "
+                             "from the March equinox (default: each latitude's summer "
+                             "solstice, 90 north, 270 south)")
     parser.add_argument("--calendar", metavar="NAME",
                         help="CF calendar of an epoch source (default: noleap)")
     parser.add_argument("-o", "--output", metavar="FILE",
@@ -121,7 +131,8 @@ def make_figure(args: argparse.Namespace):
     """Load the data of the requested figure and draw it; return (figure, description)."""
     from bcgen.plot import figures, sources
 
-    _refuse(args, "--reference", ("anomaly", "month-lengths"))
+    _refuse(args, "--reference", ("anomaly", "month-lengths", "insolation"))
+    _refuse(args, "--true-longitude-deg", ("orbit",))
     _refuse(args, "--months", ("insolation", "anomaly"))
     _refuse(args, "--lat", ("insolation", "anomaly", "orbit"))
     _refuse(args, "--calendar", ("insolation", "anomaly", "month-lengths"))
@@ -135,7 +146,7 @@ def make_figure(args: argparse.Namespace):
             raise BcgenError("--lat: a field by latitude needs at least 2 latitudes, e.g. "
                              "--lat -90 -60 -30 0 30 60 90")
     if args.kind == "insolation":
-        field = sources.monthly_field(args.source, months, args.lat, args.calendar)
+        field = _insolation_field(args, months)
         return figures.insolation_figure(field), f"{field.label}, {field.month_text}"
     if args.kind == "anomaly":
         if args.reference is None:
@@ -150,7 +161,41 @@ def make_figure(args: argparse.Namespace):
         return figures.month_lengths_figure(lengths), \
             f"{lengths.label}, calendar {lengths.settings.calendar_text}"
     series = sources.orbit_series(args.source)
-    return figures.orbit_figure(series, args.lat or (65.0,)), series.label
+    lam = args.true_longitude_deg
+    if lam is not None and not -360.0 <= lam <= 360.0:
+        raise BcgenError(f"--true-longitude-deg: expected degrees from the March equinox "
+                         f"(0 to 360), got {lam:g}")
+    return figures.orbit_figure(series, args.lat or (65.0,), lam), series.label
+
+
+def _insolation_field(args: argparse.Namespace, months):
+    """Return the field of 'plot insolation' (``--reference`` sets fixed-angle arcs)."""
+    from dataclasses import replace
+
+    from bcgen.epochs import parse_epoch
+    from bcgen.orbit import solve
+    from bcgen.plot import sources
+
+    if args.reference is None:
+        return sources.monthly_field(args.source, months, args.lat, args.calendar)
+    if months != "fixed_angle":
+        raise BcgenError("--reference applies to 'bcgen plot insolation' with --months "
+                         "fixed-angle (the epoch whose calendar months give the arcs)")
+    kind = sources.source_kind(args.source)
+    if kind != "epoch":
+        where = ("insolation.reference_epoch in the spec" if kind == "spec"
+                 else "the file's reference_orbit_epoch")
+        raise BcgenError(f"--reference: {args.source} carries its own reference orbit "
+                         f"({where}); --reference applies to an epoch source")
+    try:
+        parse_epoch(args.reference)
+    except BcgenError:
+        raise BcgenError(f"--reference: the reference orbit of fixed-angle months must be an "
+                         f"epoch such as 1850CE, got {args.reference!r}") from None
+    base = sources.monthly_field(args.source, months, args.lat, args.calendar)
+    settings = replace(base.settings, reference_epoch=args.reference)
+    orbit = solve(parse_epoch(args.source))
+    return sources.compute_field(orbit, settings, months, base.latitude_deg, base.label)
 
 
 def run(args: argparse.Namespace) -> int:

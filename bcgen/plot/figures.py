@@ -36,7 +36,8 @@ MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "O
 FIELD_CMAP = "cividis"
 #: Colormap of anomalies: diverging, white at zero.
 ANOMALY_CMAP = "RdBu_r"
-WM2 = "W m$^{-2}$"
+#: Units of insolation, written as everywhere else in bcgen (UDUNITS text, as in the files).
+WM2 = "W m-2"
 #: Line styles and markers of successive lines on one axis.
 LINE_STYLES = (("-", "o"), ("--", "s"), ("-.", "^"), (":", "D"))
 #: Monthly means below this count as polar night in anomaly figures (W m-2).
@@ -93,6 +94,29 @@ def _month_axis(ax, xlabel: str) -> None:
     ax.set_xlabel(xlabel)
 
 
+def _to_the_poles(lat: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Extend a field on cell-centre latitudes to the poles, when its cells reach them.
+
+    A built file holds values on cell centres (85°S to 85°N for 10° cells); the
+    outermost cells end at the poles, so their values are drawn out to ±90° (the
+    cell's value over the whole cell) and the axis keeps its 90°S and 90°N ticks.
+    Latitudes that stop short of their cells' edges (a few chosen latitudes) are
+    left as they are.
+    """
+    if lat.size < 2:
+        return lat, z
+    rows, values = [lat], [z]
+    south_edge = lat[0] - 0.5 * (lat[1] - lat[0])
+    if lat[0] > -90.0 and south_edge <= -90.0 + 1e-6:
+        rows.insert(0, np.array([-90.0]))
+        values.insert(0, z[:1])
+    north_edge = lat[-1] + 0.5 * (lat[-1] - lat[-2])
+    if lat[-1] < 90.0 and north_edge >= 90.0 - 1e-6:
+        rows.append(np.array([90.0]))
+        values.append(z[-1:])
+    return np.concatenate(rows), np.concatenate(values, axis=0)
+
+
 def _latitude_axis(ax, lat: np.ndarray) -> None:
     ax.set_ylim(lat.min(), lat.max())
     ticks = np.arange(-90, 91, 30)
@@ -143,6 +167,61 @@ def _signed(value: float, spec: str = "g") -> str:
     return format(value, "+" + spec).replace("-", "\u2212")
 
 
+#: Screen angles (degrees) of contour labels: a label turned by less than this past the
+#: vertical is flipped to read upwards, as the latitude axis label does.
+_UPRIGHT_MIN_DEG = -80.0
+#: Margin (points) kept between a contour label and the frame of the axes.
+_LABEL_MARGIN_PT = 4.0
+
+
+def _label_contours(ax, lines, fmt, *, boxed: bool = False, fontsize: float = 8,
+                    inline_spacing: float = 3) -> list:
+    """Label contour lines where the labels read upright and lie wholly inside the frame.
+
+    matplotlib places labels in screen space when ``clabel`` is called, so the
+    figure's layout is settled first (a later resize would move and turn them).
+    Each connected piece of a contour line gets one label at its point farthest
+    from the frame; a piece with no point far enough from the frame for the label
+    is left unlabelled rather than clipped. A label within 10° of pointing down the
+    page (it would read upside down next to the latitude axis) is turned by 180°.
+
+    Returns
+    -------
+    list of matplotlib.text.Text
+        The labels.
+    """
+    fig = ax.figure
+    fig.draw_without_rendering()  # run the layout engine: axes reach their final place
+    fig.set_layout_engine("none")
+    frame = ax.get_window_extent()
+    to_screen = ax.transData.transform
+    half = 0.5 * fontsize * fig.dpi / 72.0
+    positions = []
+    for level, path in zip(lines.levels, lines.get_paths(), strict=False):
+        text = fmt(level) if callable(fmt) else (fmt % level if "%" in fmt else fmt)
+        reach = half * (0.65 * len(text) + 1.0) + _LABEL_MARGIN_PT * fig.dpi / 72.0
+        for piece in path.to_polygons(closed_only=False):
+            if len(piece) < 2:
+                continue
+            xy = to_screen(piece)
+            room = np.minimum.reduce([xy[:, 0] - frame.x0, frame.x1 - xy[:, 0],
+                                      xy[:, 1] - frame.y0, frame.y1 - xy[:, 1]])
+            best = int(np.argmax(room))
+            if room[best] >= reach:
+                positions.append(tuple(piece[best]))
+    if not positions:
+        return []
+    labels = ax.clabel(lines, fmt=fmt, fontsize=fontsize, inline=True,
+                       inline_spacing=inline_spacing, manual=positions)
+    for label in labels:
+        angle = (label.get_rotation() + 180.0) % 360.0 - 180.0  # (-180, 180]
+        if angle < _UPRIGHT_MIN_DEG:
+            label.set_rotation(angle + 180.0)
+    if boxed:
+        _boxed(labels)
+    return labels
+
+
 def _boxed(labels) -> None:
     """Put contour labels on a small white box so that their sign reads in any colour."""
     for text in labels:
@@ -175,8 +254,8 @@ def insolation_figure(field: MonthlyField):
     from matplotlib import colormaps
     from matplotlib.colors import BoundaryNorm
 
-    lat = field.latitude_deg
-    x, z = _months_cyclic(field.insolation_wm2)
+    lat, values = _to_the_poles(field.latitude_deg, field.insolation_wm2)
+    x, z = _months_cyclic(values)
     step = 25.0
     top = step * np.ceil(max(z.max(), step) / step)
     levels = np.arange(0.0, top + step / 2, step)
@@ -190,12 +269,12 @@ def insolation_figure(field: MonthlyField):
     line_levels = levels[4::4]
     lines = ax.contour(x, lat, z, levels=line_levels,
                        colors=_line_colours(cmap, norm, line_levels), linewidths=0.8)
-    ax.clabel(lines, fmt="%d", fontsize=8, inline=True, inline_spacing=3)
     bar = fig.colorbar(filled, ax=ax, ticks=levels[::4])
     bar.set_label(f"TOA insolation ({WM2}); contours every 100 {WM2}")
     _month_axis(ax, _month_words(field))
     _latitude_axis(ax, lat)
     _title(ax, f"Monthly-mean TOA insolation, {field.label}", field.conventions)
+    _label_contours(ax, lines, "%d")
     return fig
 
 
@@ -230,11 +309,14 @@ def anomaly_figure(field: MonthlyField, reference: MonthlyField):
                           f"latitudes differ ({reference.latitude_deg.size} vs {lat.size} "
                           "points); give sources on the same grid")
     diff = field.insolation_wm2 - reference.insolation_wm2
-    x, z = _months_cyclic(diff)
+    _, sunlit_values = _to_the_poles(lat, np.maximum(field.insolation_wm2,
+                                                     reference.insolation_wm2))
+    lat, diff_values = _to_the_poles(lat, diff)
+    x, z = _months_cyclic(diff_values)
     # Where both fields are in polar night the anomaly is exactly 0 over a flat patch, whose
     # ragged edge is no sign change: lines are not drawn there and the patch is hatched,
     # bounded by a contour of the larger of the two insolations (smooth, unlike a mask).
-    _, sunlit = _months_cyclic(np.maximum(field.insolation_wm2, reference.insolation_wm2))
+    _, sunlit = _months_cyclic(sunlit_values)
     dark = sunlit < _DARK_WM2
     z_lines = np.ma.masked_where(dark, z)
     biggest = float(np.max(np.abs(diff)))
@@ -247,14 +329,15 @@ def anomaly_figure(field: MonthlyField, reference: MonthlyField):
     ax = fig.add_subplot()
     filled = ax.contourf(x, lat, z, levels=levels, cmap=cmap, norm=norm)
     nonzero = levels[np.abs(levels) > step / 2][:: 1 if levels.size <= 15 else 2]
+    labelled = []
     if nonzero.size:
         lines = ax.contour(x, lat, z_lines, levels=nonzero, linewidths=0.7,
                            colors=_line_colours(cmap, norm, nonzero),
                            linestyles=["--" if v < 0 else "-" for v in nonzero])
-        _boxed(ax.clabel(lines, fmt=_signed, fontsize=8, inline=True, inline_spacing=2))
+        labelled.append((lines, _signed, 2))
     if z_lines.min() < 0 < z_lines.max():
         zero = ax.contour(x, lat, z_lines, levels=[0.0], colors="black", linewidths=2.2)
-        _boxed(ax.clabel(zero, fmt="0", fontsize=8, inline=True))
+        labelled.append((zero, "0", 5))
     if dark.any():
         ax.contourf(x, lat, sunlit, levels=[-1.0, _DARK_WM2], colors="none", hatches=["////"])
     bar = fig.colorbar(filled, ax=ax, ticks=levels[:: max(1, levels.size // 8)])
@@ -267,6 +350,8 @@ def anomaly_figure(field: MonthlyField, reference: MonthlyField):
            field.conventions, "" if same else f"reference: {reference.conventions}",
            "contours: solid positive, dashed negative, thick zero"
            + ("; hatched: polar night in both" if dark.any() else ""))
+    for lines, fmt, spacing in labelled:
+        _label_contours(ax, lines, fmt, boxed=True, inline_spacing=spacing)
     return fig
 
 
@@ -324,8 +409,28 @@ def month_lengths_figure(lengths: MonthLengths):
 
 
 # --- 4. orbit through time -----------------------------------------------------------------
-def orbit_figure(series: OrbitSeries, latitudes_deg: Sequence[float] | None = (65.0,)):
-    """Eccentricity, obliquity, precession index (and June-solstice insolation) through time.
+#: The solstices by the true longitude of the Sun (0 at the March equinox).
+_SOLSTICES = {90.0: "June solstice", 270.0: "December solstice"}
+
+
+def summer_solstice_true_longitude_deg(lat_deg: float) -> float:
+    """Return the true longitude of the local summer solstice: 90° (June) north, else 270°.
+
+    The Equator takes the June solstice, as the northern hemisphere does.
+    """
+    return 270.0 if lat_deg < 0 else 90.0
+
+
+def solstice_words(true_longitude_deg: float) -> str:
+    """``June solstice (λ = 90°)``, ``December solstice (λ = 270°)`` or ``λ = 120°``."""
+    lam = float(true_longitude_deg) % 360.0
+    name = _SOLSTICES.get(lam)
+    return f"{name} (λ = {lam:g}°)" if name else f"λ = {lam:g}°"
+
+
+def orbit_figure(series: OrbitSeries, latitudes_deg: Sequence[float] | None = (65.0,),
+                 true_longitude_deg: float | None = None):
+    """Eccentricity, obliquity, precession index (and summer-solstice insolation) through time.
 
     Stacked panels with a shared axis of age in ka BP (thousands of years before
     1950 CE), the past on the left and the present on the right.
@@ -336,8 +441,12 @@ def orbit_figure(series: OrbitSeries, latitudes_deg: Sequence[float] | None = (6
         From :func:`bcgen.plot.sources.orbit_series`.
     latitudes_deg : sequence of float or None
         Latitudes of a fourth panel: daily-mean insolation when the Sun is at
-        the June solstice (true longitude 90°), calendar-free (Berger 1978);
-        None or empty leaves the panel out.
+        a given true longitude, calendar-free (Berger 1978); None or empty
+        leaves the panel out.
+    true_longitude_deg : float, optional
+        The Sun's true longitude of that panel, degrees from the March equinox.
+        By default each latitude's own summer solstice: 90° (June) in the
+        north, 270° (December) in the south. The legend names it.
 
     Returns
     -------
@@ -367,26 +476,34 @@ def orbit_figure(series: OrbitSeries, latitudes_deg: Sequence[float] | None = (6
                      xycoords="axes fraction", fontsize=7, color="0.25")
     if lats:
         ax = axes[3]
-        q = insolation_at_true_longitude_wm2(orbit, np.asarray(lats, dtype=float), 90.0,
-                                             series.solar_constant_wm2)
+        lat_arr = np.asarray(lats, dtype=float)
+        if true_longitude_deg is None:
+            lam = np.array([summer_solstice_true_longitude_deg(v) for v in lats])
+        else:
+            lam = np.full(lat_arr.shape, float(true_longitude_deg))
+        q = insolation_at_true_longitude_wm2(orbit, lat_arr, lam, series.solar_constant_wm2)
         every = max(1, age.size // 25)
         for k, lat in enumerate(lats):
             style, marker = LINE_STYLES[k % len(LINE_STYLES)]
             ax.plot(age, q[:, k], linestyle=style, marker=marker if len(lats) > 1 else None,
                     markevery=every, markersize=4, color="black" if k else dark,
-                    linewidth=1.0, label=latitude_label(lat))
-        where = ", ".join(latitude_label(v) for v in lats)
-        ax.set_ylabel(f"insolation at {where},\nJune solstice ({WM2})", fontsize=9)
-        if len(lats) > 1:
-            ax.legend(fontsize=8, loc="upper left")
+                    linewidth=1.0, label=f"{latitude_label(lat)}, {solstice_words(lam[k])}")
+        ax.set_ylabel(f"daily-mean insolation\n({WM2})", fontsize=9)
+        ax.legend(fontsize=8, loc="upper left")
         ax.grid(color="0.88", linewidth=0.6)
     last = axes[-1]
     last.set_xlim(age.max(), age.min())  # the past on the left, the present on the right
     last.set_xlabel("age (ka BP: thousands of years before 1950 CE); past on the left, "
                     "present on the right")
     solution = _SOLUTION_NAMES.get(orbit.solution, orbit.solution)
-    extra = (f"; insolation: daily mean at true longitude 90°, S0 = "
-             f"{series.solar_constant_wm2:.10g} W m-2" if lats else "")
+    if not lats:
+        extra = ""
+    elif true_longitude_deg is None:
+        extra = (f"; insolation: daily mean at each hemisphere's summer solstice, S0 = "
+                 f"{series.solar_constant_wm2:.10g} {WM2}")
+    else:
+        extra = (f"; insolation: daily mean at {solstice_words(true_longitude_deg)}, S0 = "
+                 f"{series.solar_constant_wm2:.10g} {WM2}")
     _title(axes[0], f"Earth's orbit, {series.label}",
            f"orbit from {solution}; ϖ: heliocentric longitude of perihelion from the moving "
            f"March equinox{extra}")
