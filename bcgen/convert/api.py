@@ -21,7 +21,9 @@ How
   month makes every month of that point's year missing: the harmonic fit needs all
   twelve means.
 - The output's time axis repeats the input's calendar name as written (``365_day``
-  stays ``365_day``; only the deprecated ``gregorian`` becomes ``standard``).
+  stays ``365_day``; only the deprecated ``gregorian`` becomes ``standard``) and the
+  input's time units (``days since 0001-01-01`` stays so, in both directions), so raw
+  time numbers of input and output compare directly.
 - The work is lazy on dask-backed data: each variable goes through
   :meth:`dask.array.Array.map_blocks`, one task per spatial chunk with the whole time
   axis (time is made one chunk when needed; the time axis keeps its place, so blocks
@@ -71,6 +73,12 @@ Method = Literal["killworth1996", "epstein1991"]
 
 #: Prefix of the global attributes that record a conversion.
 ATTR_PREFIX = "month_conversion_"
+#: What a converted file says about its annual means (fixed-angle months differ in length).
+ANNUAL_MEAN_NOTE = (
+    "Fixed-angle months have unequal lengths: the annual mean is the mean of the months "
+    "weighted by their lengths in days (upper minus lower time bound), not the plain mean "
+    "of the monthly values."
+)
 
 
 class ConversionError(BcgenError, ValueError):
@@ -345,7 +353,8 @@ def _convert(ds, axis: TimeAxis, start, end, month, year, *, method, min_valid_f
     if dropped:
         warnings.warn(f"variables not converted and left out (not numeric means along "
                       f"'{dim}'): {', '.join(dropped)}", DroppedVariableWarning, stacklevel=3)
-    time_ds = _time_coordinate(axis, start, end, out_cyclic_years, ds[dim].attrs)
+    time_ds = _time_coordinate(axis, start, end, out_cyclic_years, ds[dim].attrs,
+                               ds[dim].encoding)
     data_vars = {k: v for k, v in out_vars.items() if k not in ds.coords}
     coords = {k: v for k, v in out_vars.items() if k in ds.coords}
     out = xr.Dataset(data_vars, coords=coords)
@@ -380,7 +389,26 @@ def _convert(ds, axis: TimeAxis, start, end, month, year, *, method, min_valid_f
     return out
 
 
-def _time_coordinate(axis: TimeAxis, start, end, cyclic_years, attrs) -> xr.Dataset:
+#: Time units kept from the input as written ("days since 0001-01-01 00:00:00" and the like).
+_KEPT_UNITS = re.compile(r"^\s*(days?|hours?|minutes?|seconds?)\s+since\s+\S", re.IGNORECASE)
+
+
+def output_time_units(axis: TimeAxis, encoding=None) -> str:
+    """Return the time units of a converted file: the input's, as written, when it has some.
+
+    A script that compares raw time numbers between the input and the output (or
+    between a file and its round trip) then sees the same origin: the months move,
+    the units do not. An input without units (an xarray object built in memory) or
+    with units that cannot hold fractional days gets ``days since <first year>-01-01``.
+    """
+    units = (encoding or {}).get("units")
+    if isinstance(units, str) and _KEPT_UNITS.match(units):
+        return units
+    return f"days since {axis.origin_year:04d}-01-01 00:00:00"
+
+
+def _time_coordinate(axis: TimeAxis, start, end, cyclic_years, attrs,
+                     encoding=None) -> xr.Dataset:
     dim = axis.dim
     tvar_attrs = {k: v for k, v in attrs.items()
                   if k not in ("bounds", "climatology", "units", "calendar")}
@@ -394,7 +422,7 @@ def _time_coordinate(axis: TimeAxis, start, end, cyclic_years, attrs) -> xr.Data
         y1, y2 = cyclic_years
         lower = start - axis.year_offset_days(axis.origin_year) + axis.year_offset_days(y1)
         upper = end - axis.year_offset_days(axis.origin_year) + axis.year_offset_days(y2)
-    units = f"days since {axis.origin_year:04d}-01-01 00:00:00"
+    units = output_time_units(axis, encoding)
     calendar = axis.calendar_name or cal.name  # as the input writes it (365_day stays 365_day)
     times = np.array([axis.date(t) for t in mid], dtype=object)
     bnds = np.array([[axis.date(a), axis.date(b)] for a, b in zip(lower, upper, strict=True)],
@@ -475,9 +503,13 @@ def to_fixed_angle_months(
              f"{ATTR_PREFIX}anchor": cal.anchor.describe()}
     attrs.update(_orbit_attrs("orbit_", orbit))
     attrs.update(_orbit_attrs("reference_orbit_", reference))
-    return _convert(ds, dataclasses.replace(axis, calendar=cal), start, end,
-                    month, year, method=method, min_valid_fraction=min_valid_fraction,
-                    attrs=attrs, out_cyclic_years=axis.climatology)
+    attrs[f"{ATTR_PREFIX}annual_mean"] = ANNUAL_MEAN_NOTE
+    out = _convert(ds, dataclasses.replace(axis, calendar=cal), start, end,
+                   month, year, method=method, min_valid_fraction=min_valid_fraction,
+                   attrs=attrs, out_cyclic_years=axis.climatology)
+    comment = ds.attrs.get("comment")
+    out.attrs["comment"] = f"{comment}\n{ANNUAL_MEAN_NOTE}" if comment else ANNUAL_MEAN_NOTE
+    return out
 
 
 def to_fixed_day_months(
@@ -515,6 +547,11 @@ def to_fixed_day_months(
     dropped_keys = {k for k in ds.attrs if k.startswith(ATTR_PREFIX)}
     clean = ds.copy()
     clean.attrs = {k: v for k, v in ds.attrs.items() if k not in dropped_keys}
+    comment = str(clean.attrs.get("comment", "")).replace(ANNUAL_MEAN_NOTE, "").strip("\n")
+    if comment:
+        clean.attrs["comment"] = comment
+    else:
+        clean.attrs.pop("comment", None)
     drop = [c for c in ("month", "model_year") if c in clean.coords]
     clean = clean.drop_vars(drop)
     return _convert(clean, axis, start, end, month, year, method=method,
