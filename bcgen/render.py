@@ -51,6 +51,8 @@ PLACEHOLDERS: dict[str, str] = {
     "year_length_days": "length of the model year in days",
     "bcgen_version": "bcgen version",
     "creation_date": "creation time, ISO 8601 UTC",
+    "output_file": "name of the file being written: the rendered template's own file, or for "
+    "a metadata template the NetCDF file it describes",
 }
 
 _PLACEHOLDER_RE = re.compile(r"\{\{\s*([A-Za-z_][A-Za-z0-9_.]*)\s*(?::([^}]*?))?\s*\}\}")
@@ -62,6 +64,18 @@ BUNDLED = {
     "summary_json": "summary.json.in",
     "cmip_attributes": "cmip_forcing_attributes.json.in",
 }
+
+
+def rendered_file_name(experiment: str, template_path) -> str:
+    """Return the name of the file a template is rendered into.
+
+    ``<experiment>_<template file name without .in>``: ``experiment_env.sh.in`` of
+    experiment ``lig127k-T63`` is written as ``lig127k-T63_experiment_env.sh``. This is
+    the one place that names rendered templates; a template names its own file with
+    ``{{ output_file }}``.
+    """
+    name = Path(template_path).name
+    return f"{experiment}_{name[:-3] if name.endswith('.in') else name}"
 
 
 def bundled_template_path(name: str) -> Path:

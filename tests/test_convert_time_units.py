@@ -85,3 +85,31 @@ def test_a_climatology_keeps_its_units(run_cli, tmp_path):
     assert status == 0, err
     units, calendar, _ = raw_time(out)
     assert calendar == "360_day" and same_units(units, "days since 0001-01-01", calendar)
+
+
+def test_the_converted_file_says_its_annual_mean_is_length_weighted(run_cli, tmp_path):
+    import xarray as xr
+
+    source = tmp_path / "in.nc"
+    write_monthly(source, "days since 0001-01-01", "noleap", years=1)
+    angle, back = tmp_path / "angle.nc", tmp_path / "back.nc"
+    assert run_cli(["convert", source, "-o", angle, "--epoch", "127ka"])[0] == 0
+    assert run_cli(["convert", angle, "-o", back, "--to", "fixed-day"])[0] == 0
+
+    def weighted_and_plain(path):
+        with xr.open_dataset(path, decode_times=False) as ds:
+            bounds = ds[ds.time.attrs.get("bounds") or ds.time.attrs["climatology"]].values
+            length = bounds[:, 1] - bounds[:, 0]
+            tas = ds["tas"].values.astype(float)
+            return (float(np.sum(tas * length) / np.sum(length)), float(tas.mean()),
+                    ds.attrs.get("comment", ""), length)
+
+    annual_in, _, _, _ = weighted_and_plain(source)
+    annual, plain, comment, length = weighted_and_plain(angle)
+    assert "weighted by their lengths" in comment and "not the plain mean" in comment
+    # 127 ka fixed-angle months run from about 27 to 35 days (README, 1850 CE arcs), and the
+    # length-weighted mean is the conserved one, the plain mean is not.
+    assert length.max() - length.min() > 5
+    assert annual == pytest.approx(annual_in, abs=1e-4)
+    assert abs(plain - annual) > 0.1
+    assert "weighted by their lengths" not in weighted_and_plain(back)[2]

@@ -59,7 +59,7 @@ def all_texts(fig) -> list[str]:
 
 @pytest.fixture(scope="module")
 def zonal_file(tmp_path_factory):
-    from bcgen.build import build
+    from bcgen.timeslice import build
     from bcgen.spec import parse_spec_text
 
     folder = tmp_path_factory.mktemp("reading")

@@ -68,6 +68,12 @@ def test_the_end_to_end_example_prints_the_published_orbit(tmp_path, monkeypatch
     for step in ("parse_epoch", "solve", "fixed_angle_months", "monthly_insolation",
                  "parse_spec_text", "build", "to_fixed_angle_months"):
         assert f"bcgen.{step}(" in block, step
+    # Annual means of fixed-angle months are weighted by month length (the months are
+    # unequal; common practice for means over unequal intervals), and the example shows it.
+    assert ".weighted(" in block
+    annual, plain = map(float, re.search(r"annual mean ([\d.]+) K, plain mean of the months "
+                                         r"([\d.]+) K", out).groups())
+    assert abs(annual - plain) > 0.05
 
 
 def test_every_public_name_is_in_the_api_reference():

@@ -21,7 +21,7 @@ from bcgen.cf import variable_attrs
 from bcgen.errors import SpecError
 from bcgen.insolation import daily_insolation, instantaneous_insolation, monthly_insolation
 from bcgen.orbit import SOLUTIONS
-from bcgen.render import bundled_template_path, render_file
+from bcgen.render import bundled_template_path, render_file, rendered_file_name
 from bcgen.solar_calendar.months import fixed_angle_months, fixed_day_months
 from bcgen.solar_calendar.position import SolarYear
 from bcgen.timeslice.context import BuildContext
@@ -281,9 +281,9 @@ def templates_product(ctx: BuildContext) -> list[Output]:
     outputs = []
     for ref in ctx.spec.templates:
         path = bundled_template_path(ref.name) if ref.name is not None else Path(ref.path)
-        name = path.name[:-3] if path.name.endswith(".in") else path.name
-        outputs.append(Output("templates", f"{ctx.spec.experiment.name}_{name}",
-                              f"rendered template {ref.label}", text=render_file(path, values)))
+        name = rendered_file_name(ctx.spec.experiment.name, path)
+        text = render_file(path, {**values, "output_file": name})
+        outputs.append(Output("templates", name, f"rendered template {ref.label}", text=text))
     return outputs
 
 
