@@ -33,27 +33,7 @@ from bcgen.orbit.elements import PERIHELION_CONVENTIONS
 
 TimeKind = Literal["mean", "point", "climatology"]
 
-#: Calendar names of CF 1.11 §4.4.1 that describe a model year with an annual cycle.
-#: ``gregorian`` is a deprecated alias of ``standard`` (CF 1.11 §4.4.1); ``none`` has no
-#: annual cycle and so cannot carry a repeating forcing year.
-CF_CALENDARS: tuple[str, ...] = (
-    "standard",
-    "proleptic_gregorian",
-    "julian",
-    "noleap",
-    "365_day",
-    "all_leap",
-    "366_day",
-    "360_day",
-)
-
-#: Deprecated calendar names and the name bcgen writes instead (CF 1.11 §4.4.1).
-CALENDAR_ALIASES: MappingProxyType = MappingProxyType({"gregorian": "standard"})
-
-#: Length of a year in days for the calendars with fixed-length years.
-FIXED_YEAR_DAYS: MappingProxyType = MappingProxyType(
-    {"noleap": 365, "365_day": 365, "all_leap": 366, "366_day": 366, "360_day": 360}
-)
+# Calendar names, aliases and year lengths: bcgen.solar_calendar.calendars (the one authority).
 
 #: Units of a time axis: days since 1 January 00:00 of a reference year (CF §4.4).
 TIME_UNITS_TEMPLATE = "days since {year:04d}-01-01 00:00:00"

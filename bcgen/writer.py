@@ -30,15 +30,14 @@ from datetime import datetime, timezone
 
 import numpy as np
 
-from bcgen.cf import (
-    BOUNDS_DIM,
-    CALENDAR_ALIASES,
-    CF_CALENDARS,
-    FIXED_YEAR_DAYS,
-    TIME_UNITS_TEMPLATE,
-    coordinate_attrs,
-)
+from bcgen.cf import BOUNDS_DIM, TIME_UNITS_TEMPLATE, coordinate_attrs
 from bcgen.errors import CalendarError
+from bcgen.solar_calendar.calendars import (
+    FIXED_YEAR_DAYS,
+    NO_YEAR_ZERO_CALENDARS,
+    cf_calendar_name,
+    year_length_days,
+)
 
 #: The CF version bcgen declares (the newest the compliance-checker can verify; see above).
 CONVENTIONS = "CF-1.11"
@@ -50,36 +49,7 @@ CYCLIC_COMMENT = (
 )
 
 
-# --- time axes -----------------------------------------------------------------------------
-def normalize_calendar(calendar: str) -> str:
-    """Return the CF calendar name bcgen writes for ``calendar``.
-
-    Raises
-    ------
-    CalendarError
-        For a name that is not a CF calendar with an annual cycle (CF 1.11 §4.4.1).
-    """
-    name = str(calendar).strip().lower()
-    name = CALENDAR_ALIASES.get(name, name)
-    if name not in CF_CALENDARS:
-        raise CalendarError(
-            f"unknown calendar {calendar!r}; expected one of {', '.join(CF_CALENDARS)}"
-        )
-    return name
-
-
-def year_length_days(calendar: str, year: int) -> int:
-    """Return the number of days in ``year`` of a CF calendar."""
-    cal = normalize_calendar(calendar)
-    if cal in FIXED_YEAR_DAYS:
-        return FIXED_YEAR_DAYS[cal]
-    import cftime
-
-    start = cftime.datetime(year, 1, 1, calendar=cal)
-    end = cftime.datetime(year + 1, 1, 1, calendar=cal)
-    return int((end - start).days)
-
-
+# --- time axes (calendar names and year lengths: bcgen.solar_calendar.calendars) ------------
 def climatology_time_axis(bounds_days, calendar: str, year: int = 1):
     """Build the climatological time axis of a repeating time-slice year (CF §7.4).
 
@@ -106,11 +76,11 @@ def climatology_time_axis(bounds_days, calendar: str, year: int = 1):
         Data variables on this axis take ``cell_methods`` from
         ``bcgen.cf.variable_attrs(..., time_kind="climatology")``.
     """
-    cal = normalize_calendar(calendar)
+    cal = cf_calendar_name(calendar)
     bounds = _bounds_array(bounds_days)
     wrapped = bounds[:, 1] < bounds[:, 0]
     if wrapped[0]:
-        if cal in ("standard", "julian") and year == 1:
+        if cal in NO_YEAR_ZERO_CALENDARS and year == 1:
             raise CalendarError(_NO_YEAR_ZERO.format(cal=cal))
         bounds[0, 0] -= year_length_days(cal, year - 1)
     if np.any(wrapped[1:]):
@@ -140,7 +110,7 @@ def time_axis(bounds_days, calendar: str, reference_year: int = 1, *, values_day
         Coordinate ``time`` with ``bounds = "time_bnds"`` and data variable
         ``time_bnds`` (time, bnds); without bounds, ``time`` only.
     """
-    cal = normalize_calendar(calendar)
+    cal = cf_calendar_name(calendar)
     bounds = None if bounds_days is None else _bounds_array(bounds_days)
     if bounds is not None and np.any(bounds[:, 1] <= bounds[:, 0]):
         i = int(np.argmax(bounds[:, 1] <= bounds[:, 0]))
@@ -186,12 +156,12 @@ def _axis_dataset(bounds, cal, year, link, bounds_name, values_days=None):
     if bounds is not None and np.any((values < bounds[:, 0]) | (values > bounds[:, 1])):
         raise CalendarError("each time value must lie within its bounds")
     lowest = values.min() if bounds is None else bounds.min()
-    if cal in ("standard", "julian") and year == 1 and lowest < 0:
+    if cal in NO_YEAR_ZERO_CALENDARS and year == 1 and lowest < 0:
         raise CalendarError(_NO_YEAR_ZERO.format(cal=cal))
     attrs = coordinate_attrs("time")
     attrs["units"] = TIME_UNITS_TEMPLATE.format(year=int(year))
     attrs["calendar"] = cal
-    if cal in ("standard", "proleptic_gregorian", "julian"):
+    if cal not in FIXED_YEAR_DAYS:  # standard, proleptic_gregorian, julian
         # A model calendar has no leap seconds (CF 1.11 §4.4: units_metadata recommended
         # for these calendars).
         attrs["units_metadata"] = "leap_seconds: none"

@@ -1,5 +1,6 @@
 """Model calendars and the anchor of the orbit (bcgen.solar_calendar.calendars)."""
 
+import re
 import warnings
 
 import numpy as np
@@ -54,6 +55,28 @@ def test_gregorian_is_deprecated_alias_of_standard():
     with pytest.warns(DeprecatedCalendarNameWarning, match="'gregorian' is deprecated"):
         assert ModelCalendar("gregorian").name == "standard"
     assert issubclass(DeprecatedCalendarNameWarning, BcgenWarning)
+
+
+def test_gregorian_is_read_alike_by_spec_command_line_and_writer(capsys):
+    # CF 1.13 §4.4.3: "A deprecated alternative name for this calendar is gregorian". One
+    # behaviour everywhere: read as standard, with the same DeprecatedCalendarNameWarning.
+    from bcgen.cli import main
+    from bcgen.spec import parse_spec_text
+    from bcgen.writer import climatology_time_axis
+
+    text = "experiment: {name: g}\nepoch: 6ka\ncalendar:\n  name: gregorian\nproducts: [orbit]\n"
+    message = r"calendar name 'gregorian' is deprecated in CF 1.13; read as 'standard'"
+    with pytest.warns(DeprecatedCalendarNameWarning, match=r"^g\.yaml:4:9: calendar\.name: "
+                      + message):
+        assert parse_spec_text(text, "g.yaml").calendar.name == "standard"
+    with pytest.warns(DeprecatedCalendarNameWarning, match=message):
+        axis = climatology_time_axis([[0, 31]], "gregorian", year=2)
+    assert axis.time.attrs["calendar"] == "standard"
+    assert main(["months", "6ka", "--calendar", "gregorian", "--format", "json"]) == 0
+    out, err = capsys.readouterr()
+    assert re.search("^bcgen: warning: --calendar: " + message, err)
+    assert main(["months", "6ka", "--calendar", "standard", "--format", "json"]) == 0
+    assert capsys.readouterr() == (out, "")  # the same months as for 'standard'
 
 
 def test_unknown_calendar_lists_valid_names():

@@ -34,7 +34,11 @@ from bcgen.epochs import epoch_labels, parse_epoch, parse_epochs
 from bcgen.errors import BcgenError, EpochError, InputFileError
 from bcgen.insolation import CMIP6_PICONTROL_SOLAR_CONSTANT_WM2, monthly_insolation
 from bcgen.orbit import OrbitalElements, solve
-from bcgen.solar_calendar.calendars import ModelCalendar, canonical_calendar, parse_anchor
+from bcgen.solar_calendar.calendars import (
+    ModelCalendar,
+    anchor_from_words,
+    canonical_calendar,
+)
 
 SourceKind = Literal["epoch", "range", "spec", "file"]
 Months = Literal["fixed_day", "fixed_angle"]
@@ -333,7 +337,6 @@ def compute_field(
 
 
 # --- built files -------------------------------------------------------------------------
-_ANCHOR_RE = re.compile(r"(March equinox|perihelion) at (\d\d-\d\d \d\d:\d\d)")
 _UNITS_RE = re.compile(r"^\s*(days?|hours?|minutes?|seconds?)\s+since\s", re.IGNORECASE)
 _LAT_UNITS = ("degrees_north", "degree_north", "degree_N", "degrees_N", "degreeN", "degreesN")
 _UNIT_DAYS = {"day": 1.0, "hour": 1 / 24, "minute": 1 / 1440, "second": 1 / 86400}
@@ -466,10 +469,9 @@ def _settings_from_file(ds, path: Path) -> Settings:
     time = ds["time"] if "time" in ds.variables else None
     name = str(time.attrs.get("calendar", "standard")) if time is not None else "noleap"
     calendar = ModelCalendar(canonical_calendar(name, source=f"{path}: time calendar"))
-    match = _ANCHOR_RE.search(str(ds.attrs.get("calendar_anchor", "")))
-    if match:
-        kind = "march_equinox" if match[1] == "March equinox" else "perihelion"
-        calendar = ModelCalendar(calendar.name, parse_anchor(match[2], kind))
+    anchor = anchor_from_words(str(ds.attrs.get("calendar_anchor", "")))
+    if anchor is not None:
+        calendar = ModelCalendar(calendar.name, anchor)
     return Settings(calendar=calendar, assumed=True)
 
 

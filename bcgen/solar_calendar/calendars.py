@@ -1,11 +1,20 @@
 """Model calendars (CF calendars through cftime) and the anchoring of the orbit in them.
 
+This module is bcgen's one authority on calendars: their names and aliases
+(:data:`CALENDAR_NAMES`, :func:`canonical_calendar`), year lengths
+(:func:`year_length_days`), the anchor grammar (:func:`split_anchor_text`,
+:func:`parse_anchor`) and the anchor in words (:meth:`ModelCalendar.anchor_in_words`,
+:func:`anchor_from_words`). The spec, the command line, the writer and the readers
+take these facts from here.
+
 Calendars
     Every calendar of the CF Conventions (CF 1.13 §4.4.3, Table 4.1) that has
     an annual cycle: ``noleap`` (alias ``365_day``), ``all_leap`` (``366_day``),
     ``360_day``, ``proleptic_gregorian``, ``standard`` (mixed Julian/Gregorian)
     and ``julian``. The deprecated CF name ``gregorian`` is accepted as
-    ``standard`` with a :class:`DeprecatedCalendarNameWarning`. Dates are turned
+    ``standard`` with a :class:`DeprecatedCalendarNameWarning`, wherever it is
+    written (spec, command line, a file read or written). ``none``, ``utc`` and
+    ``tai`` are refused: they cannot hold a repeating model year. Dates are turned
     into day numbers by cftime; year 0 exists in every calendar except
     ``julian`` and ``standard`` (CF 1.13 §4.4.3).
 
@@ -72,6 +81,40 @@ CALENDARS: dict[str, str] = {
 #: gregorian"), accepted with a warning.
 DEPRECATED_CALENDAR_NAMES: dict[str, str] = {"gregorian": "standard"}
 
+#: The calendar names a user may write, in the order messages list them (deprecated ones aside).
+CALENDAR_NAMES: tuple[str, ...] = (
+    "noleap",
+    "365_day",
+    "360_day",
+    "all_leap",
+    "366_day",
+    "proleptic_gregorian",
+    "standard",
+    "julian",
+)
+
+#: CF calendar names that cannot hold a repeating model year, with the reason given to the user.
+REFUSED_CALENDARS: dict[str, str] = {
+    "none": "the CF calendar 'none' has no annual cycle",
+    "utc": "the CF calendar 'utc' counts leap seconds of real dates, not model years",
+    "tai": "the CF calendar 'tai' counts real atomic time, not model years",
+}
+
+#: Length of every year, days, of the calendars whose years all have one length (CF 1.13 §4.4.3).
+FIXED_YEAR_DAYS: dict[str, int] = {
+    "noleap": 365,
+    "365_day": 365,
+    "all_leap": 366,
+    "366_day": 366,
+    "360_day": 360,
+}
+
+#: Calendars without a year 0 (CF 1.13 §4.4.3: 1 BCE is year -1 in them).
+NO_YEAR_ZERO_CALENDARS: tuple[str, ...] = ("standard", "julian")
+
+#: How an anchor is written: month and day, then the time of day (optional on the command line).
+ANCHOR_FORMAT = "'MM-DD HH:MM'"
+
 #: What each canonical calendar is (documented in the README; CF 1.13 §4.4.3).
 CALENDAR_DESCRIPTIONS: dict[str, str] = {
     "noleap": "365 days every year (alias 365_day)",
@@ -92,7 +135,7 @@ ANCHOR_KINDS: dict[str, str] = {
 #: inside the years cftime can count (it fails with an OverflowError beyond 2**31 - 1).
 MAX_MODEL_YEAR = 1_000_000
 
-_NO_YEAR_ZERO = ("standard", "julian")
+_NO_YEAR_ZERO = NO_YEAR_ZERO_CALENDARS
 _MONTH_NAMES = (
     "January",
     "February",
@@ -116,28 +159,102 @@ def canonical_calendar(name: str, source: str = "calendar") -> str:
     Parameters
     ----------
     name : str
-        A name from :data:`CALENDARS` (case is ignored).
+        A name from :data:`CALENDARS` (case is ignored); the deprecated ``gregorian``
+        is read as ``standard`` with a :class:`DeprecatedCalendarNameWarning`.
     source : str
         What to name in messages (an option or a spec key), e.g. ``"--calendar"``.
 
     Raises
     ------
     CalendarError
-        For an unknown name; the message lists the accepted names.
+        For an unknown or refused name; the message lists the accepted names.
+
+    Examples
+    --------
+    >>> canonical_calendar("365_day")
+    'noleap'
     """
     key = str(name).strip().lower()
     if key not in CALENDARS:
         raise CalendarError(
-            f"{source}: unknown calendar {name!r}; expected one of {', '.join(CALENDARS)}"
+            f"{source}: unknown calendar {name!r}; expected one of {', '.join(CALENDAR_NAMES)}"
         )
     if key in DEPRECATED_CALENDAR_NAMES:
         warnings.warn(
-            f"{source}: calendar name {key!r} is deprecated in CF 1.13; read as "
-            f"{DEPRECATED_CALENDAR_NAMES[key]!r}",
-            DeprecatedCalendarNameWarning,
-            stacklevel=3,
+            deprecated_calendar_message(key, source), DeprecatedCalendarNameWarning, stacklevel=3
         )
     return CALENDARS[key]
+
+
+def cf_calendar_name(calendar: str, source: str = "calendar") -> str:
+    """Return the CF calendar name to write for ``calendar``.
+
+    The name as given (``365_day`` stays ``365_day``, case aside), except the deprecated
+    ``gregorian``, which is written ``standard`` (with a :class:`DeprecatedCalendarNameWarning`,
+    as everywhere).
+
+    Raises
+    ------
+    CalendarError
+        For a name that is not a CF calendar with an annual cycle (CF 1.13 §4.4.3).
+
+    Examples
+    --------
+    >>> cf_calendar_name("365_day")
+    '365_day'
+    """
+    key = str(calendar).strip().lower()
+    if key in DEPRECATED_CALENDAR_NAMES:
+        return canonical_calendar(key, source)
+    if key not in CALENDARS:
+        canonical_calendar(key, source)  # raises, listing the names
+    return key
+
+
+def deprecated_calendar_message(name: str, source: str = "calendar") -> str:
+    """Return the warning given when a deprecated calendar name is read (one wording)."""
+    key = str(name).strip().lower()
+    return (f"{source}: calendar name {key!r} is deprecated in CF 1.13; read as "
+            f"{DEPRECATED_CALENDAR_NAMES[key]!r}")
+
+
+def date_exists(calendar: str, year: int, month: int, day: int) -> bool:
+    """Tell whether a date exists in a calendar year (30 February exists in ``360_day`` only).
+
+    Examples
+    --------
+    >>> date_exists("noleap", 1, 2, 29), date_exists("360_day", 1, 2, 30)
+    (False, True)
+    """
+    try:
+        cftime.datetime(year, month, day, calendar=CALENDARS.get(calendar, calendar))
+    except ValueError:
+        return False
+    return True
+
+
+def year_length_days(calendar: str, year: int) -> int:
+    """Return the number of days in calendar year ``year`` (whole days, through cftime).
+
+    Parameters
+    ----------
+    calendar : str
+        A CF calendar name or alias (:data:`CALENDARS`).
+    year : int
+        The calendar year (no year 0 in ``standard`` and ``julian``).
+
+    Examples
+    --------
+    >>> year_length_days("proleptic_gregorian", 1600), year_length_days("julian", 1700)
+    (366, 366)
+    >>> year_length_days("360_day", 7)
+    360
+    """
+    key = str(calendar).strip().lower()
+    name = CALENDARS.get(key, key)
+    if name in FIXED_YEAR_DAYS:
+        return FIXED_YEAR_DAYS[name]
+    return int(round(ModelCalendar(canonical_calendar(name)).year_length_days(int(year))))
 
 
 @dataclass(frozen=True)
@@ -195,6 +312,28 @@ class Anchor:
 _ANCHOR_RE = re.compile(r"^\s*(\d{1,2})-(\d{1,2})(?:(?:\s+|T)(\d{1,2}):(\d{2}))?\s*$")
 
 
+def split_anchor_text(text: str, require_time: bool = False) -> tuple[int, int, int, int] | None:
+    """Read the anchor grammar: ``"MM-DD HH:MM"`` (or ``"MM-DD"``, 00:00, unless ``require_time``).
+
+    Returns ``(month, day, hour, minute)``, not yet checked for range, or None when the
+    text does not follow the grammar. A spec requires the time of day; the command line
+    does not.
+
+    Examples
+    --------
+    >>> split_anchor_text("03-21 12:00"), split_anchor_text("01-03")
+    ((3, 21, 12, 0), (1, 3, 0, 0))
+    >>> split_anchor_text("01-03", require_time=True) is None
+    True
+    """
+    match = _ANCHOR_RE.match(str(text))
+    if not match or (require_time and match[3] is None):
+        return None
+    hour = int(match[3]) if match[3] is not None else 0
+    minute = int(match[4]) if match[4] is not None else 0
+    return int(match[1]), int(match[2]), hour, minute
+
+
 def parse_anchor(text: str, kind: AnchorKind = "march_equinox", source: str = "anchor") -> Anchor:
     """Read an anchor written ``"MM-DD HH:MM"`` or ``"MM-DD"`` (00:00).
 
@@ -212,14 +351,13 @@ def parse_anchor(text: str, kind: AnchorKind = "march_equinox", source: str = "a
     CalendarError
         If the text is not of that form or a field is out of range.
     """
-    match = _ANCHOR_RE.match(str(text))
-    if not match:
+    fields = split_anchor_text(text)
+    if fields is None:
         raise CalendarError(
-            f"{source}: cannot read {text!r}; expected 'MM-DD HH:MM' or 'MM-DD', e.g. '03-21 12:00'"
+            f"{source}: cannot read {text!r}; expected {ANCHOR_FORMAT} or 'MM-DD', "
+            "e.g. '03-21 12:00'"
         )
-    month, day = int(match[1]), int(match[2])
-    hour = int(match[3]) if match[3] is not None else 0
-    minute = int(match[4]) if match[4] is not None else 0
+    month, day, hour, minute = fields
     try:
         return Anchor(kind, month, day, hour, minute)
     except CalendarError as exc:
@@ -384,18 +522,58 @@ class ModelCalendar:
         """One line for headers and metadata."""
         return f"calendar {self.name}, orbit anchored by the {self.anchor.describe()}"
 
+    def anchor_in_words(self) -> str:
+        """Put the anchor in words, as files and manifests state it (see :func:`anchor_from_words`).
+
+        Examples
+        --------
+        >>> ModelCalendar("noleap").anchor_in_words()
+        'March equinox at 03-21 12:00 of the noleap model calendar, every model year'
+        """
+        what = "March equinox" if self.anchor.kind == "march_equinox" else "perihelion"
+        return f"{what} at {self.anchor.label} of the {self.name} model calendar, every model year"
+
+
+_ANCHOR_WORDS_RE = re.compile(r"(March equinox|perihelion) at (\d\d-\d\d \d\d:\d\d)")
+
+
+def anchor_from_words(text: str) -> Anchor | None:
+    """Read the anchor back from :meth:`ModelCalendar.anchor_in_words` (None if absent).
+
+    Examples
+    --------
+    >>> anchor_from_words("perihelion at 01-03 00:00 of the noleap model calendar")
+    Anchor(kind='perihelion', month=1, day=3, hour=0, minute=0)
+    """
+    match = _ANCHOR_WORDS_RE.search(str(text))
+    if not match:
+        return None
+    kind = "march_equinox" if match[1] == "March equinox" else "perihelion"
+    return parse_anchor(match[2], kind)
+
 
 __all__ = [
+    "ANCHOR_FORMAT",
     "ANCHOR_KINDS",
     "CALENDARS",
     "CALENDAR_DESCRIPTIONS",
+    "CALENDAR_NAMES",
     "DEPRECATED_CALENDAR_NAMES",
+    "FIXED_YEAR_DAYS",
     "MAX_MODEL_YEAR",
+    "NO_YEAR_ZERO_CALENDARS",
+    "REFUSED_CALENDARS",
     "Anchor",
     "AnchorKind",
     "CalendarName",
     "DeprecatedCalendarNameWarning",
     "ModelCalendar",
+    "anchor_from_words",
     "canonical_calendar",
+    "cf_calendar_name",
+    "date_exists",
+    "deprecated_calendar_message",
     "parse_anchor",
+    "split_anchor_text",
+    "year_length_days",
 ]

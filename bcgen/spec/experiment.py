@@ -28,6 +28,7 @@ import numpy as np
 from bcgen.epochs import format_epoch, parse_epoch
 from bcgen.errors import BcgenError, ImplausibleValueWarning
 from bcgen.orbit import OrbitalElements
+from bcgen.solar_calendar.calendars import NO_YEAR_ZERO_CALENDARS
 from bcgen.spec import schema as S
 from bcgen.spec.common import FieldError, check_choice, check_epoch, check_number
 from bcgen.spec.grid import GridSpec
@@ -55,10 +56,6 @@ def _warn_if_implausible(key: str, value: float, unit: str, name: str | None = N
             ImplausibleValueWarning,
             stacklevel=3,
         )
-
-
-#: CF calendars without a year 0 (CF 1.11 §4.4.1).
-NO_YEAR_ZERO_CALENDARS = ("standard", "julian")
 
 
 @dataclass(frozen=True)

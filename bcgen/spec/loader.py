@@ -10,13 +10,19 @@ wrong; what is expected``.
 from __future__ import annotations
 
 import re
+import warnings
 from collections.abc import Mapping
 from pathlib import Path
 
 import yaml
 
 from bcgen.epochs import parse_epoch
-from bcgen.errors import BcgenError, SpecError
+from bcgen.errors import BcgenError, DeprecatedCalendarNameWarning, SpecError
+from bcgen.solar_calendar.calendars import (
+    DEPRECATED_CALENDAR_NAMES,
+    REFUSED_CALENDARS,
+    deprecated_calendar_message,
+)
 from bcgen.spec import schema as S
 from bcgen.spec.common import FieldError, closest
 from bcgen.spec.experiment import ExperimentSpec
@@ -225,9 +231,14 @@ class _Reader:
         return self._unknown_choice(node, scalar.text, key, path)
 
     def _unknown_choice(self, node, text, key, path):
-        if key.noun == "calendar" and text in S.REFUSED_CALENDARS:
+        if key.noun == "calendar" and text in DEPRECATED_CALENDAR_NAMES:
+            where = str(self.fail(node, path, "")).rstrip(": ")
+            message = deprecated_calendar_message(text, where)
+            warnings.warn(message, DeprecatedCalendarNameWarning, stacklevel=2)
+            return DEPRECATED_CALENDAR_NAMES[text]
+        if key.noun == "calendar" and text in REFUSED_CALENDARS:
             raise self.fail(
-                node, path, f"{S.REFUSED_CALENDARS[text]}; expected one of {', '.join(key.choices)}"
+                node, path, f"{REFUSED_CALENDARS[text]}; expected one of {', '.join(key.choices)}"
             )
         raise self.fail(
             node, path, f"unknown {key.noun} {text!r}; " + closest(text, key.choices, key.noun)

@@ -10,15 +10,25 @@ from __future__ import annotations
 
 import math
 import re
+import warnings
 from dataclasses import dataclass
 from pathlib import Path
 
-import cftime
-
 from bcgen.epochs import parse_epoch
-from bcgen.errors import BcgenError
+from bcgen.errors import BcgenError, DeprecatedCalendarNameWarning
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS, OrbitalElements
 from bcgen.orbit import solve as solve_orbit
+from bcgen.solar_calendar.calendars import (
+    ANCHOR_FORMAT,
+    DEPRECATED_CALENDAR_NAMES,
+    REFUSED_CALENDARS,
+    Anchor,
+    ModelCalendar,
+    date_exists,
+    deprecated_calendar_message,
+    split_anchor_text,
+    year_length_days,
+)
 from bcgen.spec import schema as S
 from bcgen.spec.common import FieldError, check_choice, check_epoch, check_number, existing_file
 
@@ -291,9 +301,6 @@ class GasSpec:
         return S.GASES[self.name]
 
 
-_DATE_RE = re.compile(r"^(\d\d)-(\d\d) (\d\d):(\d\d)$")
-
-
 @dataclass(frozen=True)
 class CalendarSpec:
     """``calendar:`` the CF calendar and the date at which the anchor event happens.
@@ -308,10 +315,14 @@ class CalendarSpec:
     model_year: int | None = None
 
     def __post_init__(self) -> None:
-        if self.name in S.REFUSED_CALENDARS:
+        if self.name in DEPRECATED_CALENDAR_NAMES:  # the loader warns first, with file and line
+            warnings.warn(deprecated_calendar_message(self.name, "calendar.name"),
+                          DeprecatedCalendarNameWarning, stacklevel=3)
+            object.__setattr__(self, "name", DEPRECATED_CALENDAR_NAMES[self.name])
+        if self.name in REFUSED_CALENDARS:
             raise FieldError(
                 "calendar.name",
-                f"{S.REFUSED_CALENDARS[self.name]}; expected one of {', '.join(S.CALENDARS)}",
+                f"{REFUSED_CALENDARS[self.name]}; expected one of {', '.join(S.CALENDARS)}",
             )
         check_choice("calendar.name", self.name, S.CALENDARS, "calendar")
         check_choice("calendar.anchor", self.anchor, S.ANCHORS, "anchor")
@@ -321,17 +332,19 @@ class CalendarSpec:
                     "calendar.date",
                     "required with anchor 'perihelion': the "
                     "model date and time of the perihelion passage, as "
-                    "'MM-DD HH:MM' (e.g. '01-03 00:00')",
+                    f"{ANCHOR_FORMAT} (e.g. '01-03 00:00')",
                 )
             object.__setattr__(self, "date", S.DEFAULT_ANCHOR_DATE)
-        match = _DATE_RE.match(self.date) if isinstance(self.date, str) else None
-        if not match:
+        fields = (
+            split_anchor_text(self.date, require_time=True) if isinstance(self.date, str) else None
+        )
+        if fields is None:
             raise FieldError(
                 "calendar.date",
                 f"{self.date!r} is not a date and time; expected "
-                "'MM-DD HH:MM' such as '03-21 12:00' (quoted)",
+                f"{ANCHOR_FORMAT} such as '03-21 12:00' (quoted)",
             )
-        month, day, hour, minute = (int(g) for g in match.groups())
+        month, day, hour, minute = fields
         if not (0 <= hour <= 23 and 0 <= minute <= 59):
             raise FieldError(
                 "calendar.date",
@@ -342,9 +355,9 @@ class CalendarSpec:
                 "calendar.date", f"{self.date!r} has no month {month}; expected 01 to 12"
             )
         # Year 1 is a common year and year 4 a leap year in every calendar that has leap years.
-        exists = [_valid(year, month, day, self.name) for year in (1, 4)]
+        exists = [date_exists(self.name, year, month, day) for year in (1, 4)]
         if not any(exists):
-            longest = max(d for d in range(28, 32) if _valid(4, month, d, self.name))
+            longest = max(d for d in range(28, 32) if date_exists(self.name, 4, month, d))
             raise FieldError(
                 "calendar.date",
                 f"{self.date[:5]} does not exist in the "
@@ -371,47 +384,37 @@ class CalendarSpec:
     @property
     def month(self) -> int:
         """Month of the anchor date (1-12)."""
-        return int(self.date[0:2])
+        return split_anchor_text(self.date)[0]
 
     @property
     def day(self) -> int:
         """Day of month of the anchor date."""
-        return int(self.date[3:5])
+        return split_anchor_text(self.date)[1]
 
     @property
     def hour(self) -> int:
         """Hour of the anchor date."""
-        return int(self.date[6:8])
+        return split_anchor_text(self.date)[2]
 
     @property
     def minute(self) -> int:
         """Minute of the anchor date."""
-        return int(self.date[9:11])
+        return split_anchor_text(self.date)[3]
+
+    def model_calendar(self) -> ModelCalendar:
+        """Return the calendar with its anchor (a ``ModelCalendar``)."""
+        return ModelCalendar(self.name, Anchor(self.anchor, *split_anchor_text(self.date)))
 
     def days_in_year(self, year: int) -> int:
         """Length of a model year of this calendar, days."""
-        start = cftime.datetime(year, 1, 1, calendar=self.name)
-        end = cftime.datetime(year + 1, 1, 1, calendar=self.name)
-        return int(round((end - start).total_seconds() / 86400.0))
+        return year_length_days(self.name, year)
 
     def anchor_day(self, year: int) -> float:
         """Return the anchor's time in fractional days after 1 January 00:00 of ``year``.
 
         For the default (21 March 12:00 in a 365-day year) this is 79.5.
         """
-        start = cftime.datetime(year, 1, 1, calendar=self.name)
-        when = cftime.datetime(
-            year, self.month, self.day, self.hour, self.minute, calendar=self.name
-        )
-        return (when - start).total_seconds() / 86400.0
-
-
-def _valid(year: int, month: int, day: int, calendar: str) -> bool:
-    try:
-        cftime.datetime(year, month, day, calendar=calendar)
-    except ValueError:
-        return False
-    return True
+        return self.model_calendar().anchor_day(year)
 
 
 @dataclass(frozen=True)

@@ -42,7 +42,7 @@ from types import MappingProxyType
 from typing import Literal
 
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS
-from bcgen.solar_calendar.calendars import MAX_MODEL_YEAR
+from bcgen.solar_calendar.calendars import ANCHOR_KINDS, CALENDAR_NAMES, MAX_MODEL_YEAR
 
 KeyType = Literal[
     "string",
@@ -62,26 +62,10 @@ KeyType = Literal[
 # Closed vocabularies
 # ---------------------------------------------------------------------------------------------
 
-#: CF calendar names usable for a model year with an annual cycle (CF 1.13 §4.4.3).
-CALENDARS = (
-    "noleap",
-    "365_day",
-    "360_day",
-    "all_leap",
-    "366_day",
-    "proleptic_gregorian",
-    "standard",
-    "julian",
-)
-#: CF calendar names that cannot hold a repeating year, with the reason given to the user.
-REFUSED_CALENDARS = {
-    "gregorian": "'gregorian' is the deprecated CF name of 'standard'",
-    "none": "the CF calendar 'none' has no annual cycle",
-    "utc": "the CF calendar 'utc' counts leap seconds of real dates, not model years",
-    "tai": "the CF calendar 'tai' counts real atomic time, not model years",
-}
+#: CF calendar names usable for a model year with an annual cycle (the calendar authority's).
+CALENDARS = CALENDAR_NAMES
 #: What the calendar date anchors: the March equinox or the perihelion passage.
-ANCHORS = ("march_equinox", "perihelion")
+ANCHORS = tuple(ANCHOR_KINDS)
 #: How the daily mean of a calendar day is formed.
 DAILY_METHODS = ("midday", "day_average")
 #: Grid kinds.

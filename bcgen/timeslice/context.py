@@ -13,7 +13,7 @@ from bcgen import __version__
 from bcgen.grids import Grid, gaussian_grid, grid_from_file, regular_grid, zonal_grid
 from bcgen.insolation import annual_mean_insolation_wm2
 from bcgen.orbit import SOLUTIONS, OrbitalElements
-from bcgen.solar_calendar.calendars import Anchor, ModelCalendar
+from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.spec import ExperimentSpec
 from bcgen.writer import provenance_attrs
 
@@ -23,8 +23,7 @@ _GLOBAL_MEAN_NODES = 48
 
 def model_calendar(spec: ExperimentSpec) -> ModelCalendar:
     """Return the spec's calendar with its anchor as a :class:`ModelCalendar`."""
-    cal = spec.calendar
-    return ModelCalendar(cal.name, Anchor(cal.anchor, cal.month, cal.day, cal.hour, cal.minute))
+    return spec.calendar.model_calendar()
 
 
 def make_grid(spec: ExperimentSpec) -> Grid | None:
@@ -183,7 +182,4 @@ class BuildContext:
     @property
     def anchor_text(self) -> str:
         """The calendar anchor in words."""
-        a = self.calendar.anchor
-        what = "March equinox" if a.kind == "march_equinox" else "perihelion"
-        return (f"{what} at {a.month:02d}-{a.day:02d} {a.hour:02d}:{a.minute:02d} of the "
-                f"{self.calendar.name} model calendar, every model year")
+        return self.calendar.anchor_in_words()

@@ -27,7 +27,7 @@ import cftime
 import numpy as np
 
 from bcgen import __version__
-from bcgen.cf import FIXED_YEAR_DAYS, variable_attrs
+from bcgen.cf import variable_attrs
 from bcgen.errors import InputFileError
 from bcgen.grids import Grid
 from bcgen.insolation import daily_insolation, monthly_insolation
@@ -35,7 +35,7 @@ from bcgen.insolation.daily import DAILY_METHODS, DAY_AVERAGE_NODES
 from bcgen.insolation.monthly import MONTHLY_AVERAGING
 from bcgen.io import SeriesFile
 from bcgen.orbit import SOLUTIONS, OrbitalElements
-from bcgen.solar_calendar.calendars import ModelCalendar
+from bcgen.solar_calendar.calendars import FIXED_YEAR_DAYS, ModelCalendar
 from bcgen.spec import ExperimentSpec
 from bcgen.transient.gases import INTERPOLATION_METHODS, GasTable, load_gas_table, output_units
 from bcgen.writer import provenance_attrs
@@ -145,12 +145,7 @@ class RunContext:
     @property
     def anchor_text(self) -> str:
         """The calendar anchor in words."""
-        a = self.calendar.anchor
-        what = "March equinox" if a.kind == "march_equinox" else "perihelion"
-        return (
-            f"{what} at {a.month:02d}-{a.day:02d} {a.hour:02d}:{a.minute:02d} of the "
-            f"{self.calendar.name} model calendar, every model year"
-        )
+        return self.calendar.anchor_in_words()
 
     # --- years and epochs --------------------------------------------------------------------
     def epochs(self, years: np.ndarray) -> np.ndarray:
