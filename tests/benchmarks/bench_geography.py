@@ -44,15 +44,22 @@ def peak_rss_mib() -> float:
 
 
 def chain() -> dict:
-    import numpy as np
-
-    from bcgen.geography import (GeographyInputs, LatLonField, MaskSettings, StraitRule,
-                                 change_report, make_geography, read_field, report_text)
-    from bcgen.grids import regular_grid
-
     import cf_units  # noqa: F401  (imports are not part of the timing)
+    import numpy as np
     import scipy.ndimage  # noqa: F401
     import xarray  # noqa: F401
+
+    from bcgen.geography import (
+        GeographyInputs,
+        LatLonField,
+        MaskSettings,
+        StraitRule,
+        change_report,
+        make_geography,
+        read_field,
+        report_text,
+    )
+    from bcgen.grids import regular_grid
 
     start = time.perf_counter()
     present = read_field(ETOPO5, "ROSE")
@@ -72,7 +79,6 @@ def chain() -> dict:
 
 
 def regrid(rounds: int) -> dict:
-    import numpy as np
 
     from bcgen.geography import ConservativeRegridder, read_field
     from bcgen.grids import regular_grid
