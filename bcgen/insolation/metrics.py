@@ -14,11 +14,14 @@ is anchored.
 * :func:`band_mean_insolation_wm2`: daily-mean insolation averaged over
   latitude bands by area (cell means for a model grid).
 
-Time integrals use a uniform grid of ``samples`` instants per orbit (uniform in
-mean anomaly, found with Kepler's equation) and treat the insolation as
-piecewise linear between them, so sums above a threshold are exact to second
-order in the sample spacing (a few 1e-6 relative with the default 2920 samples,
-i.e. every 3 hours).
+Time integrals use ``samples`` instants per orbit, equally spaced in eccentric
+anomaly E (so their times t = L (E − e sin E) / 2π follow from Kepler's equation
+without solving it, and the true anomaly from cos v = (cos E − e)/(1 − e cos E),
+sin v = √(1 − e²) sin E/(1 − e cos E)), and treat the insolation as piecewise
+linear in time between them, so sums above a threshold are exact to second
+order in the sample spacing (a few 1e-6 relative with the default 2920
+samples, about every 3 hours). Orbits and latitudes are handled a block at a
+time, so memory stays bounded for any number of orbits.
 """
 
 from __future__ import annotations
@@ -37,10 +40,14 @@ from bcgen.insolation.daily import (
     expand_orbit,
     sin_declination,
 )
-from bcgen.insolation.monthly import SECONDS_PER_DAY, TROPICAL_YEAR_DAYS
+from bcgen.insolation.monthly import (
+    SECONDS_PER_DAY,
+    TROPICAL_YEAR_DAYS,
+    flatten_orbit,
+    orbit_blocks,
+)
 from bcgen.insolation.quadrature import integrate_between_kinks
 from bcgen.orbit.elements import OrbitalElements
-from bcgen.solar_calendar.kepler import mean_to_true
 
 #: Default number of instants per orbit for the time integrals (every 3 hours).
 SAMPLES_PER_YEAR = 2920
@@ -50,45 +57,148 @@ HUYBERS_THRESHOLD_WM2 = 275.0
 
 def _insolation_over_orbit(
     orbit: OrbitalElements, latitude_deg, solar_constant_wm2, samples: int
-) -> np.ndarray:
-    """Daily-mean insolation at ``samples`` instants equally spaced in time over one orbit.
+) -> tuple[np.ndarray, np.ndarray]:
+    """Daily-mean insolation at ``samples`` instants over one orbit, and the time between them.
 
-    Shape ``orbit.shape + latitude.shape + (samples,)``; instant k is at mean
-    anomaly 2π(k + ½)/samples.
+    Returns ``(q, duration)``: q of shape ``orbit.shape + latitude.shape + (samples,)``
+    (instant k at eccentric anomaly E_k = 2π(k + ½)/samples), and the share of the
+    year from instant k to instant k + 1 (cyclic), shape ``orbit.shape + (1,) * lat.ndim
+    + (samples,)``, from Kepler's equation M = E − e sin E.
     """
     if int(samples) != samples or samples < 16:
         raise InsolationError(f"samples: expected a whole number of at least 16; got {samples}")
     lat = np.deg2rad(check_latitude_deg(latitude_deg))
     s0 = check_solar_constant(solar_constant_wm2)
-    mean_anomaly = 2.0 * np.pi * (np.arange(samples) + 0.5) / samples
+    ecc_anomaly = 2.0 * np.pi * (np.arange(int(samples) + 1) + 0.5) / samples
+    cos_ecc, sin_ecc = np.cos(ecc_anomaly[:-1]), np.sin(ecc_anomaly[:-1])
     per = expand_orbit(orbit, 1)
-    lam = mean_to_true(mean_anomaly, per.eccentricity) + per.perihelion_longitude_rad + np.pi
-    sin_dec = sin_declination(lam, per.obliquity_rad)
+    e = per.eccentricity
+    r_over_a = 1.0 - e * cos_ecc
+    cos_v = (cos_ecc - e) / r_over_a
+    sin_v = np.sqrt(1.0 - e * e) * sin_ecc / r_over_a
+    # λ = v + ϖ + π, so sin λ = −(sin v cos ϖ + cos v sin ϖ).
+    varpi = per.perihelion_longitude_rad
+    sin_dec = -np.sin(per.obliquity_rad) * (sin_v * np.cos(varpi) + cos_v * np.sin(varpi))
     cos_dec = np.sqrt(1.0 - sin_dec * sin_dec)
-    rho2 = distance_factor(lam, per.eccentricity, per.perihelion_longitude_rad)
+    mean_anomaly = ecc_anomaly - e * np.sin(ecc_anomaly)
+    duration = np.diff(mean_anomaly, axis=-1) / (2.0 * np.pi)
     insert = (Ellipsis,) + (np.newaxis,) * lat.ndim + (slice(None),)
     lat = lat[..., np.newaxis]
     q = daily_factor(np.sin(lat), np.cos(lat), sin_dec[insert], cos_dec[insert])
-    return (s0 / np.pi) * q * rho2[insert]
+    q *= (s0 / np.pi) / (r_over_a * r_over_a)[insert]
+    return q, duration[insert]
 
 
-def _above(values: np.ndarray, threshold) -> tuple[np.ndarray, np.ndarray]:
-    """Return the share of time above ``threshold`` and the mean excess of a periodic series.
+def _sampled_rows(orbit: OrbitalElements, latitude_deg, solar_constant_wm2, samples: int):
+    """Yield (index, q, duration) for blocks of (orbit, latitude) rows, q of shape (rows, samples).
 
-    Returns ``(fraction, excess)``: the share of time with value > threshold,
-    and the time mean of max(value − threshold, 0), both exact for the linear
-    interpolant of the samples (closed around the period).
+    ``index`` is a slice of the flattened ``orbit.shape + latitude.shape``.
     """
-    threshold = np.asarray(threshold)[..., np.newaxis]
-    a = values - threshold
-    b = np.roll(a, -1, axis=-1)
-    hi, lo = np.maximum(a, b), np.minimum(a, b)
-    span = hi - lo
-    with np.errstate(divide="ignore", invalid="ignore"):
-        part = np.where(lo >= 0, 1.0, np.where(hi <= 0, 0.0, hi / span))
-    # Area above 0 of the segment: trapezoid if wholly above, triangle if it crosses.
-    area = np.where(lo >= 0, 0.5 * (a + b), 0.5 * np.maximum(hi, 0.0) * part)
-    return part.mean(axis=-1), area.mean(axis=-1)
+    lat = check_latitude_deg(latitude_deg).ravel()
+    flat = flatten_orbit(orbit)
+    for block in orbit_blocks(flat.shape[0], lat.size * int(samples)):
+        q, duration = _insolation_over_orbit(flat[block], lat, solar_constant_wm2, samples)
+        rows = q.shape[0] * q.shape[1]
+        index = slice(block.start * lat.size, block.start * lat.size + rows)
+        yield index, q.reshape(rows, -1), np.broadcast_to(duration, q.shape).reshape(rows, -1)
+
+
+#: Half-width, in ranks of the sorted samples, of the first bracket of the caloric threshold.
+#: The share of time above the sample of rank j is close to 1 − j / n (the samples are nearly
+#: equally spaced in time); 128 of 2920 leaves room for uneven spacing up to e ≈ 0.2.
+RANK_WINDOW = 128
+
+
+class _Segments:
+    """The piecewise-linear interpolant of periodic samples: segment k joins samples k, k + 1."""
+
+    def __init__(self, values: np.ndarray, duration: np.ndarray):
+        nxt = np.roll(values, -1, axis=-1)
+        self.values, self.duration = values, duration
+        self.low, self.high = np.minimum(values, nxt), np.maximum(values, nxt)
+        # 1 / span, finite for flat segments so that (high − T) / span is never 0 × ∞.
+        self.inverse_span = 1.0 / np.maximum(self.high - self.low, np.finfo(float).tiny)
+
+    def total(self) -> np.ndarray:
+        """Time mean of the values (trapezoid rule in time)."""
+        return 0.5 * np.einsum("rn,rn->r", self.low + self.high, self.duration)
+
+    def share_above(self, threshold: np.ndarray) -> np.ndarray:
+        """Share of the time with value > threshold (one threshold per row)."""
+        x = self.high - threshold[:, np.newaxis]
+        with np.errstate(over="ignore"):
+            x *= self.inverse_span
+        np.minimum(x, 1.0, out=x)
+        np.maximum(x, 0.0, out=x)
+        return np.einsum("rn,rn->r", x, self.duration)
+
+    def mean_excess(self, threshold: np.ndarray) -> np.ndarray:
+        r"""Time mean of max(value − threshold, 0), exact for the piecewise-linear interpolant.
+
+        Over a segment from a to b (values minus the threshold) the mean of max(x, 0) is
+        :math:`(b_+^2 - a_+^2) / (2 (b - a))`, and a₊ for a flat segment.
+        """
+        t = threshold[:, np.newaxis]
+        a = np.maximum(self.low - t, 0.0)
+        b = np.maximum(self.high - t, 0.0)
+        flat = self.high == self.low
+        area = 0.5 * (b - a) * (b + a) * self.inverse_span
+        area[flat] = a[flat]
+        return np.einsum("rn,rn->r", area, self.duration)
+
+    def threshold_of_share(self, share: float) -> np.ndarray:
+        """Return the value exceeded during ``share`` of the time (the lowest if several).
+
+        The share above a threshold T is piecewise linear in T between consecutive sample
+        values, so it is found exactly: a search over the sorted samples brackets T
+        between two neighbours (interpolating in rank, with a bisection step whenever
+        interpolation stalls), then one linear interpolation gives T.
+        """
+        rows, n = self.values.shape
+        ranked = np.sort(self.values, axis=-1)
+        every = np.arange(rows)
+
+        def share_at(j):
+            return self.share_above(ranked[every, j])
+
+        # Start from ranks near share × n (within ±RANK_WINDOW), widened where that misses.
+        middle = int(round((1.0 - share) * (n - 1)))
+        lo = np.full(rows, max(0, middle - RANK_WINDOW))
+        hi = np.full(rows, min(n - 1, middle + RANK_WINDOW))
+        f_lo, f_hi = share_at(lo), share_at(hi)
+        if np.any(f_lo < share):
+            lo = np.where(f_lo < share, 0, lo)
+            f_lo = share_at(lo)
+        if np.any(f_hi >= share):
+            hi = np.where(f_hi >= share, n - 1, hi)
+            f_hi = share_at(hi)
+        # More than 1 − share of the time at the minimum (a long polar night): T is the minimum.
+        done_low = f_lo < share
+        bisect = False
+        while True:
+            open_ = (hi - lo > 1) & ~done_low
+            if not open_.any():
+                break
+            width = np.max(hi - lo, where=open_, initial=0)
+            if bisect:
+                mid = (lo + hi) // 2
+            else:
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    guess = lo + (f_lo - share) / (f_lo - f_hi) * (hi - lo)
+                mid = np.clip(np.nan_to_num(guess, nan=0.0).astype(int), lo + 1, hi - 1)
+            mid = np.where(open_, mid, lo)
+            f_mid = share_at(mid)
+            up = open_ & (f_mid >= share)
+            down = open_ & ~up
+            lo, f_lo = np.where(up, mid, lo), np.where(up, f_mid, f_lo)
+            hi, f_hi = np.where(down, mid, hi), np.where(down, f_mid, f_hi)
+            # Bisect next when interpolation left the widest bracket more than half as wide.
+            bisect = not bisect and 2 * np.max(hi - lo, where=open_, initial=0) > width
+        t_lo, t_hi = ranked[every, lo], ranked[every, hi]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = (f_lo - share) / (f_lo - f_hi)
+        threshold = t_lo + np.nan_to_num(step, nan=0.0) * (t_hi - t_lo)
+        return np.where(done_low, ranked[:, 0], threshold)
 
 
 @dataclass(frozen=True)
@@ -154,17 +264,16 @@ def caloric_half_years(
     CaloricHalfYears
         Arrays of shape ``orbit.shape + latitude_deg.shape``.
     """
-    q = _insolation_over_orbit(orbit, latitude_deg, solar_constant_wm2, samples)
-    low, high = q.min(axis=-1), q.max(axis=-1)
-    for _ in range(60):  # bisection: (high − low) shrinks to ~1e-15 of the range
-        mid = 0.5 * (low + high)
-        fraction, _ = _above(q, mid)
-        above = fraction > 0.5
-        low, high = np.where(above, mid, low), np.where(above, high, mid)
-    threshold = 0.5 * (low + high)
-    _, excess = _above(q, threshold)
-    total = q.mean(axis=-1)
-    summer = 2.0 * excess + threshold
+    lat = check_latitude_deg(latitude_deg)
+    n_rows = int(np.prod(orbit.shape)) * lat.size
+    threshold, summer, total = np.empty(n_rows), np.empty(n_rows), np.empty(n_rows)
+    for index, q, duration in _sampled_rows(orbit, lat, solar_constant_wm2, samples):
+        segments = _Segments(q, duration)
+        threshold[index] = segments.threshold_of_share(0.5)
+        summer[index] = 2.0 * segments.mean_excess(threshold[index]) + threshold[index]
+        total[index] = segments.total()
+    shape = orbit.shape + lat.shape
+    threshold, summer, total = (v.reshape(shape) for v in (threshold, summer, total))
     # When more than half the year is dark the threshold is 0 and summer holds all the energy.
     summer = np.minimum(summer, 2.0 * total)
     winter = 2.0 * total - summer
@@ -212,10 +321,15 @@ def summer_energy_gj_m2(
     lat = check_latitude_deg(latitude_deg)
     tau = np.asarray(threshold_wm2, dtype=float)
     shape = np.broadcast_shapes(lat.shape, tau.shape)
-    q = _insolation_over_orbit(orbit, np.broadcast_to(lat, shape), solar_constant_wm2, samples)
-    fraction, excess = _above(q, tau)
-    mean_wm2 = excess + tau * fraction  # time mean of Q·1{Q > τ}
-    return mean_wm2 * year_length_days * SECONDS_PER_DAY / 1e9
+    tau_rows = np.broadcast_to(tau, orbit.shape + shape).reshape(-1)
+    mean_wm2 = np.empty(tau_rows.size)
+    for index, q, duration in _sampled_rows(orbit, np.broadcast_to(lat, shape), solar_constant_wm2,
+                                            samples):
+        segments = _Segments(q, duration)
+        t = tau_rows[index]
+        # time mean of Q·1{Q > τ}
+        mean_wm2[index] = segments.mean_excess(t) + t * segments.share_above(t)
+    return mean_wm2.reshape(orbit.shape + shape) * year_length_days * SECONDS_PER_DAY / 1e9
 
 
 def band_mean_insolation_wm2(
@@ -268,10 +382,9 @@ def band_mean_insolation_wm2(
     lower, upper = rad[..., 0], rad[..., 1]
     edge = 0.5 * np.pi - np.abs(np.arcsin(sin_dec))
     kinks = np.stack(np.broadcast_arrays(edge, -edge), axis=-1)
-    sd, cd = sin_dec[..., np.newaxis, np.newaxis], cos_dec[..., np.newaxis, np.newaxis]
 
-    def weighted(phi: np.ndarray) -> np.ndarray:
+    def weighted(phi: np.ndarray, sd: np.ndarray, cd: np.ndarray) -> np.ndarray:
         return daily_factor(np.sin(phi), np.cos(phi), sd, cd) * np.cos(phi)
 
-    integral = integrate_between_kinks(weighted, lower, upper, kinks)
+    integral = integrate_between_kinks(weighted, lower, upper, kinks, params=(sin_dec, cos_dec))
     return (s0 / np.pi) * rho2 * integral / (np.sin(upper) - np.sin(lower))

@@ -40,6 +40,7 @@ import numpy as np
 
 from bcgen.insolation.daily import (
     CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+    DAILY_METHODS,
     DailyMethod,
     InsolationError,
     as_calendar,
@@ -71,6 +72,11 @@ MONTHLY_AVERAGING: dict[str, str] = {
 #: quoted in published-values §4.5), the default year length for energies in J m-2.
 TROPICAL_YEAR_DAYS = 365.24219
 SECONDS_PER_DAY = 86400.0
+#: Arcs of true longitude integrated at once (bounds the memory of the quadrature's pieces).
+INTERVALS_PER_BLOCK = 2**15
+#: Values per orbit block of :func:`monthly_insolation` (orbits x latitudes x days of a year):
+#: 2**20 values are 8 MiB per temporary array.
+VALUES_PER_BLOCK = 2**20
 
 
 def _kinks_in_longitude(lat_rad, obliquity_rad, lower) -> np.ndarray:
@@ -93,20 +99,32 @@ def integrate_daily_factor(latitude_rad, start_rad, end_rad, obliquity_rad) -> n
     """∫ q(φ, λ) dλ from ``start_rad`` to ``end_rad`` (start ≤ end ≤ start + 2π).
 
     q is the bracket of the daily-mean formula (:func:`~bcgen.insolation.daily.daily_factor`).
-    All arguments broadcast; the result has their broadcast shape.
+    All arguments broadcast; the result has their broadcast shape. The intervals are
+    integrated :data:`INTERVALS_PER_BLOCK` at a time along the first axis, so memory stays
+    bounded for any number of orbits.
     """
-    lat, lo, hi, eps = np.broadcast_arrays(
-        *(np.asarray(v, dtype=float) for v in (latitude_rad, start_rad, end_rad, obliquity_rad))
-    )
-    sin_lat = np.sin(lat)[..., np.newaxis, np.newaxis]
-    cos_lat = np.cos(lat)[..., np.newaxis, np.newaxis]
-    sin_eps = np.sin(eps)[..., np.newaxis, np.newaxis]
+    args = [np.asarray(v, dtype=float) for v in (latitude_rad, start_rad, end_rad, obliquity_rad)]
+    shape = np.broadcast_shapes(*(a.shape for a in args))
+    if not shape:
+        return _integrate_daily_factor_block(*args)
+    args = [a.reshape((1,) * (len(shape) - a.ndim) + a.shape) for a in args]
+    out = np.empty(shape)
+    step = max(1, INTERVALS_PER_BLOCK // max(1, int(np.prod(shape[1:]))))
+    for i in range(0, shape[0], step):
+        block = [a if a.shape[0] == 1 else a[i : i + step] for a in args]
+        out[i : i + step] = _integrate_daily_factor_block(*block)
+    return out
 
-    def q(lam: np.ndarray) -> np.ndarray:
+
+def _integrate_daily_factor_block(lat, lo, hi, eps) -> np.ndarray:
+    lat, lo, hi, eps = np.broadcast_arrays(lat, lo, hi, eps)
+
+    def q(lam, sin_lat, cos_lat, sin_eps):
         sin_dec = sin_eps * np.sin(lam)
         return daily_factor(sin_lat, cos_lat, sin_dec, np.sqrt(1.0 - sin_dec * sin_dec))
 
-    return integrate_between_kinks(q, lo, hi, _kinks_in_longitude(lat, eps, lo))
+    kinks = _kinks_in_longitude(lat, eps, lo)
+    return integrate_between_kinks(q, lo, hi, kinks, params=(np.sin(lat), np.cos(lat), np.sin(eps)))
 
 
 def _energy_scale(orbit: OrbitalElements, s0, year_length_days) -> np.ndarray:
@@ -356,26 +374,56 @@ def monthly_insolation(
     s0 = float(check_solar_constant(solar_constant_wm2))
     if months == "fixed_day":
         table = fixed_day_months(orbit, calendar, year=year)
-        daily = daily_insolation(orbit, calendar, lat, s0, year=year, method=daily_method)
-        values = _mean_over_day_months(daily.insolation_wm2, table.start_day, table.end_day)
-        averaging = f"{MONTHLY_AVERAGING[months]}; daily values: {daily.method_description}"
+        averaging = f"{MONTHLY_AVERAGING[months]}; daily values: {DAILY_METHODS[daily_method]}"
     else:
         table = fixed_angle_months(orbit, calendar, reference=reference, year=year)
-        values = _fixed_angle_means(orbit, calendar, year, table, lat, s0)
         averaging = MONTHLY_AVERAGING[months]
+    flat = flatten_orbit(orbit)
+    start = table.start_day.reshape(-1, 12)
+    end = table.end_day.reshape(-1, 12)
+    values = np.empty((flat.shape[0], lat.size, 12))
+    for block in orbit_blocks(flat.shape[0], lat.size * 366):
+        if months == "fixed_day":
+            daily = daily_insolation(flat[block], calendar, lat.ravel(), s0, year=year,
+                                     method=daily_method)
+            values[block] = _mean_over_day_months(daily.insolation_wm2, start[block],
+                                                  end[block])
+        else:
+            values[block] = _fixed_angle_means(flat[block], calendar, year, start[block],
+                                               end[block], lat.ravel(), s0)
+    values = values.reshape(orbit.shape + lat.shape + (12,))
     return MonthlyInsolation(values, lat, table, months, averaging, s0)
 
 
-def _fixed_angle_means(orbit, calendar, year, table, lat, s0) -> np.ndarray:
-    """Exact time means over the months of ``table``, split at the anchor (leap-year rule).
+def flatten_orbit(orbit: OrbitalElements) -> OrbitalElements:
+    """Return the orbit's elements on one axis (a scalar orbit becomes an orbit of length 1)."""
+    t = orbit.years_from_1950
+    return OrbitalElements(
+        orbit.eccentricity.reshape(-1),
+        orbit.obliquity_deg.reshape(-1),
+        orbit.perihelion_longitude_deg.reshape(-1),
+        None if t is None else t.reshape(-1),
+        orbit.solution,
+    )
 
-    Works for any month table whose months are shorter than an orbital year.
+
+def orbit_blocks(n_orbits: int, values_per_orbit: int, budget: int | None = None):
+    """Slices of at most ``budget // values_per_orbit`` orbits (at least one) covering n_orbits.
+
+    The work of many orbits is done a block at a time, so the temporary arrays stay
+    within :data:`VALUES_PER_BLOCK` values whatever the number of orbits.
     """
-    t0 = np.broadcast_to(table.start_day, orbit.shape + (12,))
-    t1 = np.broadcast_to(table.end_day, orbit.shape + (12,))
-    # The arcs from the month's times on the epoch's orbit: the start is the table's
-    # start_true_longitude_deg; the end of December is taken at its own time, because in
-    # leap-year calendars the Sun is not at the same longitude on two successive 1 Januaries.
+    budget = VALUES_PER_BLOCK if budget is None else budget
+    step = max(1, budget // max(1, values_per_orbit))
+    return [slice(i, min(i + step, n_orbits)) for i in range(0, n_orbits, step)]
+
+
+def _fixed_angle_means(orbit, calendar, year, t0, t1, lat, s0) -> np.ndarray:
+    """Exact time means over months [t0, t1) (days), split at the anchor (leap-year rule).
+
+    ``orbit`` is 1-D, ``t0`` and ``t1`` of shape ``orbit.shape + (12,)``, ``lat`` 1-D.
+    Works for any months shorter than an orbital year.
+    """
     solar = SolarYear(expand_orbit(orbit, 1), calendar, year=year)
     start = solar.true_longitude_rad(t0)
     end = start + np.mod(solar.true_longitude_rad(t1) - start, 2.0 * np.pi)
