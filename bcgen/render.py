@@ -55,6 +55,16 @@ PLACEHOLDERS: dict[str, str] = {
     "a metadata template the NetCDF file it describes",
 }
 
+#: Placeholders of metadata templates only: each file's own values.
+FILE_PLACEHOLDERS: dict[str, str] = {
+    "title": "the file's own title",
+    "frequency": "the file's CMIP frequency from its time axis: fx, day, monC, mon, yr, "
+    "1hrPt, ...",
+    "variable_id": "the file's data variable, or 'multiple' when it holds several",
+    "tracking_id": "a new hdl:21.14100/<UUID> for every file",
+    "dataset_category": "input4MIPs category: GHGConcentrations for gases, else solar",
+}
+
 _PLACEHOLDER_RE = re.compile(r"\{\{\s*([A-Za-z_][A-Za-z0-9_.]*)\s*(?::([^}]*?))?\s*\}\}")
 
 #: Bundled templates: name -> file name in the bundled templates folder.
@@ -109,6 +119,7 @@ def render_text(text: str, values: Mapping[str, object], source: str = "<templat
     source : str
         Name used in error messages (usually the template's path).
     """
+    _refuse_missing_attributes(text, values, source)
     out_lines = []
     for lineno, line in enumerate(text.splitlines(keepends=True), start=1):
 
@@ -138,6 +149,23 @@ def render_text(text: str, values: Mapping[str, object], source: str = "<templat
                                  "well formed; write {{ name }} or {{ name:.6f }}")
         out_lines.append(_PLACEHOLDER_RE.sub(substitute, line))
     return "".join(out_lines)
+
+
+def _refuse_missing_attributes(text: str, values: Mapping[str, object], source: str) -> None:
+    """Name every ``{{ attributes.NAME }}`` the spec does not set, all in one message."""
+    missing: dict[str, int] = {}
+    for lineno, line in enumerate(text.splitlines(), start=1):
+        for match in _PLACEHOLDER_RE.finditer(line):
+            name = match[1]
+            key = name[len("attributes."):]
+            if (name.startswith("attributes.") and "." not in key
+                    and _lookup(values, name) is _MISSING):
+                missing.setdefault(key, lineno)
+    if missing:
+        where = ", ".join(f"{key} (line {line})" for key, line in missing.items())
+        keys = ", ".join(missing)
+        raise InputFileError(f"{source}: {len(missing)} attribute(s) have no value: {where}; "
+                             f"add {keys} under 'attributes:' in the experiment spec")
 
 
 def render_file(path, values: Mapping[str, object]) -> str:

@@ -103,7 +103,10 @@ def test_demo_loads_and_is_fast_to_build():
     spec = load_spec(DEMO)
     assert spec.grid.kind == "zonal" and spec.grid.resolution_deg == 10.0
     assert set(spec.products) == set(S.PRODUCTS)
-    assert spec.file_name("orbit") == "demo-late-perihelion_orbit_zonal10deg.nc"
+    # Grid-independent products leave {grid} out of the demo's pattern; gridded ones keep it.
+    assert spec.file_name("orbit") == "demo-late-perihelion_orbit.nc"
+    assert (spec.file_name("daily_insolation")
+            == "demo-late-perihelion_daily_insolation_zonal10deg.nc")
     assert [t.name for t in spec.templates] == ["summary_json", "namelist"]
 
 

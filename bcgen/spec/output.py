@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 import string
 from dataclasses import dataclass
 from pathlib import Path
@@ -121,8 +122,29 @@ class OutputSpec:
             check_file_pattern(self.file_pattern)
 
     def file_name(self, **values) -> str:
-        """Fill the file-name pattern with placeholder values (see ``FILE_PATTERN_FIELDS``)."""
-        return (self.file_pattern or S.DEFAULT_FILE_PATTERN).format(**values)
+        """Fill the file-name pattern with placeholder values (see ``FILE_PATTERN_FIELDS``).
+
+        A product that does not depend on the grid (:data:`GRID_INDEPENDENT_PRODUCTS`) is
+        named without ``{grid}`` and the separator before it: ``x_orbit.nc``, not
+        ``x_orbit_zonal10deg.nc``.
+        """
+        pattern = self.file_pattern or S.DEFAULT_FILE_PATTERN
+        if values.get("product") in GRID_INDEPENDENT_PRODUCTS:
+            pattern = without_placeholder(pattern, "grid")
+        return pattern.format(**values)
+
+
+#: Products whose values do not depend on the grid: their file names leave ``{grid}`` out.
+GRID_INDEPENDENT_PRODUCTS = frozenset(
+    {"orbit", "solar_constant", "greenhouse_gases", "month_table", "timestep_table"})
+
+
+def without_placeholder(pattern: str, name: str) -> str:
+    """Remove ``{name}`` from a file-name pattern with one separator (``_``, ``-``, ``.``)
+    next to it: the one before it, or after it when it opens the pattern."""
+    field = re.escape("{" + name + "}")
+    reduced = re.sub(rf"[_.-]{field}", "", pattern)
+    return re.sub(rf"{field}[_.-]?", "", reduced)
 
 
 _SAMPLE_FIELDS = {

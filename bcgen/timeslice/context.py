@@ -17,6 +17,10 @@ from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.spec import ExperimentSpec
 from bcgen.writer import provenance_attrs
 
+#: input4MIPs dataset categories of the products (from memory): gases have their own, the
+#: orbit, solar constant and insolation are solar forcing.
+DATASET_CATEGORIES = {"greenhouse_gases": "GHGConcentrations"}
+
 #: Gauss-Legendre nodes per latitude segment for the printed global annual mean.
 _GLOBAL_MEAN_NODES = 48
 
@@ -111,14 +115,33 @@ class BuildContext:
             total += 0.5 * (hi - lo) * float(np.sum(annual * w))
         return total / 2.0
 
-    def attributes(self, title: str) -> dict[str, str]:
-        """Return the global attributes of one file: provenance, templates, the spec's own."""
+    def attributes(self, title: str, ds=None, *, file_name: str | None = None,
+                   product: str | None = None) -> dict[str, str]:
+        """Return the global attributes of one file: provenance, templates, the spec's own.
+
+        Parameters
+        ----------
+        title : str
+            The file's own title (kept unless a metadata template sets one).
+        ds : xarray.Dataset, optional
+            The file's dataset: its time axis gives the ``comment`` on time and the
+            ``frequency``, its data variables the ``variable_id``
+            (:mod:`bcgen.timeslice.metadata`). Without it the file is taken as having
+            no time axis.
+        file_name, product : str, optional
+            The file's name and product (``output_file`` and ``dataset_category`` of
+            metadata templates).
+        """
+        from bcgen.timeslice import metadata
+
         spec = self.spec
         extra = dict(spec.attributes)
         institution = extra.pop("institution", None)
         comment = extra.pop("comment", None)
         references = [r for r in (extra.pop("references", None),) if r]
         solution = SOLUTIONS[self.orbit.solution]
+        time_note = metadata.time_comment(ds) if ds is not None else None
+        notes = "\n".join(n for n in (time_note, comment) if n) or None
         attrs = provenance_attrs(
             spec.text or "",
             solution.REFERENCE,
@@ -126,8 +149,8 @@ class BuildContext:
             institution=institution,
             solution=self.orbit.solution,
             references=references,
-            comment=comment,
-            time_slice=True,
+            comment=notes,
+            time_slice=False,  # the time note above fits each file's own time axis
             command=self.command,
             created=self.created,
             extra=extra,
@@ -143,27 +166,38 @@ class BuildContext:
         attrs["bcgen_version"] = __version__
         # Metadata templates add to (and may replace) bcgen's attributes; the spec's own
         # attributes win over both.
-        attrs.update(self.template_attributes)
+        if spec.attribute_templates:
+            import xarray as xr
+
+            file_ds = ds if ds is not None else xr.Dataset()
+            attrs.update(self.template_attributes({
+                "output_file": file_name or "",
+                "title": title,
+                "frequency": metadata.frequency(file_ds),
+                "variable_id": metadata.variable_id(file_ds),
+                "tracking_id": metadata.new_tracking_id(),
+                "dataset_category": DATASET_CATEGORIES.get(product, "solar"),
+            }))
         if institution:
             attrs["institution"] = institution
         attrs.update(extra)
         return attrs
 
-    @cached_property
-    def template_attributes(self) -> dict[str, str]:
-        """Global attributes from the spec's metadata templates (``attribute_templates``).
+    def template_attributes(self, file_values: dict[str, str]) -> dict[str, str]:
+        """Global attributes of one file from the spec's metadata templates.
 
-        Each template renders to a JSON object of attribute names and values; values are
-        written as text (numbers as written in the JSON).
+        Each template (``attribute_templates``) renders to a JSON object of attribute
+        names and values, with the build's placeholders and the file's own
+        (``file_values``: output_file, title, frequency, variable_id, tracking_id,
+        dataset_category); values are written as text (numbers as written in the JSON).
         """
         import json
 
         from bcgen.errors import InputFileError
         from bcgen.render import bundled_template_path, render_file
-        from bcgen.timeslice.values import template_values
 
+        values = {**self._template_values, **file_values}
         attrs: dict[str, str] = {}
-        values = template_values(self) if self.spec.attribute_templates else {}
         for ref in self.spec.attribute_templates:
             path = bundled_template_path(ref.name) if ref.name is not None else Path(ref.path)
             text = render_file(path, values)
@@ -178,6 +212,12 @@ class BuildContext:
             attrs.update({str(k): v if isinstance(v, str) else json.dumps(v)
                           for k, v in table.items()})
         return attrs
+
+    @cached_property
+    def _template_values(self) -> dict:
+        from bcgen.timeslice.values import template_values
+
+        return template_values(self)
 
     @property
     def anchor_text(self) -> str:

@@ -61,7 +61,8 @@ def _text_name(ctx: BuildContext, product: str, suffix: str) -> str:
 
 
 def _finish(ctx: BuildContext, ds: xr.Dataset, title: str) -> xr.Dataset:
-    ds.attrs.update(ctx.attributes(title))
+    """Give a dataset its title; the other global attributes come in :func:`make_outputs`."""
+    ds.attrs["title"] = title
     return ds
 
 
@@ -183,10 +184,10 @@ def _monthly(ctx: BuildContext, definition: str) -> list[Output]:
     ds["insolation"].attrs["month_definition"] = definition
     if definition == "fixed_angle":
         ds["insolation"].attrs["reference_orbit_epoch"] = ctx.spec.insolation.reference_epoch
-        ds["month_start_true_longitude"] = (
+        ds = ds.assign_coords(month_start_true_longitude=(
             ("time",), table.start_true_longitude_deg,
             {"long_name": "true longitude of the Sun at the start of each month",
-             "units": "degree"})
+             "units": "degree"}))
     return [Output(product, _nc_name(ctx, product), description, ds)]
 
 
@@ -314,4 +315,9 @@ def make_outputs(ctx: BuildContext) -> list[Output]:
     if dupes:
         raise SpecError(f"output.file_pattern gives several outputs the name {dupes[0]}; "
                         "include {product} in the pattern")
+    for out in outputs:  # each file's own attributes, from the finished dataset
+        if out.dataset is not None:
+            ds = out.dataset
+            ds.attrs.update(ctx.attributes(ds.attrs.get("title", out.description), ds,
+                                           file_name=out.file_name, product=out.product))
     return outputs

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import uuid
-
 import numpy as np
 
 from bcgen import __version__
@@ -31,7 +29,6 @@ def template_values(ctx) -> dict[str, object]:
     gases = {g.name: g.mole_fraction for g in spec.greenhouse_gases}
     anchor = cal.anchor
     attributes = dict(spec.attributes)
-    attributes.setdefault("tracking_id", "hdl:21.14100/" + _uuid_from_spec(spec))
 
     def gas(name: str, factor: float):
         if name not in gases:
@@ -69,8 +66,3 @@ def template_values(ctx) -> dict[str, object]:
         "creation_date": ctx.created.strftime("%Y-%m-%dT%H:%M:%SZ"),
         "attributes": attributes,
     }
-
-
-def _uuid_from_spec(spec) -> str:
-    """Return a UUID fixed by the spec's text (the same spec gives the same tracking id)."""
-    return str(uuid.uuid5(uuid.NAMESPACE_URL, "bcgen:" + (spec.sha256 or spec.experiment.name)))
