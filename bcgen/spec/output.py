@@ -140,8 +140,10 @@ GRID_INDEPENDENT_PRODUCTS = frozenset(
 
 
 def without_placeholder(pattern: str, name: str) -> str:
-    """Remove ``{name}`` from a file-name pattern with one separator (``_``, ``-``, ``.``)
-    next to it: the one before it, or after it when it opens the pattern."""
+    """Remove ``{name}`` and one separator (``_``, ``-``, ``.``) from a file-name pattern.
+
+    The separator before it goes, or the one after it when it opens the pattern.
+    """
     field = re.escape("{" + name + "}")
     reduced = re.sub(rf"[_.-]{field}", "", pattern)
     return re.sub(rf"{field}[_.-]?", "", reduced)

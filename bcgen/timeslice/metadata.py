@@ -38,8 +38,11 @@ _POINT_FREQUENCIES = {60: "1hrPt", 180: "3hrPt", 360: "6hrPt"}
 
 
 def time_kind(ds: xr.Dataset) -> str:
-    """Return how a dataset's time axis is meant: ``none``, ``climatology``, ``intervals`` or
-    ``instants`` (a time coordinate without bounds)."""
+    """Return how a dataset's time axis is meant.
+
+    One of ``none``, ``climatology``, ``intervals`` or ``instants`` (a time coordinate
+    without bounds).
+    """
     if "time" not in ds.dims:
         return "none"
     attrs = ds["time"].attrs
