@@ -88,6 +88,8 @@ TRANSIENT_PRODUCTS = (
     "greenhouse_gases",
     "daily_insolation",
     "monthly_insolation_fixed_day",
+    "monthly_insolation_fixed_angle",
+    "month_table",
 )
 #: Products computed on the grid.
 GRIDDED_PRODUCTS = (

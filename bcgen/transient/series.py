@@ -36,6 +36,7 @@ from bcgen.insolation.monthly import MONTHLY_AVERAGING
 from bcgen.io import SeriesFile
 from bcgen.orbit import SOLUTIONS, OrbitalElements
 from bcgen.solar_calendar.calendars import FIXED_YEAR_DAYS, ModelCalendar
+from bcgen.solar_calendar.months import MonthTable, fixed_angle_months, fixed_day_months
 from bcgen.spec import ExperimentSpec
 from bcgen.transient.gases import INTERPOLATION_METHODS, GasTable, load_gas_table, output_units
 from bcgen.writer import provenance_attrs
@@ -132,6 +133,11 @@ class RunContext:
         if gases:
             _ = self.gas_table
         _ = self.orbit_table
+
+    @cached_property
+    def reference_orbit(self) -> OrbitalElements:
+        """The reference orbit of fixed-angle months (the spec's ``insolation.reference_epoch``)."""
+        return self.spec.resolve_reference_orbit()
 
     @cached_property
     def orbit_table(self) -> OrbitalElements | None:
@@ -488,11 +494,7 @@ class InsolationSeries(Series):
         counts = np.array([len(self.year_bounds(int(y))) for y in years])
         offsets = np.concatenate([[0], np.cumsum(counts)])
         rows = np.empty((offsets[-1], lat.size))
-        groups: dict[tuple, list[int]] = {}
-        for i, y in enumerate(years):
-            groups.setdefault(ctx.year_key(int(y)), []).append(i)
-        for members in groups.values():
-            idx = np.array(members)
+        for idx in _groups_of_equal_years(ctx, years):
             values = self.by_latitude(orbit[idx], lat, int(years[idx[0]]))  # (n, nlat, steps)
             for j, i in enumerate(idx):
                 rows[offsets[i] : offsets[i + 1]] = values[j].T
@@ -581,6 +583,178 @@ class MonthlyFixedDaySeries(InsolationSeries):
         ).insolation_wm2
 
 
+class MonthlyFixedAngleSeries(MonthlyFixedDaySeries):
+    """Monthly-mean insolation over the fixed-angle months of every model year.
+
+    Model year y has the months of its own orbit: each spans the arc of true longitude
+    that the calendar month spans in the spec's reference orbit
+    (:func:`bcgen.solar_calendar.months.fixed_angle_months`, ``year=y``), so its time
+    bounds change from year to year with the orbit. Within a model year the months
+    join without gap; from one model year to the next the orbit changes, and the
+    January of year y + 1 starts where the orbit of y + 1 puts it, which differs from
+    the end of December of year y by the change of the January boundary over one
+    model year's step of the orbit (hundredths of a day at an acceleration of 100).
+    """
+
+    product = "monthly_insolation_fixed_angle"
+
+    @property
+    def description(self) -> str:  # noqa: D102
+        return (
+            "monthly mean TOA insolation over fixed-angle (celestial) months of each model "
+            f"year's orbit; {MONTHLY_AVERAGING['fixed_angle']}"
+        )
+
+    @property
+    def title(self) -> str:  # noqa: D102
+        return (
+            f"Monthly TOA insolation (fixed-angle (celestial) months) for "
+            f"{self.ctx.spec.experiment.name}"
+        )
+
+    def extra_attrs(self) -> dict[str, str]:  # noqa: D102
+        return {
+            "month_definition": "fixed_angle",
+            "reference_orbit_epoch": self.ctx.spec.insolation.reference_epoch,
+        }
+
+    def define(self, sf: SeriesFile) -> list[str]:  # noqa: D102
+        names = super().define(sf)
+        sf.define_variable(
+            "month_start_true_longitude",
+            "f8",
+            ("time",),
+            {"long_name": "true longitude of the Sun at the start of each month",
+             "units": "degree"},
+            compress=True,
+        )
+        return [*names, "month_start_true_longitude"]
+
+    def months(self, years: np.ndarray) -> MonthTable:
+        """Fixed-angle months of model years (each with its orbit and its calendar year)."""
+        years = np.asarray(years)
+        ctx = self.ctx
+        orbit = ctx.orbit(years)
+        start = np.empty((years.size, 12))
+        length = np.empty((years.size, 12))
+        lam = np.empty((years.size, 12))
+        for idx in _groups_of_equal_years(ctx, years):
+            table = fixed_angle_months(orbit[idx], ctx.calendar, reference=ctx.reference_orbit,
+                                       year=int(years[idx[0]]))
+            start[idx], length[idx] = table.start_day, table.length_days
+            lam[idx] = table.start_true_longitude_deg
+        fixed = np.broadcast_to(np.diff(ctx.calendar.month_starts_days(int(years[0]))),
+                                (years.size, 12))
+        return MonthTable(start, length, lam, np.zeros_like(start), fixed, "fixed_angle")
+
+    def bounds(self, years: np.ndarray) -> np.ndarray:
+        """(12 T, 2) bounds of the fixed-angle months of ``years``, days since the first year."""
+        table = self.months(years)
+        starts = self.ctx.year_start_days(years)[:, np.newaxis]
+        return np.stack([table.start_day + starts, table.end_day + starts], axis=-1).reshape(-1, 2)
+
+    def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:  # noqa: D102
+        values = super().compute(years)
+        values["month_start_true_longitude"] = self.months(years).start_true_longitude_deg.ravel()
+        return values
+
+    def by_latitude(self, orbit, lat, year):  # noqa: D102
+        ctx = self.ctx
+        return monthly_insolation(
+            orbit, ctx.calendar, lat, ctx.spec.solar_constant_wm2, months="fixed_angle",
+            reference=ctx.reference_orbit, year=year,
+        ).insolation_wm2
+
+    def write(self, sf: SeriesFile, name: str, values: np.ndarray) -> None:  # noqa: D102
+        if name == "insolation":
+            super().write(sf, name, values)
+        else:
+            sf.append(name, values)
+
+
+#: The month table of every model year: variable name -> (MonthTable field, attributes).
+MONTH_TABLE_VARIABLES = {
+    "fixed_day_start_day": ("fixed_day", "start_day", {
+        "long_name": "start of the calendar (fixed-day) month, days after 1 January 00:00 of "
+                     "the model year", "units": "day"}),
+    "fixed_day_length_days": ("fixed_day", "length_days", {
+        "long_name": "length of the calendar (fixed-day) month", "units": "day"}),
+    "fixed_day_start_true_longitude_deg": ("fixed_day", "start_true_longitude_deg", {
+        "long_name": "true longitude of the Sun at the start of the calendar month on the "
+                     "model year's orbit", "units": "degree"}),
+    "fixed_angle_start_day": ("fixed_angle", "start_day", {
+        "long_name": "start of the fixed-angle month, days after 1 January 00:00 of the model "
+                     "year (negative before it)", "units": "day"}),
+    "fixed_angle_length_days": ("fixed_angle", "length_days", {
+        "long_name": "length of the fixed-angle month", "units": "day"}),
+    "fixed_angle_start_true_longitude_deg": ("fixed_angle", "start_true_longitude_deg", {
+        "long_name": "true longitude of the Sun at the start of the fixed-angle month (that of "
+                     "the calendar month in the reference orbit)", "units": "degree"}),
+}
+
+
+class MonthTableSeries(Series):
+    """Fixed-day and fixed-angle month boundaries of every model year.
+
+    One time step per calendar month (its bounds are the fixed-day month), each with
+    the fixed-angle month of the same name on the model year's own orbit.
+    """
+
+    product = "month_table"
+
+    @property
+    def description(self) -> str:  # noqa: D102
+        return (
+            "fixed-day and fixed-angle month boundaries of every model year (its own orbit; "
+            f"arcs of the reference orbit of {self.ctx.spec.insolation.reference_epoch})"
+        )
+
+    @property
+    def title(self) -> str:  # noqa: D102
+        return f"Month boundaries per model year for {self.ctx.spec.experiment.name}"
+
+    def _year_bounds(self, year: int) -> np.ndarray:
+        starts = self.ctx.calendar.month_starts_days(int(year))
+        return np.stack([starts[:-1], starts[1:]], axis=-1)
+
+    def define(self, sf: SeriesFile) -> list[str]:  # noqa: D102
+        sf.define_variable("month", "i4", ("time",),
+                           {"long_name": "month of the model year (1 = January)", "units": "1"},
+                           compress=True)
+        for name, (_, _, attrs) in MONTH_TABLE_VARIABLES.items():
+            sf.define_variable(name, "f8", ("time",), attrs, compress=True)
+        sf.set_attributes({
+            "reference_orbit_epoch": self.ctx.spec.insolation.reference_epoch,
+            "calendar_anchor": self.ctx.anchor_text,
+        })
+        return ["month", *MONTH_TABLE_VARIABLES]
+
+    def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:  # noqa: D102
+        ctx = self.ctx
+        orbit = ctx.orbit(years)
+        out = {name: np.empty((years.size, 12)) for name in MONTH_TABLE_VARIABLES}
+        for idx in _groups_of_equal_years(ctx, years):
+            year = int(years[idx[0]])
+            tables = {
+                "fixed_day": fixed_day_months(orbit[idx], ctx.calendar, year=year),
+                "fixed_angle": fixed_angle_months(orbit[idx], ctx.calendar,
+                                                  reference=ctx.reference_orbit, year=year),
+            }
+            for name, (which, field_name, _) in MONTH_TABLE_VARIABLES.items():
+                out[name][idx] = getattr(tables[which], field_name)
+        values = {name: v.reshape(-1) for name, v in out.items()}
+        values["month"] = np.tile(np.arange(1, 13, dtype=np.int32), years.size)
+        return values
+
+
+def _groups_of_equal_years(ctx: RunContext, years: np.ndarray) -> list[np.ndarray]:
+    """Return the indices of ``years`` grouped by :meth:`RunContext.year_key`."""
+    groups: dict[tuple, list[int]] = {}
+    for i, y in enumerate(years):
+        groups.setdefault(ctx.year_key(int(y)), []).append(i)
+    return [np.array(members) for members in groups.values()]
+
+
 def spread_to_grid(rows: np.ndarray, index: np.ndarray, grid: Grid) -> np.ndarray:
     """Values on distinct latitudes (T, n_unique) → float32 values on the grid (T, *grid.shape)."""
     column = rows[:, index]  # (T, nlat) or (T, ny, nx) for a curvilinear grid
@@ -597,4 +771,6 @@ SERIES: dict[str, type[Series]] = {
     "greenhouse_gases": GasSeries,
     "daily_insolation": DailyInsolationSeries,
     "monthly_insolation_fixed_day": MonthlyFixedDaySeries,
+    "monthly_insolation_fixed_angle": MonthlyFixedAngleSeries,
+    "month_table": MonthTableSeries,
 }
