@@ -511,9 +511,10 @@ CASES = [
     ),
     (
         "transient_time_slice_product",
-        TRANSIENT.replace(LAST, "month_table]"),
-        "bad.yaml:12:37: products[2]: 'month_table' is a time-slice product; a transient run "
-        "can produce orbit, greenhouse_gases, daily_insolation, monthly_insolation_fixed_day",
+        TRANSIENT.replace(LAST, "timestep_table]"),
+        "bad.yaml:12:37: products[2]: 'timestep_table' is a time-slice product; a transient run "
+        "can produce orbit, greenhouse_gases, daily_insolation, monthly_insolation_fixed_day, "
+        "monthly_insolation_fixed_angle, month_table",
     ),
     (
         "transient_with_model_year",

@@ -593,7 +593,8 @@ class MonthlyFixedAngleSeries(MonthlyFixedDaySeries):
     join without gap; from one model year to the next the orbit changes, and the
     January of year y + 1 starts where the orbit of y + 1 puts it, which differs from
     the end of December of year y by the change of the January boundary over one
-    model year's step of the orbit (hundredths of a day at an acceleration of 100).
+    model year's step of the orbit (at most 0.018 day at an acceleration of 10 and 0.18
+    day at 100 over the Berger 1978 orbits of 0 to 130 ka, noleap, reference 1950 CE).
     """
 
     product = "monthly_insolation_fixed_angle"
