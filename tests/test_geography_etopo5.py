@@ -12,6 +12,7 @@ Black Sea is cut off, and the Strait of Gibraltar (sill near -280 m) stays open.
 
 from __future__ import annotations
 
+import json
 import os
 from pathlib import Path
 
@@ -193,3 +194,31 @@ def test_lgm_report_on_one_degree(etopo5, one_degree):
     assert salinity == pytest.approx(34.7, abs=0.1)
     assert 0.8 < report["salinity"]["implied_change"] < 1.3
     assert report["cells"]["ocean_to_land"] > 0 and report["cells"]["land_to_ocean"] == 0
+
+
+def test_build_over_etopo5_writes_every_product(etopo5, tmp_path, run_cli, cf_compliant):
+    _require(LEVITUS)
+    spec = tmp_path / "lgm_geo.yaml"
+    spec.write_text(f"""\
+experiment: {{name: lgm_geo}}
+epoch: 21ka
+grid: {{kind: regular, resolution_deg: 2.0}}
+products: [orbit]
+geography:
+  present: {{file: {ETOPO5}, variable: ROSE}}
+  sea_level_change_m: -120
+  salinity: {{file: {LEVITUS}, variable: SALT}}
+  straits:
+    - name: Gibraltar
+      action: open
+      path: [{{lat_deg: 36.0, lon_deg: -8.0}}, {{lat_deg: 36.0, lon_deg: -3.0}}]
+      depth_m: 280
+""")
+    status, out, err = run_cli(["build", spec, "-o", tmp_path / "out"])
+    assert status == 0, err
+    names = {p.name for p in (tmp_path / "out").iterdir()}
+    assert {"lgm_geo_geography.nc", "lgm_geo_geography_report.txt",
+            "lgm_geo_geography_report.json"} <= names
+    cf_compliant(tmp_path / "out" / "lgm_geo_geography.nc")
+    report = json.loads((tmp_path / "out" / "lgm_geo_geography_report.json").read_text())
+    assert report["salinity"]["source"].startswith("volume mean of levitus_climatology.cdf")

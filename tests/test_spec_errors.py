@@ -144,7 +144,7 @@ CASES = [
         v("epoch: 6ka", "epoc: 6ka"),
         "bad.yaml:3:1: epoc: unknown key; expected one of experiment, epoch, transient, orbit, "
         "solar_constant_wm2, greenhouse_gases, calendar, grid, insolation, products, "
-        "timestep_table, templates, attribute_templates, output, attributes "
+        "timestep_table, templates, attribute_templates, geography, output, attributes "
         "(did you mean 'epoch'?)",
     ),
     (

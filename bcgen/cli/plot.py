@@ -16,6 +16,7 @@ KINDS = {
     "anomaly": "insolation minus that of a reference experiment (--reference)",
     "month-lengths": "fixed-day against fixed-angle month lengths",
     "orbit": "eccentricity, obliquity, precession index and summer-solstice insolation in time",
+    "geography": "relief, ocean-mask changes and ice of a geography file from 'bcgen build'",
 }
 
 EPILOG = """\
@@ -24,6 +25,8 @@ kinds:
   anomaly         the same minus a reference experiment (--reference, required)
   month-lengths   fixed-day against fixed-angle month lengths (days)
   orbit           e, obliquity, e sin(perihelion) and summer-solstice insolation in time
+  geography       a geography file from 'bcgen build': relief as the model sees it, the
+                  ocean-mask changes from today, lakes, and the land-ice fraction
 
 examples:
   bcgen plot insolation 6ka -o 6ka.png
@@ -37,6 +40,8 @@ examples:
   bcgen plot month-lengths 127ka --reference 1850CE -o months-127ka.png
   bcgen plot orbit 800ka..0ka/1ka --lat 65 -65 -o orbit.pdf
   bcgen plot orbit 800ka..0ka/1ka --lat 65 --true-longitude-deg 120 -o orbit-120.pdf
+  bcgen build configs/glacial_demo.yaml -o glacial
+  bcgen plot geography glacial/glacial_demo_geography.nc -o glacial.png
 
 SOURCE is an epoch (6ka, 1850CE), a range START..END/STEP (orbit), an
 experiment spec (.yaml) or a monthly insolation file written by 'bcgen build'
@@ -136,6 +141,15 @@ def make_figure(args: argparse.Namespace):
     _refuse(args, "--months", ("insolation", "anomaly"))
     _refuse(args, "--lat", ("insolation", "anomaly", "orbit"))
     _refuse(args, "--calendar", ("insolation", "anomaly", "month-lengths"))
+    if args.kind == "geography":
+        for option in ("--reference", "--months", "--lat", "--calendar"):
+            value = getattr(args, option.lstrip("-"))
+            if value is not None:
+                raise BcgenError(f"{option} does not apply to 'bcgen plot geography'")
+        from bcgen.plot.geography import geography_figure, read_geography_file
+
+        g = read_geography_file(args.source)
+        return geography_figure(g), f"geography of {g['title']}"
     months = MONTH_OPTIONS[args.months] if args.months else None
     if args.lat is not None:
         bad = [v for v in args.lat if not -90.0 <= v <= 90.0]

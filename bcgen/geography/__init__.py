@@ -22,24 +22,30 @@ One module per step, data flowing down the list:
 ...                      regular_grid(1.0))                     # doctest: +SKIP
 """
 
-from bcgen.geography.fields import LatLonField, read_field
-from bcgen.geography.landsea import MaskSettings
-from bcgen.geography.pipeline import Geography, GeographyInputs, make_geography
-from bcgen.geography.products import geography_dataset
-from bcgen.geography.regrid import ConservativeRegridder
-from bcgen.geography.report import change_report, report_text
-from bcgen.geography.straits import StraitRule
+from __future__ import annotations
 
-__all__ = [
-    "ConservativeRegridder",
-    "Geography",
-    "GeographyInputs",
-    "LatLonField",
-    "MaskSettings",
-    "StraitRule",
-    "change_report",
-    "geography_dataset",
-    "make_geography",
-    "read_field",
-    "report_text",
-]
+import importlib
+
+#: Public names and the module that defines each (imported on first use, so that reading
+#: a spec does not import scipy).
+_PUBLIC = {
+    "ConservativeRegridder": "regrid",
+    "Geography": "pipeline",
+    "GeographyInputs": "pipeline",
+    "LatLonField": "fields",
+    "MaskSettings": "landsea",
+    "StraitRule": "straits",
+    "change_report": "report",
+    "geography_dataset": "products",
+    "make_geography": "pipeline",
+    "read_field": "fields",
+    "report_text": "report",
+}
+
+__all__ = sorted(_PUBLIC)
+
+
+def __getattr__(name: str):
+    if name in _PUBLIC:
+        return getattr(importlib.import_module(f"bcgen.geography.{_PUBLIC[name]}"), name)
+    raise AttributeError(f"module 'bcgen.geography' has no attribute {name!r}")

@@ -21,8 +21,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from bcgen.geography.mask import Connectivity, ocean_and_basins
-
-SHALLOW_POLICIES: tuple[str, ...] = ("deepen", "land")
+from bcgen.geography.options import SHALLOW_POLICIES
 
 
 @dataclass

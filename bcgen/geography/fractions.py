@@ -16,6 +16,8 @@ import numpy as np
 
 #: A cell is land in the binary mask exactly when its land area fraction is >= this.
 LAND_THRESHOLD = 0.5
+#: Largest gap kept below the threshold on ocean cells (float32 resolves it near 0.5).
+_MARGIN = 1e-6
 
 
 @dataclass(frozen=True)
@@ -48,6 +50,9 @@ def consistent_fractions(land_fraction: np.ndarray, ocean: np.ndarray, area_m2: 
     to_land = ~ocean & (land < LAND_THRESHOLD)
     to_ocean = ocean & (land >= LAND_THRESHOLD)
     land = np.where(to_land, 1.0, np.where(to_ocean, 0.0, land))
+    # Keep the rule after rounding to float32 in the file: an ocean cell's fraction just
+    # below the threshold would otherwise round up to it.
+    land = np.where(ocean, np.minimum(land, LAND_THRESHOLD - _MARGIN), land)
     ice = None
     removed = 0.0
     if ice_fraction is not None:

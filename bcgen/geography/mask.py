@@ -19,13 +19,9 @@ import scipy.ndimage as ndi
 from scipy.sparse import coo_array
 from scipy.sparse.csgraph import connected_components
 
-Connectivity = Literal["edge", "corner"]
-CONNECTIVITIES: tuple[str, ...] = ("edge", "corner")
+from bcgen.geography.options import CONNECTIVITIES
 
-#: What becomes of a basin below sea level that is not connected to the world ocean:
-#: ``lake`` keeps it as an inland water body (labelled, land in the sea mask, land in the
-#: land fraction as CMIP's sftlf counts lakes); ``land`` makes it plain land.
-BASIN_POLICIES: tuple[str, ...] = ("lake", "land")
+Connectivity = Literal["edge", "corner"]
 
 #: Labels of the water-body field.
 LAND_LABEL = 0

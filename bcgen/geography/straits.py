@@ -14,7 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.ndimage as ndi
 
-ACTIONS: tuple[str, ...] = ("open", "close")
+from bcgen.geography.options import STRAIT_ACTIONS as ACTIONS
 
 
 @dataclass(frozen=True)

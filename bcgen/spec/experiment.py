@@ -31,6 +31,7 @@ from bcgen.orbit import OrbitalElements
 from bcgen.solar_calendar.calendars import NO_YEAR_ZERO_CALENDARS
 from bcgen.spec import schema as S
 from bcgen.spec.common import FieldError, check_choice, check_epoch, check_number
+from bcgen.spec.geography import GeographySpec
 from bcgen.spec.grid import GridSpec
 from bcgen.spec.model import CalendarSpec, ExperimentInfo, GasSpec, InsolationSpec, OrbitSpec
 from bcgen.spec.output import OutputSpec, TemplateRef, TimestepTableSpec, check_file_pattern
@@ -79,6 +80,9 @@ class ExperimentSpec:
     greenhouse_gases : tuple of GasSpec
         In the order of the spec.
     grid, timestep_table : section dataclasses or None
+    geography : GeographySpec or None
+        Paleogeography inputs and rules; a time slice with one writes the geography
+        products (:mod:`bcgen.geography`) besides those listed in ``products``.
     templates : tuple of TemplateRef
         Text templates rendered by the ``templates`` product.
     attribute_templates : tuple of TemplateRef
@@ -100,6 +104,7 @@ class ExperimentSpec:
     greenhouse_gases: tuple[GasSpec, ...] = ()
     calendar: CalendarSpec = field(default_factory=CalendarSpec)
     grid: GridSpec | None = None
+    geography: GeographySpec | None = None
     insolation: InsolationSpec = field(default_factory=InsolationSpec)
     timestep_table: TimestepTableSpec | None = None
     templates: tuple[TemplateRef, ...] = ()
@@ -135,6 +140,7 @@ class ExperimentSpec:
                                      unit, gas.name)
         self._check_gases()
         self._check_products()
+        self._check_geography()
         self._check_output()
         self._check_attributes()
         self._check_orbit_coverage()
@@ -194,6 +200,16 @@ class ExperimentSpec:
         for i, name in enumerate(names):
             if name in names[:i]:
                 raise FieldError(f"greenhouse_gases.{name}", "the gas is given twice")
+
+    def _check_geography(self) -> None:
+        if self.geography is None:
+            return
+        if self.transient is not None:
+            raise FieldError("geography", "the geography is built for a time slice ('epoch'); "
+                             "a transient run cannot have one yet")
+        if self.grid is None or self.grid.kind == "zonal":
+            raise FieldError("geography", "the geography needs a latitude-longitude grid; add "
+                             "e.g. grid: {kind: regular, resolution_deg: 2.0}")
 
     def _check_products(self) -> None:
         allowed = S.TRANSIENT_PRODUCTS if self.transient is not None else S.PRODUCTS

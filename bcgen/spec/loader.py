@@ -26,6 +26,7 @@ from bcgen.solar_calendar.calendars import (
 from bcgen.spec import schema as S
 from bcgen.spec.common import FieldError, closest
 from bcgen.spec.experiment import ExperimentSpec
+from bcgen.spec.geography import GeographySpec
 from bcgen.spec.grid import GridSpec
 from bcgen.spec.model import (
     CalendarSpec,
@@ -355,6 +356,7 @@ def _build(values: Mapping, reader: _Reader, path: Path | None, text: str) -> Ex
         if "days" in table:
             table["days"] = tuple(table["days"])
         timestep_table = TimestepTableSpec(**table)
+    geography = GeographySpec.from_values(values["geography"]) if "geography" in values else None
     templates = _template_refs(values, "templates", reader.base_dir)
     attribute_templates = _template_refs(values, "attribute_templates", reader.base_dir)
     return ExperimentSpec(
@@ -367,6 +369,7 @@ def _build(values: Mapping, reader: _Reader, path: Path | None, text: str) -> Ex
         greenhouse_gases=gases,
         calendar=CalendarSpec(**values.get("calendar", {})),
         grid=grid,
+        geography=geography,
         insolation=InsolationSpec(**values.get("insolation", {})),
         timestep_table=timestep_table,
         templates=templates,

@@ -30,6 +30,13 @@ Defaults and where they come from
 ``output.compression_level: 4``, ``output.shuffle: true``
     Common practice: zlib levels above about 4 cost time for little gain on
     smooth fields, and the shuffle filter helps floating-point data.
+``geography.connectivity: edge``, ``geography.min_depth_m: 10``
+    An ocean model exchanges water through cell faces only, and needs a few metres
+    of water in every wet cell; 10 m is a round value of common practice.
+``geography.basins: lake``
+    Basins below sea level that the world ocean does not reach (the Caspian) stay
+    water bodies, labelled, and count as land in the land fraction, as CMIP's
+    land-area fraction counts lakes (common practice).
 ``transient.years_per_file: 100``
     Common practice for model forcing files (a century per file).
 """
@@ -41,6 +48,13 @@ from dataclasses import dataclass, field, replace
 from types import MappingProxyType
 from typing import Literal
 
+from bcgen.geography.options import (
+    BASIN_POLICIES,
+    CONNECTIVITIES,
+    ICE_KINDS,
+    SHALLOW_POLICIES,
+    STRAIT_ACTIONS,
+)
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS
 from bcgen.solar_calendar.calendars import ANCHOR_KINDS, CALENDAR_NAMES, MAX_MODEL_YEAR
 
@@ -568,6 +582,98 @@ SCHEMA: Mapping[str, Key] = _map(
         + ") or the path of your own template",
         item=Key("string", "a template"),
         min_items=1,
+    ),
+    geography=Key(
+        "mapping",
+        "paleogeography on the spec's grid (a time slice on a latitude-longitude grid): "
+        "relief, bathymetry, land and ice fractions, the land-sea mask and a change report",
+        keys=_map(
+            present=Key(
+                "mapping",
+                "the model's present-day relief (metres above present sea level, negative "
+                "under the sea): one `variable`, or `orography` and `bathymetry`",
+                required=True,
+                keys=_map(
+                    file=Key("path", "NetCDF file, relative to the spec's folder", required=True),
+                    variable=Key("string", "the relief variable (units of length)"),
+                    orography=Key("string", "surface height on land (0 on the sea), m"),
+                    bathymetry=Key("string", "sea depth, positive down (0 on land), m"),
+                ),
+            ),
+            reconstruction=Key(
+                "mapping",
+                "a reconstruction's surface at the epoch and at 0 ka, for the anomaly method",
+                keys=_map(
+                    file=Key("path", "NetCDF file, relative to the spec's folder", required=True),
+                    epoch_variable=Key("string", "surface at the epoch (length units)",
+                                       required=True),
+                    present_variable=Key("string", "surface at 0 ka (length units)",
+                                         required=True),
+                ),
+            ),
+            ice=Key(
+                "mapping",
+                "land ice at the epoch",
+                keys=_map(
+                    file=Key("path", "NetCDF file, relative to the spec's folder", required=True),
+                    variable=Key("string", "the ice variable", required=True),
+                    kind=Key("choice", "what the variable holds: thickness (length units) or "
+                             "fraction (area fraction, 1 or %)", default="thickness",
+                             choices=ICE_KINDS, noun="ice kind"),
+                ),
+            ),
+            sea_level_change_m=Key("number", "sea level at the epoch minus today's, m "
+                                   "(negative in a glacial)", default=0.0,
+                                   minimum=-1000.0, maximum=1000.0),
+            connectivity=Key("choice", "which neighbours connect ocean cells in the flood "
+                             "fill: edge (faces only, as ocean models need) or corner",
+                             default="edge", choices=CONNECTIVITIES, noun="connectivity"),
+            basins=Key("choice", "basins below sea level not connected to the world ocean: "
+                       "lake (kept as labelled lakes) or land", default="lake",
+                       choices=BASIN_POLICIES, noun="basin policy"),
+            min_depth_m=Key("number", "shallowest ocean cell, m", default=10.0, minimum=0.0),
+            shallow_cells=Key("choice", "ocean cells shallower than min_depth_m: deepen or land",
+                              default="deepen", choices=SHALLOW_POLICIES, noun="policy"),
+            mean_salinity=Key("number", "present global-mean ocean salinity (for the implied "
+                              "salinity change), e.g. 34.7", minimum=0.0,
+                              exclusive_minimum=True),
+            salinity=Key(
+                "mapping",
+                "a salinity climatology (depth, lat, lon) to compute the present mean from",
+                keys=_map(
+                    file=Key("path", "NetCDF file, relative to the spec's folder", required=True),
+                    variable=Key("string", "the salinity variable", required=True),
+                ),
+            ),
+            straits=Key(
+                "list",
+                "strait rules: passages to keep open or closed on the grid",
+                min_items=1,
+                item=Key(
+                    "mapping",
+                    "a strait rule",
+                    keys=_map(
+                        name=Key("string", "your name for the strait (used in the report)",
+                                 required=True),
+                        action=Key("choice", "open (carve ocean) or close (make land)",
+                                   required=True, choices=STRAIT_ACTIONS, noun="action"),
+                        path=Key("list", "points along the strait, in order", min_items=2,
+                                 item=Key("mapping", "a point", keys=_map(
+                                     lat_deg=replace(_LAT, required=True),
+                                     lon_deg=replace(_LON, required=True)))),
+                        box=Key("mapping", "cells whose centres lie in a box", keys=_map(
+                            lat_min_deg=replace(_LAT, required=True),
+                            lat_max_deg=replace(_LAT, required=True),
+                            lon_min_deg=replace(_LON, required=True),
+                            lon_max_deg=replace(_LON, required=True))),
+                        width_cells=Key("integer", "width of the passage in cells", default=1,
+                                        minimum=1, maximum=20),
+                        depth_m=Key("number", "depth of the carved cells, m (open only)",
+                                    default=0.0, minimum=0.0),
+                    ),
+                ),
+            ),
+        ),
     ),
     output=Key(
         "mapping",

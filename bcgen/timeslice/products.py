@@ -310,6 +310,10 @@ def make_outputs(ctx: BuildContext) -> list[Output]:
             raise SpecError(f"product {product!r} is not available in a time-slice build; "
                             f"expected one of {', '.join(PRODUCTS)}")
         outputs.extend(PRODUCTS[product](ctx))
+    if ctx.spec.geography is not None:
+        from bcgen.timeslice.geography import geography_outputs
+
+        outputs.extend(geography_outputs(ctx, Output))
     names = [o.file_name for o in outputs]
     dupes = sorted({n for n in names if names.count(n) > 1})
     if dupes:

@@ -1,0 +1,134 @@
+"""The geography section of a spec, the build's geography products and the geography figure.
+
+Uses the bundled invented example ``configs/glacial_demo.yaml`` (its inputs ship in
+``configs/glacial_example/``), so it runs without ETOPO5.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+import xarray as xr
+from cli_checks import one_error_line
+
+from bcgen.errors import SpecError
+from bcgen.spec import load_spec, parse_spec_text
+
+CONFIGS = Path(__file__).resolve().parent.parent / "configs"
+EXAMPLE = CONFIGS / "glacial_demo.yaml"
+DOME = CONFIGS / "glacial_example" / "ice_dome.nc"
+
+
+@pytest.fixture(scope="module")
+def built(tmp_path_factory):
+    from bcgen import build
+
+    out = tmp_path_factory.mktemp("glacial")
+    build(load_spec(EXAMPLE), out)
+    return out
+
+
+def test_example_builds_every_geography_product(built, cf_compliant):
+    files = {p.name for p in built.iterdir()}
+    assert {"glacial_demo_geography.nc", "glacial_demo_geography_report.txt",
+            "glacial_demo_geography_report.json", "glacial_demo_manifest.json"} <= files
+    path = built / "glacial_demo_geography.nc"
+    cf_compliant(path)
+    manifest = json.loads((built / "glacial_demo_manifest.json").read_text())
+    assert {f["file"] for f in manifest["files"]} >= {"glacial_demo_geography.nc"}
+    with xr.open_dataset(path) as ds:
+        ocean = ds.sea_mask.values == 1
+        # Ice only on land, and the binary mask follows the stated 0.5 rule.
+        assert np.all(ds.sftgif.values <= ds.sftlf.values + 1e-6)
+        assert np.array_equal(ds.sftlf.values >= 0.5, ~ocean)
+        assert np.all(np.isnan(ds.depth.values[~ocean])) and np.all(ds.depth.values[ocean] >= 10)
+        assert np.all(ds.orog.values[ocean] == 0)
+
+
+def test_example_report_conserves_the_ice_and_states_its_sea_level_equivalent(built):
+    report = json.loads((built / "glacial_demo_geography_report.json").read_text())
+    # Ice volume of the input computed here independently: thickness times the exact
+    # area of each 2-degree cell, R^2 dlon (sin lat2 - sin lat1) (spherical geometry).
+    from bcgen.geography.constants import EARTH_RADIUS_M
+
+    with xr.open_dataset(DOME) as ds:
+        h = ds.ice_thickness.values.astype(float)
+        lat_b = np.deg2rad(ds.lat_bnds.values)
+        dlon = np.deg2rad(2.0)
+    area = EARTH_RADIUS_M**2 * dlon * (np.sin(lat_b[:, 1]) - np.sin(lat_b[:, 0]))
+    volume = float(np.sum(h * area[:, None]))
+    ice = report["land_ice"]
+    assert ice["volume_m3"] == pytest.approx(volume, rel=1e-6)
+    assert ice["sea_level_change_used_m"] == -110.0
+    assert ice["sea_level_equivalent_m"] > 0
+    text = (built / "glacial_demo_geography_report.txt").read_text()
+    assert "sea-level equivalent" in text and "vs sea-level change used -110 m" in text
+    assert report["strait_rules"]["paleo"][0]["name"] == "Gibraltar"
+    assert "implied_change" in report["salinity"]
+
+
+def test_geography_figure_from_the_built_file(built, run_cli, tmp_path):
+    png = tmp_path / "g.png"
+    status, out, err = run_cli(["plot", "geography", built / "glacial_demo_geography.nc",
+                                "-o", png])
+    assert status == 0, err
+    assert png.stat().st_size > 10_000
+    status, _, err = run_cli(["plot", "geography", EXAMPLE, "-o", tmp_path / "x.png"])
+    assert status == 2 and "not a readable NetCDF file" in one_error_line(err)
+
+
+_SPEC = """\
+experiment: {{name: g}}
+epoch: 21ka
+grid: {grid}
+products: [orbit]
+geography:
+  present: {present}
+{extra}"""
+_PRESENT = "{file: glacial_example/relief_2deg.nc, variable: relief}"
+
+
+def _parse(grid="{kind: regular, resolution_deg: 10.0}", present=_PRESENT, extra=""):
+    return parse_spec_text(_SPEC.format(grid=grid, present=present, extra=extra), "g.yaml",
+                           base_dir=CONFIGS)
+
+
+@pytest.mark.parametrize("kwargs, message", [
+    ({"grid": "{kind: zonal, resolution_deg: 10.0}"},
+     r"geography: the geography needs a latitude-longitude grid"),
+    ({"present": "{file: glacial_example/relief_2deg.nc, variable: relief, orography: o}"},
+     r"geography.present: give either 'variable' \(the relief\) or both"),
+    ({"present": "{file: glacial_example/nothing.nc, variable: relief}"},
+     r"geography.present.file: relief file .*nothing.nc not found"),
+    ({"extra": "  connectivity: diagonal\n"},
+     r"geography.connectivity: unknown connectivity 'diagonal'; expected one of edge, corner"),
+    ({"extra": "  straits:\n    - {name: a, action: open, depth_m: 50}\n"},
+     r"geography.straits\[0\]: give either a 'path' of points or a 'box'"),
+    ({"extra": "  straits:\n    - {name: a, action: open, depth_m: 5, box: {lat_min_deg: 0, "
+               "lat_max_deg: 1, lon_min_deg: 0, lon_max_deg: 1}}\n"},
+     r"geography.straits\[0\].depth_m: an open strait needs a depth of at least min_depth_m"),
+])
+def test_geography_section_refusals_name_the_key(kwargs, message):
+    with pytest.raises(SpecError, match=message):
+        _parse(**kwargs)
+
+
+def test_orography_and_bathymetry_pair_is_read_as_relief(tmp_path):
+    from bcgen.grids import regular_grid
+    from bcgen.timeslice.geography import resolve_inputs
+
+    grid = regular_grid(10.0)
+    ds = grid.to_dataset()
+    land = np.where(np.abs(grid.lat_deg)[:, None] > 60, 1000.0, 0.0) * np.ones(grid.shape)
+    ds["oro"] = (grid.dims, land, {"units": "m"})
+    ds["bathy"] = (grid.dims, np.where(land > 0, 0.0, 4.0), {"units": "km"})
+    ds.to_netcdf(tmp_path / "pair.nc")
+    spec = parse_spec_text(_SPEC.format(grid="{kind: regular, resolution_deg: 20.0}",
+                                        present="{file: pair.nc, orography: oro, "
+                                                "bathymetry: bathy}", extra=""),
+                           "g.yaml", base_dir=tmp_path)
+    inputs, _, _ = resolve_inputs(spec.geography)
+    assert np.array_equal(inputs.present.values, np.where(land > 0, 1000.0, -4000.0))
