@@ -10,13 +10,15 @@ imported only by the functions that need them.
 >>> round(float(orbit.eccentricity), 6)
 0.018682
 
-No subpackage shares its name with a public function: ``bcgen.build`` is the function of
-:mod:`bcgen.timeslice` and ``bcgen.validate`` that of :mod:`bcgen.validation`.
+No subpackage shares its name with a public function: :func:`build` is defined here and
+hands a spec to :mod:`bcgen.timeslice` or :mod:`bcgen.transient`; ``bcgen.validate`` is
+the function of :mod:`bcgen.validation`.
 """
 
 from __future__ import annotations
 
 import importlib
+from typing import TYPE_CHECKING
 
 __version__ = "0.1.0"
 
@@ -58,7 +60,6 @@ _LAZY = {
     "summer_energy_gj_m2": "bcgen.insolation",
     "load_spec": "bcgen.spec",
     "parse_spec_text": "bcgen.spec",
-    "build": "bcgen.timeslice",
     "to_fixed_angle_months": "bcgen.convert",
     "to_fixed_day_months": "bcgen.convert",
     "validate": "bcgen.validation",
@@ -104,6 +105,44 @@ __all__ = [
     "to_fixed_day_months",
     "validate",
 ]
+
+
+if TYPE_CHECKING:
+    from bcgen.experiment import BuildResult
+    from bcgen.spec import ExperimentSpec
+
+
+def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
+          command: str | None = None) -> BuildResult:
+    """Build every product of a spec into ``output_dir`` (default: the spec's ``output.directory``).
+
+    A time slice is built by :func:`bcgen.timeslice.build_time_slice`, a transient run
+    by :func:`bcgen.transient.build_transient`.
+
+    Parameters
+    ----------
+    spec : ExperimentSpec
+        A validated spec (:func:`bcgen.spec.load_spec`).
+    output_dir : path, optional
+        Folder for the outputs; created if missing.
+    force : bool
+        Replace existing outputs.
+    command : str, optional
+        The command line, recorded in each file's ``history``.
+
+    Returns
+    -------
+    BuildResult
+        The files written (name, bytes, sha256, product, description) and the
+        comparison with the spec's expected orbit values, if any.
+    """
+    if spec.is_transient:
+        from bcgen.transient import build_transient
+
+        return build_transient(spec, output_dir, force=force, command=command)
+    from bcgen.timeslice import build_time_slice
+
+    return build_time_slice(spec, output_dir, force=force, command=command)
 
 
 def __getattr__(name: str):

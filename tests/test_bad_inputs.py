@@ -212,8 +212,8 @@ def transient_disk_full(monkeypatch, after: int = 0) -> None:
 
 def built_before(folder: Path, monkeypatch) -> None:
     """Build ok.yaml into ``out/`` first (outputs that a failing --force build must keep)."""
+    from bcgen import build
     from bcgen.spec import load_spec
-    from bcgen.timeslice import build
 
     build(load_spec(folder / "ok.yaml"), folder / "out")
 

@@ -21,10 +21,10 @@ import xarray as xr
 from cf_checker import assert_cf_compliant
 from published_tables import PMIP1_SPEC_HEAD, PMIP1_TODAY_WM2  # Bonfils et al. 1998
 
+from bcgen import build
 from bcgen.cli import main
 from bcgen.errors import InputFileError, OutputError
 from bcgen.spec import load_spec, parse_spec_text
-from bcgen.timeslice import build
 
 CONFIGS = Path(__file__).resolve().parent.parent / "configs"
 PROTOCOLS = sorted((CONFIGS / "protocols").glob("*.yaml"))

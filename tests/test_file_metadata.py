@@ -16,9 +16,9 @@ from pathlib import Path
 import netCDF4
 import pytest
 
+from bcgen import build
 from bcgen.errors import InputFileError
 from bcgen.spec import parse_spec_text
-from bcgen.timeslice import build
 
 REPO = Path(__file__).resolve().parents[1]
 TEMPLATE = REPO / "templates" / "cmip_forcing_attributes.json.in"

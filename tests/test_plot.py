@@ -56,8 +56,8 @@ products: [orbit]
 @pytest.fixture(scope="module")
 def built(tmp_path_factory):
     """The PMIP1 spec and the files `bcgen build` writes from it."""
+    from bcgen import build
     from bcgen.spec import load_spec
-    from bcgen.timeslice import build
 
     folder = tmp_path_factory.mktemp("built")
     spec = folder / "pmip1.yaml"

@@ -59,8 +59,8 @@ def all_texts(fig) -> list[str]:
 
 @pytest.fixture(scope="module")
 def zonal_file(tmp_path_factory):
+    from bcgen import build
     from bcgen.spec import parse_spec_text
-    from bcgen.timeslice import build
 
     folder = tmp_path_factory.mktemp("reading")
     result = build(parse_spec_text(ZONAL_10DEG), folder)

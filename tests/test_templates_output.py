@@ -13,8 +13,8 @@ import subprocess
 
 import pytest
 
+from bcgen import build
 from bcgen.spec import parse_spec_text
-from bcgen.timeslice import build
 
 SPEC = """\
 experiment: {name: lig127k-T63}

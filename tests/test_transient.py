@@ -4,7 +4,7 @@ Sources of the expected values:
 - the model-year mapping is the one documented in ``bcgen.spec.TransientSpec``
   and ``configs/demo.yaml`` (model year first + k has the epoch start + k x acceleration);
   the expected epochs below are worked out by hand from it;
-- time-slice products come from ``bcgen.timeslice.build`` on an equivalent time-slice
+- time-slice products come from ``bcgen.build`` on an equivalent time-slice
   spec (the main job's code path), which the transient series must reproduce;
 - dates on the model calendar are converted by cftime (a reference library),
   not by bcgen;
@@ -34,12 +34,12 @@ from io_faults import FailingBackend, RecordingBackend
 
 import bcgen.transient.pipeline as pipeline
 import bcgen.transient.series as series_module
+from bcgen import build
 from bcgen.cli import main
 from bcgen.errors import InputFileError, OutputError
 from bcgen.io import SeriesFile, set_backend, sha256_of
 from bcgen.orbit import solve
 from bcgen.spec import load_spec
-from bcgen.timeslice import build
 from bcgen.transient import build_transient
 from bcgen.transient.gases import load_gas_table
 from bcgen.transient.progress import Progress, format_duration

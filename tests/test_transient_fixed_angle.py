@@ -22,11 +22,11 @@ import netCDF4
 import numpy as np
 import pytest
 
+from bcgen import build
 from bcgen.orbit import solve
 from bcgen.solar_calendar import Anchor, ModelCalendar
 from bcgen.solar_calendar.months import fixed_angle_months
 from bcgen.spec import load_spec
-from bcgen.timeslice import build
 from bcgen.transient import build_transient
 
 #: Float64 values (bounds, month tables): agreement to the issue's tolerance.

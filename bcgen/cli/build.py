@@ -42,8 +42,8 @@ def register(subparsers) -> argparse.ArgumentParser:
 
 def run(args: argparse.Namespace) -> int:
     """Build, print the summary, return the exit status."""
+    from bcgen import build
     from bcgen.spec import load_spec
-    from bcgen.timeslice import build
 
     spec = load_spec(args.spec)
     command = "bcgen " + " ".join(shlex.quote(a) for a in sys.argv[1:]) if sys.argv else None
@@ -77,7 +77,7 @@ def summarize(result) -> dict:
         "solar_constant_wm2": spec.solar_constant_wm2,
         "greenhouse_gases": {g.name: {"value": g.value, "units": g.units}
                              for g in spec.greenhouse_gases},
-        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_text},
+        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_in_words},
         "global_annual_mean_insolation_wm2": ctx.global_annual_mean_wm2,
         "expected_orbit_checks": [
             {"name": c.name, "expected": c.expected, "computed": c.computed,

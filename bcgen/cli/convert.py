@@ -105,17 +105,16 @@ def _orbit_and_calendar(args):
                          + (f" (got {', '.join(given)})" if given else ""))
     reference = anchor = calendar = None
     if args.spec is not None:
+        from bcgen.experiment import Experiment
         from bcgen.spec import load_spec
 
-        spec = load_spec(args.spec)
-        orbit = spec.resolve_orbit()
+        experiment = Experiment(load_spec(args.spec))
+        orbit = experiment.orbit
         if orbit.shape not in ((), (1,)):
             raise OrbitError(f"{args.spec}: a transient spec has one orbit per model year; "
                              "convert needs one orbit (use --epoch for each segment)")
-        reference = spec.insolation.resolve_reference_orbit()
-        anchor = parse_anchor(spec.calendar.date, spec.calendar.anchor,
-                              source=f"{args.spec}: calendar.date")
-        calendar = spec.calendar.name
+        reference = experiment.reference_orbit
+        anchor, calendar = experiment.calendar.anchor, experiment.calendar.name
     elif args.epoch is not None:
         orbit = solve(parse_epoch(args.epoch))
     else:

@@ -119,15 +119,13 @@ class Settings:
         return f"{self.calendar.name}, {what} {a.label}"
 
 
-def _settings_from_spec(spec) -> Settings:
-    from bcgen.timeslice.context import model_calendar
-
+def _settings_from_experiment(experiment) -> Settings:
     return Settings(
-        calendar=model_calendar(spec),
-        solar_constant_wm2=float(spec.solar_constant_wm2),
-        reference_epoch=spec.insolation.reference_epoch,
-        daily_method=spec.insolation.daily_method,
-        year=spec.first_model_year,
+        calendar=experiment.calendar,
+        solar_constant_wm2=experiment.solar_constant_wm2,
+        reference_epoch=experiment.spec.insolation.reference_epoch,
+        daily_method=experiment.daily_method,
+        year=experiment.year,
     )
 
 
@@ -141,6 +139,13 @@ def _load_spec(path: str):
     from bcgen.spec import load_spec
 
     return load_spec(path)
+
+
+def _experiment(spec):
+    """Resolve the spec once (:class:`bcgen.experiment.Experiment`)."""
+    from bcgen.experiment import Experiment
+
+    return Experiment(spec)
 
 
 _KIND_WORDS = {"epoch": "one epoch", "range": "a range of epochs", "spec": "a spec",
@@ -276,8 +281,9 @@ def monthly_field(
                 f"{source} is a transient spec; insolation figures need a time slice "
                 "('epoch:'), an epoch or a built file"
             )
-        settings = _settings_from_spec(spec)
-        orbit = spec.resolve_orbit()
+        experiment = _experiment(spec)
+        settings = _settings_from_experiment(experiment)
+        orbit = experiment.orbit
         label = f"{spec.experiment.name} ({spec.epoch})"
     else:
         if like is not None and calendar is None:
@@ -463,7 +469,8 @@ def _settings_from_file(ds, path: Path) -> Settings:
         from bcgen.spec import parse_spec_text
 
         try:
-            return _settings_from_spec(parse_spec_text(str(text), f"{path.name}:bcgen_spec"))
+            return _settings_from_experiment(
+                _experiment(parse_spec_text(str(text), f"{path.name}:bcgen_spec")))
         except BcgenError:
             pass  # e.g. a grid or table file the spec names is not here: use the attributes
     time = ds["time"] if "time" in ds.variables else None
@@ -545,8 +552,9 @@ def month_lengths(source: str, reference: str | None = None,
         spec = _load_spec(source)
         if spec.is_transient:
             raise SourceError(f"{source} is a transient spec; month lengths need a time slice")
-        settings = _settings_from_spec(spec)
-        orbit = spec.resolve_orbit()
+        experiment = _experiment(spec)
+        settings = _settings_from_experiment(experiment)
+        orbit = experiment.orbit
         label = f"{spec.experiment.name} ({spec.epoch})"
     else:
         settings = _epoch_settings(calendar)
@@ -606,7 +614,8 @@ def orbit_series(source: str) -> OrbitSeries:
             t = spec.transient
             label = (f"{spec.experiment.name} (transient {t.start_epoch} to {t.end_epoch}, "
                      f"{t.acceleration} yr per model year)")
-            return OrbitSeries(spec.resolve_orbit(), label, float(spec.solar_constant_wm2))
+            experiment = _experiment(spec)
+            return OrbitSeries(experiment.orbit, label, experiment.solar_constant_wm2)
     what = "a time-slice spec" if kind == "spec" else _KIND_WORDS[kind]
     raise SourceError(
         f"source {source} is {what}; the orbit figure needs a range of epochs such as "

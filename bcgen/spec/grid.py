@@ -169,28 +169,6 @@ class GridSpec:
             )
 
     # --- derived -----------------------------------------------------------------------------
-    def build(self):
-        """Build the :class:`bcgen.grids.Grid` this spec describes (centres and bounds)."""
-        from bcgen import grids
-
-        if self.kind == "gaussian":
-            return grids.gaussian_grid(self.nlat, self.nlon)
-        if self.kind == "file":
-            return grids.grid_from_file(self.path, lat_name=self.lat_name, lon_name=self.lon_name)
-        lat_step = self.lat_resolution_deg or self.resolution_deg
-        if self.kind == "zonal":
-            return grids.zonal_grid(lat_step, lat_deg=self.latitudes_deg)
-        lon_step = self.lon_resolution_deg or self.resolution_deg
-        if lat_step and lon_step:
-            return grids.regular_grid((lat_step, lon_step))
-        # A step is the same grid as 180/step (360/step) equal cells.
-        return grids.regular_grid(
-            lat_deg=self.latitudes_deg,
-            lon_deg=self.longitudes_deg,
-            nlat=round(180.0 / lat_step) if lat_step else None,
-            nlon=round(360.0 / lon_step) if lon_step else None,
-        )
-
     @property
     def has_longitude(self) -> bool:
         """False for a zonal (latitude-only) grid."""

@@ -1,6 +1,6 @@
 """The main job: an experiment spec in, every product it asks for out, with a manifest.
 
-:func:`build` resolves the spec once (:class:`~bcgen.timeslice.context.BuildContext`),
+:func:`build_time_slice` resolves the spec once (:class:`~bcgen.timeslice.context.BuildContext`),
 computes every product (:mod:`bcgen.timeslice.products`) before writing anything,
 refuses to overwrite existing outputs without ``force`` before writing
 anything, takes the output folder's lock (:class:`bcgen.io.lock.FolderLock`: one
@@ -9,7 +9,7 @@ and what it holds) into a hidden staging folder inside the output folder, and
 replaces the old set by the new one all at once (:func:`bcgen.io.staging.replace_all`),
 so that a failure (disk full, a file that cannot be replaced) or an interrupt leaves
 the output folder as it was, and the manifest always matches the folder. A transient
-spec is handed to :mod:`bcgen.transient`.
+spec is built by :mod:`bcgen.transient`; :func:`bcgen.build` chooses between the two.
 """
 
 from __future__ import annotations
@@ -17,11 +17,14 @@ from __future__ import annotations
 import json
 import os
 import shutil
-from dataclasses import dataclass, field
 from pathlib import Path
 
-from bcgen import __version__
+from bcgen import (
+    __version__,
+    build,  # noqa: F401  (the public bcgen.build, for older imports)
+)
 from bcgen.errors import OutputError
+from bcgen.experiment import BuildResult, manifest_name
 from bcgen.io import prepare_output_folder, sha256_of, write_netcdf, write_text_atomic
 from bcgen.io.lock import FolderLock
 from bcgen.io.staging import make_stage, replace_all, sweep_stale_temporaries
@@ -29,33 +32,18 @@ from bcgen.spec import ExperimentSpec
 from bcgen.timeslice.context import BuildContext
 from bcgen.timeslice.products import PRODUCTS, Output, make_outputs
 
-__all__ = ["PRODUCTS", "BuildResult", "build"]
+__all__ = ["PRODUCTS", "BuildResult", "build_time_slice"]
 
 
-@dataclass
-class BuildResult:
-    """What a build wrote and what it checked."""
-
-    directory: Path
-    files: list[dict] = field(default_factory=list)
-    manifest: Path | None = None
-    context: BuildContext | None = None
-    orbit_checks: tuple = ()
-
-    @property
-    def agrees_with_expected(self) -> bool:
-        """False if any published expected value disagrees with the computed orbit."""
-        return all(check.agrees for check in self.orbit_checks)
-
-
-def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
-          command: str | None = None) -> BuildResult:
-    """Build every product of a spec into ``output_dir`` (default: the spec's ``output.directory``).
+def build_time_slice(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
+                     command: str | None = None) -> BuildResult:
+    """Build every product of a time-slice spec into ``output_dir`` (default: ``output.directory``).
 
     Parameters
     ----------
     spec : ExperimentSpec
-        A validated spec (:func:`bcgen.spec.load_spec`).
+        A validated time-slice spec (:func:`bcgen.spec.load_spec`); :func:`bcgen.build`
+        hands a transient spec to :func:`bcgen.transient.build_transient` instead.
     output_dir : path, optional
         Folder for the outputs; created if missing.
     force : bool
@@ -69,10 +57,6 @@ def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
         The files written (name, bytes, sha256, product, description) and the
         comparison with the spec's expected orbit values, if any.
     """
-    if spec.is_transient:
-        from bcgen.transient import build_transient
-
-        return build_transient(spec, output_dir, force=force, command=command)
     directory = Path(output_dir if output_dir is not None else spec.output.directory)
     ctx = BuildContext(spec, command=command)
     outputs = make_outputs(ctx)
@@ -120,11 +104,6 @@ def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
             directory.rmdir()
     result.manifest = manifest_path
     return result
-
-
-def manifest_name(spec: ExperimentSpec) -> str:
-    """File name of the build's manifest."""
-    return f"{spec.experiment.name}_manifest.json"
 
 
 def _refuse_existing(directory: Path, names: list[str], force: bool) -> None:
@@ -179,7 +158,7 @@ def _write_manifest(path: Path, ctx: BuildContext, result: BuildResult, force: b
         "created": ctx.created.strftime("%Y-%m-%dT%H:%M:%SZ"),
         "orbit": o.as_record(),
         "solar_constant_wm2": ctx.spec.solar_constant_wm2,
-        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_text},
+        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_in_words},
         "files": result.files,
     }
     if result.orbit_checks:

@@ -1,119 +1,46 @@
-"""Everything a time-slice build needs, resolved once from the experiment spec."""
+"""What a time-slice build adds to the resolved experiment: the global mean, file attributes."""
 
 from __future__ import annotations
 
+import json
 from dataclasses import dataclass
-from datetime import datetime, timezone
 from functools import cached_property
 from pathlib import Path
 
 import numpy as np
 
 from bcgen import __version__
-from bcgen.grids import Grid, gaussian_grid, grid_from_file, regular_grid, zonal_grid
+from bcgen.experiment import Experiment
 from bcgen.insolation import annual_mean_insolation_wm2
-from bcgen.orbit import SOLUTIONS, OrbitalElements
-from bcgen.solar_calendar.calendars import ModelCalendar
-from bcgen.spec import ExperimentSpec
-from bcgen.writer import provenance_attrs
+from bcgen.insolation.quadrature import integrate_between_kinks
 
 #: input4MIPs dataset categories of the products (from memory): gases have their own, the
 #: orbit, solar constant and insolation are solar forcing.
 DATASET_CATEGORIES = {"greenhouse_gases": "GHGConcentrations"}
 
-#: Gauss-Legendre nodes per latitude segment for the printed global annual mean.
-_GLOBAL_MEAN_NODES = 48
 
+@dataclass(eq=False)
+class BuildContext(Experiment):
+    """The experiment of a time-slice build, with its global mean and file attributes.
 
-def model_calendar(spec: ExperimentSpec) -> ModelCalendar:
-    """Return the spec's calendar with its anchor as a :class:`ModelCalendar`."""
-    return spec.calendar.model_calendar()
-
-
-def make_grid(spec: ExperimentSpec) -> Grid | None:
-    """Return the spec's grid (None when the spec has none)."""
-    g = spec.grid
-    if g is None:
-        return None
-    if g.kind == "gaussian":
-        return gaussian_grid(g.nlat, g.nlon)
-    if g.kind == "file":
-        return grid_from_file(g.path, lat_name=g.lat_name, lon_name=g.lon_name)
-    lat_step = g.lat_resolution_deg or g.resolution_deg
-    if g.kind == "zonal":
-        if g.latitudes_deg is not None:
-            return zonal_grid(lat_deg=g.latitudes_deg)
-        return zonal_grid(resolution_deg=lat_step)
-    lon_step = g.lon_resolution_deg or g.resolution_deg
-    if g.latitudes_deg is None and g.longitudes_deg is None:
-        return regular_grid((lat_step, lon_step))
-    lat = g.latitudes_deg
-    if lat is None:
-        lat = regular_grid((lat_step, 360)).lat_deg
-    lon = g.longitudes_deg
-    if lon is None:
-        lon = regular_grid((180, lon_step)).lon_deg
-    return regular_grid(lat_deg=lat, lon_deg=lon)
-
-
-@dataclass(frozen=True)
-class BuildContext:
-    """The resolved inputs of a time-slice build (orbit, calendar, grid, provenance)."""
-
-    spec: ExperimentSpec
-    command: str | None = None
-
-    @cached_property
-    def orbit(self) -> OrbitalElements:
-        """Orbital elements of the time slice (scalar)."""
-        return self.spec.resolve_orbit()
-
-    @cached_property
-    def reference_orbit(self) -> OrbitalElements:
-        """Reference orbit of fixed-angle months."""
-        return self.spec.resolve_reference_orbit()
-
-    @cached_property
-    def calendar(self) -> ModelCalendar:
-        """Model calendar with its anchor."""
-        return model_calendar(self.spec)
-
-    @cached_property
-    def grid(self) -> Grid | None:
-        """The grid of the insolation products."""
-        return make_grid(self.spec)
-
-    @property
-    def year(self) -> int:
-        """The model year the time-slice files are dated in."""
-        return self.spec.first_model_year
-
-    @cached_property
-    def created(self) -> datetime:
-        """One creation time for every file of the build."""
-        return datetime.now(timezone.utc).replace(microsecond=0)
-
-    @cached_property
-    def unique_latitudes_deg(self) -> tuple[np.ndarray, np.ndarray]:
-        """Distinct latitudes of the grid and the index of each grid point into them."""
-        return self.grid.unique_latitudes_deg()
+    Everything resolved from the spec comes from :class:`~bcgen.experiment.Experiment`.
+    """
 
     @cached_property
     def global_annual_mean_wm2(self) -> float:
         """Area-weighted global and annual mean TOA insolation from the engine, W m-2.
 
-        Gauss-Legendre quadrature in sin(latitude), split at the polar circles where
-        the annual-mean profile has kinks (so the result is exact to ~1e-10 relative).
+        The annual mean integrated over sin(latitude) by the engine's quadrature
+        (:func:`bcgen.insolation.quadrature.integrate_between_kinks`), split at the polar
+        circles where the annual-mean profile has kinks.
         """
-        x, w = np.polynomial.legendre.leggauss(_GLOBAL_MEAN_NODES)
         edge = float(np.cos(np.deg2rad(self.orbit.obliquity_deg)))
-        total = 0.0
-        for lo, hi in ((-1.0, -edge), (-edge, edge), (edge, 1.0)):
-            mu = 0.5 * (hi - lo) * x + 0.5 * (hi + lo)
-            annual = annual_mean_insolation_wm2(self.orbit, np.rad2deg(np.arcsin(mu)),
-                                                self.spec.solar_constant_wm2)
-            total += 0.5 * (hi - lo) * float(np.sum(annual * w))
-        return total / 2.0
+
+        def annual(mu):
+            return annual_mean_insolation_wm2(self.orbit, np.rad2deg(np.arcsin(mu)),
+                                              self.solar_constant_wm2)
+
+        return float(integrate_between_kinks(annual, -1.0, 1.0, [-edge, edge])) / 2.0
 
     def attributes(self, title: str, ds=None, *, file_name: str | None = None,
                    product: str | None = None) -> dict[str, str]:
@@ -137,30 +64,18 @@ class BuildContext:
         spec = self.spec
         extra = dict(spec.attributes)
         institution = extra.pop("institution", None)
-        comment = extra.pop("comment", None)
-        references = [r for r in (extra.pop("references", None),) if r]
-        solution = SOLUTIONS[self.orbit.solution]
         time_note = metadata.time_comment(ds) if ds is not None else None
-        notes = "\n".join(n for n in (time_note, comment) if n) or None
-        attrs = provenance_attrs(
-            spec.text or "",
-            solution.REFERENCE,
-            title=title,
-            institution=institution,
-            solution=self.orbit.solution,
-            references=references,
-            comment=notes,
-            time_slice=False,  # the time note above fits each file's own time axis
-            command=self.command,
-            created=self.created,
-            extra=extra,
-        )
+        notes = "\n".join(n for n in (time_note, extra.get("comment")) if n) or None
+        for key in ("comment", "references"):
+            extra.pop(key, None)
+        # time_slice=False: the time note above fits each file's own time axis
+        attrs = self.provenance(title, time_slice=False, comment=notes)
         attrs["experiment"] = spec.experiment.name
         if spec.experiment.description:
             attrs["experiment_description"] = spec.experiment.description
         attrs["epoch"] = spec.epoch
         attrs["epoch_years_bp"] = float(-spec.years_from_1950)
-        attrs["calendar_anchor"] = self.anchor_text
+        attrs["calendar_anchor"] = self.anchor_in_words
         if spec.sha256:
             attrs["bcgen_spec_sha256"] = spec.sha256
         attrs["bcgen_version"] = __version__
@@ -191,8 +106,6 @@ class BuildContext:
         (``file_values``: output_file, title, frequency, variable_id, tracking_id,
         dataset_category); values are written as text (numbers as written in the JSON).
         """
-        import json
-
         from bcgen.errors import InputFileError
         from bcgen.render import bundled_template_path, render_file
 
@@ -218,8 +131,3 @@ class BuildContext:
         from bcgen.timeslice.values import template_values
 
         return template_values(self)
-
-    @property
-    def anchor_text(self) -> str:
-        """The calendar anchor in words."""
-        return self.calendar.anchor_in_words()

@@ -209,7 +209,7 @@ def month_table_product(ctx: BuildContext) -> list[Output]:
                                year=ctx.year)
     out = io.StringIO()
     out.write(f"# month definitions for {ctx.spec.experiment.name}, epoch {ctx.spec.epoch}; "
-              f"{ctx.anchor_text}\n")
+              f"{ctx.anchor_in_words}\n")
     out.write("# days are fractional days after 1 January 00:00 of the model year; fixed-angle "
               "months span the true-longitude arcs of the calendar months of the reference "
               f"orbit ({ctx.spec.insolation.reference_epoch})\n")
@@ -244,7 +244,8 @@ def timestep_table_product(ctx: BuildContext) -> list[Output]:
             for p in points]
     out = io.StringIO()
     out.write(f"# per-timestep reference values for {ctx.spec.experiment.name}, epoch "
-              f"{ctx.spec.epoch}, timestep {spec.timestep_minutes:g} minutes; {ctx.anchor_text}\n")
+              f"{ctx.spec.epoch}, timestep {spec.timestep_minutes:g} minutes; "
+              f"{ctx.anchor_in_words}\n")
     out.write("# time_days: days after 1 January 00:00 of the model year at the START of the "
               "timestep; instantaneous insolation uses mean solar time from longitude "
               "(no equation of time)\n")

@@ -47,11 +47,11 @@ import numpy as np
 from bcgen import __version__
 from bcgen.epochs import format_epoch
 from bcgen.errors import OutputError, SpecError
+from bcgen.experiment import BuildResult, manifest_name
 from bcgen.io import SeriesFile, prepare_output_folder, sha256_of, write_failure
 from bcgen.io.lock import FolderLock
 from bcgen.io.staging import sweep_stale_temporaries
 from bcgen.spec import ExperimentSpec
-from bcgen.timeslice import BuildResult, manifest_name
 from bcgen.transient.gases import GasTable, load_gas_table
 from bcgen.transient.manifest import decide, read_manifest, records_by_file, write_manifest
 from bcgen.transient.pipeline import ChunkProducer
@@ -401,7 +401,7 @@ def _manifest_header(ctx: RunContext) -> dict:
         },
         "orbit_solution": spec.orbit.solution,
         "solar_constant_wm2": spec.solar_constant_wm2,
-        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_text},
+        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_in_words},
         "time_units": f"days since {ctx.reference_year:04d}-01-01 00:00:00",
     }
 
@@ -418,7 +418,7 @@ def _summary(ctx: RunContext, series: dict[str, Series]) -> dict:
         "years_per_file": tr.years_per_file,
         "orbit_solution": ctx.spec.orbit.solution,
         "solar_constant_wm2": ctx.spec.solar_constant_wm2,
-        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_text},
+        "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_in_words},
     }
     if "greenhouse_gases" in series:
         out["greenhouse_gases"] = series["greenhouse_gases"].method_text

@@ -19,8 +19,7 @@ year of the calendar, exactly as a time slice dated in that year would be.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
-from datetime import datetime, timezone
+from dataclasses import dataclass
 from functools import cached_property
 
 import cftime
@@ -29,17 +28,16 @@ import numpy as np
 from bcgen import __version__
 from bcgen.cf import variable_attrs
 from bcgen.errors import InputFileError
+from bcgen.experiment import Experiment
 from bcgen.grids import Grid
 from bcgen.insolation import daily_insolation, monthly_insolation
 from bcgen.insolation.daily import DAILY_METHODS, DAY_AVERAGE_NODES
 from bcgen.insolation.monthly import MONTHLY_AVERAGING
 from bcgen.io import SeriesFile
-from bcgen.orbit import SOLUTIONS, OrbitalElements
-from bcgen.solar_calendar.calendars import FIXED_YEAR_DAYS, ModelCalendar
+from bcgen.orbit import OrbitalElements
+from bcgen.solar_calendar.calendars import FIXED_YEAR_DAYS
 from bcgen.solar_calendar.months import MonthTable, fixed_angle_months, fixed_day_months
-from bcgen.spec import ExperimentSpec
 from bcgen.transient.gases import INTERPOLATION_METHODS, GasTable, load_gas_table, output_units
-from bcgen.writer import provenance_attrs
 
 #: Bytes of float64 work arrays one insolation chunk may use (sets the model years per
 #: chunk; the peak memory of a build is a small multiple of it, whatever the run's length).
@@ -69,15 +67,12 @@ _YEARLY = "held constant through each model year: the value at the epoch of the 
 
 
 # --- the resolved run -------------------------------------------------------------------------
-@dataclass
-class RunContext:
-    """Everything a transient build needs, resolved once from the spec."""
+@dataclass(eq=False)
+class RunContext(Experiment):
+    """The experiment of a transient run, with its gas table and model-year arithmetic.
 
-    spec: ExperimentSpec
-    command: str | None = None
-    created: datetime = field(
-        default_factory=lambda: datetime.now(timezone.utc).replace(microsecond=0)
-    )
+    Everything resolved from the spec comes from :class:`~bcgen.experiment.Experiment`.
+    """
 
     def __post_init__(self) -> None:
         if self.spec.transient is None:
@@ -85,25 +80,6 @@ class RunContext:
         self.transient = self.spec.transient
         self.reference_year = self.transient.first_model_year
         self._year_length: dict[int, int] = {}
-
-    @cached_property
-    def calendar(self) -> ModelCalendar:
-        """The model calendar with its anchor."""
-        from bcgen.timeslice.context import model_calendar
-
-        return model_calendar(self.spec)
-
-    @cached_property
-    def grid(self) -> Grid | None:
-        """The grid of the insolation products (None if the spec has none)."""
-        from bcgen.timeslice.context import make_grid
-
-        return make_grid(self.spec)
-
-    @cached_property
-    def unique_latitudes(self) -> tuple[np.ndarray, np.ndarray]:
-        """Distinct latitudes of the grid and the index of each grid point into them."""
-        return self.grid.unique_latitudes_deg()
 
     @cached_property
     def gas_table(self) -> GasTable | None:
@@ -129,42 +105,19 @@ class RunContext:
         """
         _ = self.calendar
         if self.spec.grid is not None:
-            _ = self.unique_latitudes
+            _ = self.unique_latitudes_deg
         if gases:
             _ = self.gas_table
         _ = self.orbit_table
-
-    @cached_property
-    def reference_orbit(self) -> OrbitalElements:
-        """The reference orbit of fixed-angle months (the spec's ``insolation.reference_epoch``)."""
-        return self.spec.resolve_reference_orbit()
-
-    @cached_property
-    def orbit_table(self) -> OrbitalElements | None:
-        """The orbit table of solution ``table``, read once (None for other solutions)."""
-        if self.spec.orbit.solution != "table":
-            return None
-        from bcgen.orbit import table
-
-        return table.load(self.spec.orbit.table)
-
-    @property
-    def anchor_text(self) -> str:
-        """The calendar anchor in words."""
-        return self.calendar.anchor_in_words()
 
     # --- years and epochs --------------------------------------------------------------------
     def epochs(self, years: np.ndarray) -> np.ndarray:
         """Epochs (years from 1950 CE) of model years."""
         return self.transient.epochs_of_model_years(years)
 
-    def orbit(self, years: np.ndarray) -> OrbitalElements:
+    def orbit_of_years(self, years: np.ndarray) -> OrbitalElements:
         """Orbital elements of model years (one set per year)."""
-        if self.orbit_table is not None:
-            from bcgen.orbit import table
-
-            return table.interpolate(self.orbit_table, self.epochs(years))
-        return self.spec.orbit.resolve(self.epochs(years))
+        return self.orbit_at(self.epochs(years))
 
     def year_length(self, year: int) -> int:
         """Days in a model year of the calendar (cached)."""
@@ -220,23 +173,7 @@ class RunContext:
     def attributes(self, title: str, first: int, last: int) -> dict[str, object]:
         """Global attributes of one file of model years ``first`` … ``last``."""
         spec, tr = self.spec, self.transient
-        extra = dict(spec.attributes)
-        institution = extra.pop("institution", None)
-        comment = extra.pop("comment", None)
-        references = [r for r in (extra.pop("references", None),) if r]
-        attrs = provenance_attrs(
-            spec.text or "",
-            SOLUTIONS[spec.orbit.solution].REFERENCE,
-            title=title,
-            institution=institution,
-            solution=spec.orbit.solution,
-            references=references,
-            comment=comment,
-            time_slice=False,
-            command=self.command,
-            created=self.created,
-            extra=extra,
-        )
+        attrs = self.provenance(title, time_slice=False)
         e0, e1 = self.epochs(np.array([first, last]))
         attrs.update(
             {
@@ -254,7 +191,7 @@ class RunContext:
                 "last_model_year": np.int32(last),
                 "first_epoch_years_bp": float(-e0),
                 "last_epoch_years_bp": float(-e1),
-                "calendar_anchor": self.anchor_text,
+                "calendar_anchor": self.anchor_in_words,
                 "bcgen_spec_sha256": spec.sha256,
                 "bcgen_version": __version__,
             }
@@ -363,7 +300,7 @@ class OrbitSeries(Series):
         return [*names, "precession_index", "epoch_years_bp"]
 
     def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:  # noqa: D102
-        o = self.ctx.orbit(years)
+        o = self.ctx.orbit_of_years(years)
         return {
             "eccentricity": o.eccentricity,
             "obliquity": o.obliquity_deg,
@@ -469,7 +406,7 @@ class InsolationSeries(Series):
         return self.ctx.spec.insolation.daily_method
 
     def chunk_years(self) -> int:  # noqa: D102
-        n_unique = self.ctx.unique_latitudes[0].size
+        n_unique = self.ctx.unique_latitudes_deg[0].size
         nodes = DAY_AVERAGE_NODES if self.method == "day_average" else 1
         per_year = n_unique * 366 * nodes * 8 * _TEMPORARIES
         return max(1, COMPUTE_BUDGET_BYTES // per_year)
@@ -489,8 +426,8 @@ class InsolationSeries(Series):
     def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:
         """Compute (T, n_unique_latitudes) float64 rows, grouping years of one calendar kind."""
         ctx = self.ctx
-        lat, _ = ctx.unique_latitudes
-        orbit = ctx.orbit(years)
+        lat, _ = ctx.unique_latitudes_deg
+        orbit = ctx.orbit_of_years(years)
         counts = np.array([len(self.year_bounds(int(y))) for y in years])
         offsets = np.concatenate([[0], np.cumsum(counts)])
         rows = np.empty((offsets[-1], lat.size))
@@ -508,7 +445,7 @@ class InsolationSeries(Series):
     def write(self, sf: SeriesFile, name: str, values: np.ndarray) -> None:
         """Spread rows over the grid and append them in slabs of at most WRITE_BUDGET_BYTES."""
         grid = self.ctx.grid
-        _, index = self.ctx.unique_latitudes
+        _, index = self.ctx.unique_latitudes_deg
         per_step = 4 * int(np.prod(grid.shape))
         slab = max(1, WRITE_BUDGET_BYTES // per_step)
         for lo in range(0, values.shape[0], slab):
@@ -635,7 +572,7 @@ class MonthlyFixedAngleSeries(MonthlyFixedDaySeries):
         """Fixed-angle months of model years (each with its orbit and its calendar year)."""
         years = np.asarray(years)
         ctx = self.ctx
-        orbit = ctx.orbit(years)
+        orbit = ctx.orbit_of_years(years)
         start = np.empty((years.size, 12))
         length = np.empty((years.size, 12))
         lam = np.empty((years.size, 12))
@@ -726,13 +663,13 @@ class MonthTableSeries(Series):
             sf.define_variable(name, "f8", ("time",), attrs, compress=True)
         sf.set_attributes({
             "reference_orbit_epoch": self.ctx.spec.insolation.reference_epoch,
-            "calendar_anchor": self.ctx.anchor_text,
+            "calendar_anchor": self.ctx.anchor_in_words,
         })
         return ["month", *MONTH_TABLE_VARIABLES]
 
     def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:  # noqa: D102
         ctx = self.ctx
-        orbit = ctx.orbit(years)
+        orbit = ctx.orbit_of_years(years)
         out = {name: np.empty((years.size, 12)) for name in MONTH_TABLE_VARIABLES}
         for idx in _groups_of_equal_years(ctx, years):
             year = int(years[idx[0]])

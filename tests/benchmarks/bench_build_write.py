@@ -1,6 +1,6 @@
 """Benchmark: a time-slice build of daily insolation on a 0.5° grid vs a bare netCDF4 write.
 
-bcgen side: ``bcgen.timeslice.build`` on a spec that asks for ``daily_insolation`` at
+bcgen side: ``bcgen.build`` on a spec that asks for ``daily_insolation`` at
 6 ka on a regular 0.5° grid (365 days x 360 x 720 points, float32, zlib level 4
 with shuffle): the whole code path of the product (orbit, daily insolation on the
 grid's latitudes, the grid, the CF dataset, the atomic write).
@@ -62,8 +62,8 @@ def peak_rss_mib() -> float:
 
 
 def child_build(folder: Path) -> dict:
+    from bcgen import build
     from bcgen.spec import parse_spec_text
-    from bcgen.timeslice import build
 
     warm = parse_spec_text(SPEC.format(name="warm", grid="{kind: zonal, resolution_deg: 10}"))
     build(warm, folder / "warm", force=True)
