@@ -52,7 +52,11 @@ from bcgen.insolation.daily import (
     expand_orbit,
     polar_edge_longitudes_rad,
 )
-from bcgen.insolation.quadrature import integrate_between_kinks
+from bcgen.insolation.quadrature import (
+    integrate_between_kinks,
+    mapped_gauss_legendre,
+    pieces_between_kinks,
+)
 from bcgen.orbit.elements import OrbitalElements
 from bcgen.solar_calendar.kepler import true_to_mean
 from bcgen.solar_calendar.months import MonthTable, fixed_angle_months, fixed_day_months
@@ -74,6 +78,12 @@ TROPICAL_YEAR_DAYS = 365.24219
 SECONDS_PER_DAY = 86400.0
 #: Arcs of true longitude integrated at once (bounds the memory of the quadrature's pieces).
 INTERVALS_PER_BLOCK = 2**15
+#: Latitudes with cos φ ≥ sin ε + SMOOTH_MARGIN (no polar day or night, more than about 3°
+#: equatorward of the polar circle) are integrated with SMOOTH_NODES nodes per piece between
+#: solstices and equinoxes: against 48 nodes the λ-integrals of 30° arcs agreed to 4e-13
+#: relative there (obliquities 22-24.5°), 5e-9 for 12 nodes without the margin.
+SMOOTH_MARGIN = 0.05
+SMOOTH_NODES = 12
 #: Values per orbit block of :func:`monthly_insolation` (orbits x latitudes x days of a year):
 #: 2**20 values are 8 MiB per temporary array.
 VALUES_PER_BLOCK = 2**20
@@ -125,6 +135,53 @@ def _integrate_daily_factor_block(lat, lo, hi, eps) -> np.ndarray:
 
     kinks = _kinks_in_longitude(lat, eps, lo)
     return integrate_between_kinks(q, lo, hi, kinks, params=(np.sin(lat), np.cos(lat), np.sin(eps)))
+
+
+def integrate_arcs_over_latitudes(latitude_rad, start_rad, end_rad, obliquity_rad) -> np.ndarray:
+    """∫ q(φ, λ) dλ over N arcs of true longitude at each of L latitudes: shape (N, L).
+
+    ``latitude_rad`` has shape (L,); ``start_rad``, ``end_rad`` and ``obliquity_rad``
+    (N,). The same as :func:`integrate_daily_factor` on the outer product, faster:
+    at latitudes at least :data:`SMOOTH_MARGIN` (in cos φ) away from having polar day
+    or night for every arc, q is smooth in λ apart from the sharp bends near the
+    solstices, so the arcs are split at the solstices and equinoxes only, the
+    declination at each node is shared by all those latitudes, and
+    :data:`SMOOTH_NODES` nodes per piece suffice. Other latitudes take the general
+    route (polar-night edges as kinks, :data:`~bcgen.insolation.quadrature.NODES_PER_PIECE`
+    nodes).
+    """
+    lat = np.asarray(latitude_rad, dtype=float)
+    lo, hi, eps = (np.asarray(v, dtype=float) for v in (start_rad, end_rad, obliquity_rad))
+    out = np.empty((lo.size, lat.size))
+    sin_eps = np.sin(eps)
+    smooth = np.cos(lat) >= sin_eps.max(initial=0.0) + SMOOTH_MARGIN
+    if not smooth.all():
+        out[:, ~smooth] = integrate_daily_factor(lat[~smooth], lo[:, np.newaxis],
+                                                 hi[:, np.newaxis], eps[:, np.newaxis])
+    if smooth.any():
+        out[:, smooth] = _integrate_smooth_latitudes(lat[smooth], lo, hi, sin_eps)
+    return out
+
+
+def _integrate_smooth_latitudes(lat, lo, hi, sin_eps) -> np.ndarray:
+    """Integrate by the fast route of :func:`integrate_arcs_over_latitudes` (no polar night)."""
+    turn = 2.0 * np.pi * np.floor(lo / (2.0 * np.pi))[:, np.newaxis]
+    quarters = turn + np.arange(8) * (0.5 * np.pi)  # two revolutions: an arc spans at most 2π
+    row, start, width = pieces_between_kinks(lo, hi, quarters)
+    g, wg = mapped_gauss_legendre(SMOOTH_NODES)
+    sin_lat, cos_lat = np.sin(lat), np.cos(lat)
+    out = np.zeros((lo.size, lat.size))
+    step = max(1, VALUES_PER_BLOCK // (SMOOTH_NODES * lat.size))
+    for i in range(0, row.size, step):
+        rows = row[i : i + step]
+        x = start[i : i + step, np.newaxis] + width[i : i + step, np.newaxis] * g
+        sin_dec = sin_eps[rows, np.newaxis] * np.sin(x)
+        cos_dec = np.sqrt(1.0 - sin_dec * sin_dec)
+        q = daily_factor(sin_lat, cos_lat, sin_dec[..., np.newaxis], cos_dec[..., np.newaxis])
+        pieces = np.einsum("pnl,n->pl", q, wg) * width[i : i + step, np.newaxis]
+        first = np.flatnonzero(np.concatenate([[True], rows[1:] != rows[:-1]]))
+        out[rows[first]] += np.add.reduceat(pieces, first, axis=0)
+    return out
 
 
 def _energy_scale(orbit: OrbitalElements, s0, year_length_days) -> np.ndarray:
@@ -266,10 +323,12 @@ def _arc_integrals(orbit: OrbitalElements, lat_deg: np.ndarray, start, end):
     e, varpi = arc.eccentricity, arc.perihelion_longitude_rad
     # Mean anomalies keep their revolution, so ΔM is the time of the arc even across perihelion.
     dm = true_to_mean(end - varpi - np.pi, e) - true_to_mean(start - varpi - np.pi, e)
-    insert = (Ellipsis,) + (np.newaxis,) * lat_deg.ndim + (slice(None),) * n_arc
-    lat = np.deg2rad(lat_deg).reshape(lat_deg.shape + (1,) * n_arc)
-    obliquity = expand_orbit(orbit, lat_deg.ndim + n_arc).obliquity_rad
-    return integrate_daily_factor(lat, start[insert], end[insert], obliquity), dm
+    n_orbit, n_lat = int(np.prod(orbit.shape)), lat_deg.size
+    obliquity = np.broadcast_to(arc.obliquity_rad, start.shape)
+    integral = integrate_arcs_over_latitudes(np.deg2rad(lat_deg).ravel(), start.ravel(),
+                                             end.ravel(), obliquity.ravel())
+    integral = integral.reshape(n_orbit, -1, n_lat).transpose(0, 2, 1)
+    return integral.reshape(orbit.shape + lat_deg.shape + start.shape[len(orbit.shape):]), dm
 
 
 @dataclass(frozen=True)

@@ -86,19 +86,7 @@ def integrate_between_kinks(
     hi = np.broadcast_to(np.asarray(upper, dtype=float), shape).reshape(-1)
     inner = np.broadcast_to(kinks, shape + kinks.shape[-1:]).reshape(lo.size, -1)
     flat_params = [np.broadcast_to(p, shape).reshape(-1) for p in params]
-    # Kinks strictly inside their interval, in order, then padding at the upper bound.
-    inside = (inner > lo[:, np.newaxis]) & (inner < hi[:, np.newaxis])
-    inner = np.sort(np.where(inside, inner, np.inf), axis=-1)
-    count = inside.sum(axis=-1)
-    width_max = int(count.max(initial=0)) + 1
-    edges = np.concatenate([lo[:, np.newaxis], inner[:, : width_max - 1], hi[:, np.newaxis]],
-                           axis=-1)
-    edges[:, 1:-1] = np.minimum(edges[:, 1:-1], hi[:, np.newaxis])
-    piece_exists = np.arange(width_max) <= count[:, np.newaxis]
-    piece_exists &= hi[:, np.newaxis] > lo[:, np.newaxis]
-    row, which = np.nonzero(piece_exists)
-    start = edges[row, which]
-    width = edges[row, which + 1] - start
+    row, start, width = pieces_between_kinks(lo, hi, inner)
     g, wg = mapped_gauss_legendre(nodes)
     total = np.zeros(lo.size)
     for i in range(0, row.size, PIECES_PER_BLOCK):
@@ -110,3 +98,33 @@ def integrate_between_kinks(
         piece_integrals = (values @ wg) * width[part]
         total[first : rows[-1] + 1] += np.bincount(rows - first, weights=piece_integrals)
     return total.reshape(shape)
+
+
+def pieces_between_kinks(lower, upper, kinks) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Split intervals at the kinks strictly inside them; return the pieces that exist.
+
+    Parameters
+    ----------
+    lower, upper : numpy.ndarray
+        Bounds of N intervals, shape (N,).
+    kinks : numpy.ndarray
+        Candidate kinks, shape (N, k); NaN or values outside (lower, upper) are ignored.
+
+    Returns
+    -------
+    row, start, width : numpy.ndarray
+        For each piece, in order of interval and then of position: the interval it
+        belongs to, where it starts and its width (empty intervals have no piece).
+    """
+    inside = (kinks > lower[:, np.newaxis]) & (kinks < upper[:, np.newaxis])
+    inner = np.sort(np.where(inside, kinks, np.inf), axis=-1)
+    count = inside.sum(axis=-1)
+    width_max = int(count.max(initial=0)) + 1
+    edges = np.concatenate([lower[:, np.newaxis], inner[:, : width_max - 1],
+                            upper[:, np.newaxis]], axis=-1)
+    edges[:, 1:-1] = np.minimum(edges[:, 1:-1], upper[:, np.newaxis])
+    piece_exists = np.arange(width_max) <= count[:, np.newaxis]
+    piece_exists &= upper[:, np.newaxis] > lower[:, np.newaxis]
+    row, which = np.nonzero(piece_exists)
+    start = edges[row, which]
+    return row, start, edges[row, which + 1] - start
