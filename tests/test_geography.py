@@ -106,6 +106,12 @@ def test_synthetic_ice_dome_volume_and_sea_level_equivalent():
     geo = make_geography(GeographyInputs(present, ice_thickness=ice), regular_grid(4.0))
     assert geo.ice_volume_source_m3 == pytest.approx(analytic, rel=1e-12)
     assert geo.ice_volume_m3 == pytest.approx(analytic, rel=1e-10)
+    # Ice area is conserved too: the cap north of 60 N covers (1 - sin 60)/2 of the sphere
+    # (spherical geometry), before any clipping to land.
+    frac = ConservativeRegridder.from_grids(fine, regular_grid(4.0)).fraction(ice.values > 0)
+    area = regular_grid(4.0).cell_area_weights()
+    assert float(np.sum(frac * area)) == pytest.approx((1 - np.sin(np.deg2rad(lat0))) / 2,
+                                                       abs=1e-6)
     r = change_report(geo)
     ocean_area = r["ocean"]["area_present_m2"]
     # Sea-level equivalent: ice mass spread over the ocean as sea water (common practice).

@@ -132,3 +132,45 @@ def test_orography_and_bathymetry_pair_is_read_as_relief(tmp_path):
                            "g.yaml", base_dir=tmp_path)
     inputs, _, _ = resolve_inputs(spec.geography)
     assert np.array_equal(inputs.present.values, np.where(land > 0, 1000.0, -4000.0))
+
+
+def test_bad_geography_input_is_one_line_with_exit_2(tmp_path, run_cli):
+    from bcgen.grids import regular_grid
+
+    grid = regular_grid(10.0)
+    ds = grid.to_dataset()
+    ds["relief"] = (grid.dims, np.zeros(grid.shape), {"units": "degC"})
+    ds.to_netcdf(tmp_path / "bad.nc")
+    spec = tmp_path / "g.yaml"
+    spec.write_text(_SPEC.format(grid="{kind: regular, resolution_deg: 20.0}",
+                                 present="{file: bad.nc, variable: relief}", extra=""))
+    status, _, err = run_cli(["build", spec, "-o", tmp_path / "out"])
+    line = one_error_line(err)
+    assert status == 2 and "geography.present" in line and "expected a length" in line
+    assert not (tmp_path / "out").exists()  # nothing written
+
+
+def test_sea_level_change_taken_from_the_reconstruction(tmp_path):
+    from bcgen.grids import regular_grid
+    from bcgen.timeslice.geography import resolve_inputs
+
+    grid = regular_grid(10.0)
+    ds = grid.to_dataset()
+    for name in ("now", "then"):
+        ds[name] = (grid.dims, np.zeros(grid.shape), {"units": "m"})
+    ds["dsl"] = ((), -0.12, {"units": "km"})
+    ds.to_netcdf(tmp_path / "rec.nc")
+    (tmp_path / "relief.nc").write_bytes((CONFIGS / "glacial_example" / "relief_2deg.nc")
+                                         .read_bytes())
+    rec = ("  reconstruction: {file: rec.nc, epoch_variable: then, present_variable: now, "
+           "sea_level_variable: dsl}\n")
+    spec = parse_spec_text(_SPEC.format(grid="{kind: regular, resolution_deg: 20.0}",
+                                        present="{file: relief.nc, variable: relief}",
+                                        extra=rec), "g.yaml", base_dir=tmp_path)
+    inputs, _, _ = resolve_inputs(spec.geography)
+    assert inputs.sea_level_change_m == pytest.approx(-120.0)
+    with pytest.raises(SpecError, match="give either this or geography.sea_level_change_m"):
+        parse_spec_text(_SPEC.format(grid="{kind: regular, resolution_deg: 20.0}",
+                                     present="{file: relief.nc, variable: relief}",
+                                     extra=rec + "  sea_level_change_m: -100\n"),
+                        "g.yaml", base_dir=tmp_path)

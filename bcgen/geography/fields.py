@@ -180,3 +180,26 @@ def _snap(c: np.ndarray, b: np.ndarray, *, span: float, poles: bool):
                 edges = np.clip(edges, -90.0, 90.0)
             return centres, np.stack([edges[:-1], edges[1:]], axis=1)
     return c, b
+
+
+def read_length(path, variable: str, *, key: str = "") -> float:
+    """Read a single length (a variable with one value, e.g. a sea-level change) in metres."""
+    import cf_units
+    import xarray as xr
+
+    path = os.fspath(path)
+    where = f"{key}: " if key else ""
+    with xr.open_dataset(path, decode_times=False) as ds:
+        if variable not in ds.variables:
+            raise InputFileError(f"{where}{path} has no variable {variable!r}")
+        da = ds[variable]
+        if da.size != 1:
+            raise InputFileError(f"{where}{path}: {variable!r} must hold one value (a sea-level "
+                                 f"change), it has {da.size}")
+        units = str(da.attrs.get("units", "")).strip()
+        value = float(np.asarray(da.values).ravel()[0])
+    try:
+        return float(cf_units.Unit(units).convert(value, cf_units.Unit("m")))
+    except Exception:  # noqa: BLE001 - cf-units raises ValueError or its own errors
+        raise InputFileError(f"{where}{path}: {variable!r} has units {units!r}; expected a "
+                             "length such as 'm'") from None

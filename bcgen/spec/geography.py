@@ -8,7 +8,8 @@ and computes. Rules checked here (the schema checks types and vocabularies):
 - every file exists;
 - a strait rule has either a ``path`` or a ``box``; strait names are unique; an
   ``open`` rule needs a ``depth_m`` of at least ``min_depth_m``;
-- ``mean_salinity`` and ``salinity`` are alternatives.
+- ``mean_salinity`` and ``salinity`` are alternatives, and so are
+  ``sea_level_change_m`` and ``reconstruction.sea_level_variable``.
 """
 
 from __future__ import annotations
@@ -51,6 +52,7 @@ class GeographySpec:
     ice: FieldRef | None = None
     ice_kind: str = "thickness"
     sea_level_change_m: float = 0.0
+    sea_level: FieldRef | None = None
     connectivity: str = "edge"
     basins: str = "lake"
     min_depth_m: float = 10.0
@@ -83,6 +85,12 @@ class GeographySpec:
                                   "reconstruction file")
             kw["reconstruction_epoch"] = FieldRef(rfile, rec["epoch_variable"])
             kw["reconstruction_present"] = FieldRef(rfile, rec["present_variable"])
+            if "sea_level_variable" in rec:
+                if "sea_level_change_m" in v:
+                    raise FieldError("geography.reconstruction.sea_level_variable",
+                                     "give either this or geography.sea_level_change_m, "
+                                     "not both")
+                kw["sea_level"] = FieldRef(rfile, rec["sea_level_variable"])
         if "ice" in v:
             ice = v.pop("ice")
             kw["ice"] = FieldRef(existing_file("geography.ice.file", ice["file"], "ice file"),

@@ -609,6 +609,9 @@ SCHEMA: Mapping[str, Key] = _map(
                                        required=True),
                     present_variable=Key("string", "surface at 0 ka (length units)",
                                          required=True),
+                    sea_level_variable=Key("string", "a variable holding the sea-level change "
+                                           "of the epoch (one value, length units), instead "
+                                           "of sea_level_change_m"),
                 ),
             ),
             ice=Key(

@@ -26,6 +26,7 @@ def resolve_inputs(geo_spec):
         The present mean salinity and where it came from.
     """
     from bcgen.geography import GeographyInputs, LatLonField, MaskSettings, StraitRule, read_field
+    from bcgen.geography.fields import read_length
     from bcgen.geography.salinity import mean_salinity_from_file
 
     g = geo_spec
@@ -56,7 +57,11 @@ def resolve_inputs(geo_spec):
         else:
             fraction = read_field(g.ice.file, g.ice.variable, kind="fraction",
                                   key="geography.ice", missing_as=0.0)
-    inputs = GeographyInputs(present, epoch, zero, thickness, fraction, g.sea_level_change_m)
+    sea_level = g.sea_level_change_m
+    if g.sea_level is not None:
+        sea_level = read_length(g.sea_level.file, g.sea_level.variable,
+                                key="geography.reconstruction.sea_level_variable")
+    inputs = GeographyInputs(present, epoch, zero, thickness, fraction, sea_level)
     rules = tuple(StraitRule(s.name, s.action, s.path_deg, s.box_deg, s.width_cells, s.depth_m)
                   for s in g.straits)
     settings = MaskSettings(g.connectivity, g.basins, g.min_depth_m, g.shallow_cells, rules)
