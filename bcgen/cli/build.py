@@ -34,7 +34,9 @@ def register(subparsers) -> argparse.ArgumentParser:
     parser.add_argument("spec", metavar="SPEC.yaml", help="experiment spec (YAML)")
     parser.add_argument("-o", "--output-dir", metavar="DIR",
                         help="output folder (default: the spec's output.directory)")
-    parser.add_argument("--force", action="store_true", help="overwrite existing outputs")
+    parser.add_argument("--force", action="store_true",
+                        help="overwrite existing outputs; a transient run rebuilds every file "
+                             "(without it, it resumes and rebuilds only what is out of date)")
     parser.add_argument("--format", choices=("text", "json"), default="text",
                         help="summary format (default: text)")
     return parser

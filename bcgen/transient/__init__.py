@@ -24,9 +24,11 @@ Interruption and re-runs
     leave a hidden temporary file ``.NAME.nc.<pid>.<hex>.tmp``: a re-run deletes those
     of its own files (and of its manifest) whose writing process is gone, before it
     writes anything (:func:`bcgen.io.staging.sweep_stale_temporaries`). A re-run
-    skips every file whose SHA-256 and parameters match its manifest record and
-    builds the rest; other existing files are rebuilt with ``force`` and
-    refused without it.
+    resumes: it skips every file whose SHA-256 and parameters match its manifest
+    record, builds the missing ones and rebuilds those of its own files (recorded in
+    the manifest, unchanged since) whose settings or inputs changed -- only the
+    products that depend on what changed (:data:`_DEPENDENCIES`). Other existing
+    files are refused without ``force``; ``force`` rebuilds every file.
 
 Failed writes
     A write the file system refuses (a full disk, a lost mount) raises
@@ -104,15 +106,15 @@ def plan_files(spec: ExperimentSpec) -> list[FileJob]:
     tr = spec.transient
     if tr is None:
         raise SpecError("plan_files needs a transient spec")
-    spec_hash = spec.sha256 or hashlib.sha256(repr(spec).encode()).hexdigest()
     inputs = _input_hashes(spec)
+    settings = {product: _settings_sha256(spec, product) for product in spec.products}
     jobs = []
     for first, last in tr.file_ranges():
         e0, e1 = (float(e) for e in tr.epochs_of_model_years(np.array([first, last])))
         for product in spec.products:
             name = spec.file_name(product, first, last)
             parameters = {
-                "spec_sha256": spec_hash,
+                "settings_sha256": settings[product],
                 "bcgen_version": __version__,
                 "product": product,
                 "file": name,
@@ -120,7 +122,8 @@ def plan_files(spec: ExperimentSpec) -> list[FileJob]:
                 "last_model_year": last,
                 "first_epoch_years_from_1950": e0,
                 "last_epoch_years_from_1950": e1,
-                "inputs_sha256": inputs,
+                "inputs_sha256": {key: inputs[key] for key in _depends_on(product)[1]
+                                  if key in inputs},
             }
             jobs.append(FileJob(product, first, last, name, parameters))
     names = [j.file_name for j in jobs]
@@ -150,7 +153,8 @@ def build_transient(
     output_dir : path, optional
         Folder for the files and the manifest (default: the spec's ``output.directory``).
     force : bool
-        Rebuild existing files that cannot be skipped (instead of refusing).
+        Rebuild every file, even those that are complete and up to date (without it
+        the run resumes: see the module notes).
     command : str, optional
         The command line, recorded in each file's ``history``.
     progress : bool, optional
@@ -317,7 +321,14 @@ class _FileWriter:
         if series.gridded:
             _define_grid(sf, ctx)
         self.variables = series.define(sf)
-        sf.set_attributes(ctx.attributes(series.title, job.first_year, job.last_year))
+        attrs = ctx.attributes(series.title, job.first_year, job.last_year)
+        if series.gridded:
+            # The cell bounds do not change in time: xarray reads the variables named in a
+            # global "coordinates" attribute as coordinates, so that open_mfdataset keeps one
+            # copy of them instead of repeating them along time (its default concatenates
+            # every data variable).
+            attrs["coordinates"] = " ".join(_grid_bounds(ctx))
+        sf.set_attributes(attrs)
 
     def chunk(self, n_years: int, bounds: np.ndarray, values: dict) -> None:
         """Write the time steps and values of a chunk of model years."""
@@ -364,6 +375,12 @@ class _FileWriter:
         if self.sf is not None:
             self.sf.discard()
             self.sf = None
+
+
+def _grid_bounds(ctx: RunContext) -> list[str]:
+    """Names of the grid's cell-bounds variables (``lat_bnds``, ``lon_bnds``)."""
+    grid_ds = ctx.grid.to_dataset()
+    return [str(name) for name, var in grid_ds.variables.items() if "bnds" in var.dims]
 
 
 def _define_grid(sf: SeriesFile, ctx: RunContext) -> None:
@@ -423,6 +440,46 @@ def _summary(ctx: RunContext, series: dict[str, Series]) -> dict:
     if "greenhouse_gases" in series:
         out["greenhouse_gases"] = series["greenhouse_gases"].method_text
     return out
+
+
+#: What each product's files depend on: the spec sections (besides those every file
+#: depends on, :data:`_SHARED_SECTIONS`) and the input files. A change elsewhere leaves the
+#: product's files as they are (a new gas table rebuilds the gas files only).
+_DEPENDENCIES: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
+    "orbit": (("orbit",), ("orbit.table",)),
+    "greenhouse_gases": (("greenhouse_gases", "transient.greenhouse_gas_table",
+                          "transient.greenhouse_gas_interpolation"),
+                         ("transient.greenhouse_gas_table",)),
+}
+_INSOLATION = (("orbit", "solar_constant_wm2", "grid", "insolation"),
+               ("orbit.table", "grid.path"))
+#: Spec sections every file depends on: what it is, its model years and time axis, how it
+#: is written, its global attributes.
+_SHARED_SECTIONS = ("experiment", "calendar", "output", "attributes", "transient.start_epoch",
+                    "transient.end_epoch", "transient.first_model_year",
+                    "transient.acceleration", "transient.years_per_file")
+
+
+def _depends_on(product: str) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """Spec sections and input files the files of ``product`` depend on."""
+    sections, inputs = _DEPENDENCIES.get(product, _INSOLATION)
+    return _SHARED_SECTIONS + sections, inputs
+
+
+def _settings_sha256(spec: ExperimentSpec, product: str) -> str:
+    """SHA-256 of the spec settings that ``product``'s files depend on (not the whole text).
+
+    A comment or an unrelated setting changed in the spec leaves the file valid; the
+    settings are compared by value (their ``repr``), so they do not depend on layout.
+    """
+    sections, _ = _depends_on(product)
+    parts = []
+    for dotted in sections:
+        value = spec
+        for name in dotted.split("."):
+            value = getattr(value, name, None)
+        parts.append(f"{dotted}={value!r}")
+    return hashlib.sha256("\n".join(parts).encode()).hexdigest()
 
 
 def _input_hashes(spec: ExperimentSpec) -> dict[str, str]:

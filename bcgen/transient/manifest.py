@@ -8,14 +8,16 @@ so it always describes the files on disk. For each file it records:
 - ``first_model_year``, ``last_model_year``, the epochs of both
   (``first_epoch``/``last_epoch`` as text and ``*_years_from_1950``) and the
   number of time steps;
-- ``parameters``: everything the file's contents depend on -- the spec's
-  SHA-256, the bcgen version, the product, the model years and their epochs,
-  and the SHA-256 of every input file the spec names (orbit table,
-  greenhouse-gas table, grid file).
+- ``parameters``: everything the file's contents depend on -- the SHA-256 of
+  the spec settings its product depends on (``settings_sha256``), the bcgen
+  version, the product, the model years and their epochs, and the SHA-256 of
+  the input files it depends on (orbit table, greenhouse-gas table, grid file).
 
-A re-run skips a file only when it is present, its SHA-256 equals the recorded
-one and its recorded parameters equal those of the new run. Any other existing
-file is rebuilt with ``--force`` and refused without it, naming the file.
+A re-run skips a file when it is present, its SHA-256 equals the recorded one and
+its recorded parameters equal those of the new run; it rebuilds a file whose
+SHA-256 equals the recorded one but whose parameters differ (the run's own file,
+out of date). Any other existing file (not recorded, or changed since) is refused
+without ``--force``, naming the file; ``--force`` rebuilds every file.
 
 The record of a file is written *before* the file is renamed into place; an
 interruption between the two leaves a record without its file, which a re-run
@@ -92,7 +94,7 @@ def decide(
     old : dict or None
         Its record in the existing manifest.
     force : bool
-        Rebuild files that cannot be skipped instead of refusing.
+        Rebuild the file whatever its state.
     manifest_path : pathlib.Path
         The manifest (named in messages).
     """
@@ -100,21 +102,18 @@ def decide(
         return "build"
     if path.is_dir():
         raise OutputError(f"cannot write {path}: it is a folder")
-    if old is None:
-        reason = f"is not recorded in {manifest_path.name}"
-    elif old.get("parameters") != parameters:
-        changed = sorted(
-            k
-            for k in set(parameters) | set(old.get("parameters") or {})
-            if (old.get("parameters") or {}).get(k) != parameters.get(k)
-        )
-        reason = f"was made with other settings ({', '.join(changed)} differ)"
-    elif old.get("sha256") != sha256_of(path):
-        reason = f"differs from the file recorded in {manifest_path.name} (SHA-256 mismatch)"
-    else:
-        return "skip"
     if force:
         return "build"
+    if old is None:
+        reason = f"is not recorded in {manifest_path.name}"
+    elif old.get("sha256") != sha256_of(path):
+        reason = f"differs from the file recorded in {manifest_path.name} (SHA-256 mismatch)"
+    elif old.get("parameters") != parameters:
+        # The run's own file, untouched since it was written, made from other settings or
+        # inputs: it is out of date, and rebuilding it is what a re-run is for.
+        return "build"
+    else:
+        return "skip"
     raise OutputError(f"{path} already exists and {reason}; use --force to rebuild it")
 
 
