@@ -450,6 +450,7 @@ _DEPENDENCIES: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
     "greenhouse_gases": (("greenhouse_gases", "transient.greenhouse_gas_table",
                           "transient.greenhouse_gas_interpolation"),
                          ("transient.greenhouse_gas_table",)),
+    "month_table": (("orbit", "insolation"), ("orbit.table",)),
 }
 _INSOLATION = (("orbit", "solar_constant_wm2", "grid", "insolation"),
                ("orbit.table", "grid.path"))
