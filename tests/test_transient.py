@@ -794,7 +794,11 @@ def test_manifest_describes_every_file(tmp_path):
     assert record["time_steps"] == 100 * 365
     assert record["sha256"] == sha256_of(tmp_path / record["file"])
     assert len(record["parameters"]["settings_sha256"]) == 64
-    assert "transient.greenhouse_gas_table" in record["parameters"]["inputs_sha256"]
+    # Each product's files depend on their own inputs only: the gas table makes the gas
+    # files, not the insolation files.
+    assert "transient.greenhouse_gas_table" not in record["parameters"]["inputs_sha256"]
+    gases = by_name["transient-demo-holocene_greenhouse_gases_101-200.nc"]
+    assert "transient.greenhouse_gas_table" in gases["parameters"]["inputs_sha256"]
 
 
 def test_cli_summary_of_a_transient_build(tmp_path, capsys):
