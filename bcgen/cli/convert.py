@@ -26,6 +26,7 @@ examples:
   bcgen convert clim.nc -o clim_fa.nc --eccentricity 0.018682 --obliquity-deg 24.105 \\
       --perihelion-deg 0.87 --perihelion-convention perihelion_longitude
   bcgen convert big_*.nc -o out.nc --epoch 21ka --scheduler tcp://127.0.0.1:8786
+  bcgen convert tas_Amon_deglaciation_*.nc -o fixed_angle/ --spec deglaciation.yaml
   bcgen convert clim.nc -o clim_fa.nc --epoch 6ka --format json   # report as JSON
 
 Monthly means are interpolated by Killworth (1996) (or Epstein 1991 for climatologies)
@@ -49,10 +50,13 @@ def register(subparsers) -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     p.add_argument("inputs", nargs="+", metavar="INPUT", help="NetCDF file(s), one time series")
-    p.add_argument("-o", "--output", required=True, metavar="OUTPUT", help="NetCDF file to write")
+    p.add_argument("-o", "--output", required=True, metavar="OUTPUT",
+                   help="NetCDF file to write (with a transient spec: a folder that receives "
+                        "one file per input file, named like it)")
     orbit = p.add_argument_group("orbit of the run (one of)")
     orbit.add_argument("--spec", metavar="SPEC", help="experiment spec (YAML): orbit, calendar "
-                       "anchor and reference orbit")
+                       "anchor and reference orbit; a transient spec gives each model year "
+                       "its own orbit")
     orbit.add_argument("--epoch", metavar="EPOCH", help="epoch such as 6ka or 127ka (Berger 1978)")
     orbit.add_argument("--eccentricity", type=float, metavar="E", help="explicit eccentricity")
     orbit.add_argument("--obliquity-deg", type=float, metavar="O", help="explicit obliquity, deg")
@@ -109,10 +113,12 @@ def _orbit_and_calendar(args):
         from bcgen.spec import load_spec
 
         experiment = Experiment(load_spec(args.spec))
-        orbit = experiment.orbit
-        if orbit.shape not in ((), (1,)):
-            raise OrbitError(f"{args.spec}: a transient spec has one orbit per model year; "
-                             "convert needs one orbit (use --epoch for each segment)")
+        if experiment.spec.transient is not None:
+            from bcgen.convert.api import transient_orbits
+
+            orbit = transient_orbits(experiment)  # each model year's orbit
+        else:
+            orbit = experiment.orbit
         reference = experiment.reference_orbit
         anchor, calendar = experiment.calendar.anchor, experiment.calendar.name
     elif args.epoch is not None:
@@ -182,6 +188,8 @@ def run(args) -> int:
     elif args.spec or args.epoch or _explicit(args):
         raise OrbitError("--to fixed-day reads the months from the input's time bounds; "
                          "give no orbit")
+    if args.to == "fixed-angle" and callable(orbit):
+        return _run_transient(args, orbit, reference, anchor, calendar, cyclic)
     ds, label = open_inputs(args.inputs)
     with ds:
         if args.to == "fixed-angle":
@@ -214,6 +222,94 @@ def run(args) -> int:
         print(f"wrote {path}: {out.sizes[dim]} {args.to} months of {', '.join(names)} "
               f"({out.attrs.get('month_conversion_method')})")
     return 0
+
+
+#: Model years read on each side of an input file's years when it is converted: the
+#: Killworth (1996) system couples neighbouring months with weights that fall by a factor
+#: of about 2 - √3 ≈ 0.27 per month, so 24 months leave the result as if the whole run
+#: had been converted at once, to about 1e-14 relative.
+MARGIN_YEARS = 2
+
+
+def _run_transient(args, orbit, reference, anchor, calendar, cyclic) -> int:
+    """Convert a transient run's files, each model year with its orbit; one output per input.
+
+    ``-o`` names a folder; each input file gives the file of the same name there, with
+    the fixed-angle months of the model years the input holds. The files are read as
+    one series (so months that straddle two files are whole) and converted a file at a
+    time, each with :data:`MARGIN_YEARS` model years of the neighbouring files.
+    """
+    from pathlib import Path
+
+    import numpy as np
+    import xarray as xr
+
+    from bcgen.convert.io import check_inputs, open_inputs
+    from bcgen.convert.timeaxis import find_time_dim
+    from bcgen.errors import OutputError
+
+    if cyclic:
+        raise BcgenError("--spec: a transient run's output is a series; --cycle climatology "
+                         "does not apply")
+    folder = Path(args.output)
+    if folder.exists() and not folder.is_dir():
+        raise OutputError(f"{folder}: with a transient spec, -o names a folder for one output "
+                          "file per input file; this is a file")
+    ordered = check_inputs(args.inputs) if len(args.inputs) > 1 else [Path(args.inputs[0])]
+    targets = [folder / path.name for path in ordered]
+    for path, target in zip(ordered, targets, strict=True):
+        if target.resolve() == path.resolve():
+            raise OutputError(f"{target}: the output would replace its input; choose another "
+                              "folder with -o")
+        if target.exists() and not args.force:
+            raise OutputError(f"{target} exists; use --force to replace it")
+    ds, label = open_inputs(args.inputs)
+    written = []
+    with ds:
+        dim = find_time_dim(ds, label)
+        years = np.array([d.year for d in ds[dim].values])
+        counts = []
+        for path in ordered:
+            with xr.open_dataset(path, decode_times=False) as one:
+                counts.append(one.sizes[dim])
+        edges = np.concatenate([[0], np.cumsum(counts)])
+        folder.mkdir(parents=True, exist_ok=True)
+        with _scheduler(args.scheduler) as client:
+            _convert_each(args, ds, dim, years, edges, ordered, targets, orbit, reference,
+                          anchor, calendar, label, client, written)
+    names = [str(k) for k, v in written[0][1].data_vars.items()
+             if dim in v.dims and k != written[0][1][dim].attrs.get("bounds")]
+    if args.format == "json":
+        print(json.dumps([_report(args, path, out, dim, names) for path, out in written],
+                         indent=2))
+    elif not args.quiet:
+        for path, out in written:
+            print(f"wrote {path}: {out.sizes[dim]} {args.to} months of {', '.join(names)} "
+                  f"({out.attrs.get('month_conversion_method')}, each model year's orbit)")
+    return 0
+
+
+def _convert_each(args, ds, dim, years, edges, ordered, targets, orbit, reference, anchor,
+                  calendar, label, client, written) -> None:
+    """Convert and write the model years of each input file (see :func:`_run_transient`)."""
+    import numpy as np
+
+    from bcgen.convert.api import to_fixed_angle_months
+    from bcgen.convert.io import write_output
+
+    for i, target in enumerate(targets):
+        y0, y1 = int(years[edges[i]]), int(years[edges[i + 1] - 1])
+        window = np.flatnonzero((years >= y0 - MARGIN_YEARS) & (years <= y1 + MARGIN_YEARS))
+        part = ds.isel({dim: slice(window[0], window[-1] + 1)})
+        out = to_fixed_angle_months(part, orbit, reference=reference, anchor=anchor,
+                                    calendar=calendar, method=args.method, cyclic=False,
+                                    min_valid_fraction=args.min_valid_fraction, source=label)
+        model_year = out["model_year"].values
+        out = out.isel({dim: np.flatnonzero((model_year >= y0) & (model_year <= y1))})
+        out.attrs["month_conversion_input_file"] = ordered[i].name
+        show = sys.stderr.isatty() and client is None and not args.quiet
+        with _progress(show):
+            written.append((write_output(out, target, force=args.force), out))
 
 
 #: Global attributes of the output that the JSON report repeats.

@@ -9,7 +9,8 @@ control run or with proxy seasons.
 module                     job
 =========================  =============================================================
 :mod:`.api`                :func:`to_fixed_angle_months`, :func:`to_fixed_day_months`
-                           (xarray in and out, numpy- or dask-backed)
+                           (xarray in and out, numpy- or dask-backed);
+                           :func:`transient_orbits` (each model year's orbit)
 :mod:`.interpolation`      mean-preserving interpolation of interval means of unequal
                            length, integrated exactly (Killworth 1996; Epstein 1991)
 :mod:`.aggregate`          exact overlap-weighted means of daily (or any interval) means
@@ -35,7 +36,7 @@ Methods (``method=``)
 from __future__ import annotations
 
 from bcgen.convert.aggregate import DEFAULT_MIN_VALID_FRACTION, aggregate
-from bcgen.convert.api import to_fixed_angle_months, to_fixed_day_months
+from bcgen.convert.api import to_fixed_angle_months, to_fixed_day_months, transient_orbits
 from bcgen.convert.interpolation import END_RULES, METHODS, mean_preserving_means
 
 __all__ = [
@@ -46,4 +47,5 @@ __all__ = [
     "mean_preserving_means",
     "to_fixed_angle_months",
     "to_fixed_day_months",
+    "transient_orbits",
 ]

@@ -50,6 +50,7 @@ import dataclasses
 import re
 import uuid
 import warnings
+from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Literal
 
@@ -184,21 +185,87 @@ def _year_range(axis: TimeAxis) -> list[int]:
     return years
 
 
-def _fixed_angle_targets(axis: TimeAxis, cal: ModelCalendar, orbit, reference, years):
+def _orbits_of_years(orbit, years: list[int], source: str) -> OrbitalElements:
+    """One orbit per model year: from a callable, an array of one orbit per year, or one orbit."""
+    if callable(orbit) and not isinstance(orbit, OrbitalElements):
+        try:
+            orbits = orbit(np.asarray(years))
+        except BcgenError as exc:
+            raise ConversionError(f"{source}: {exc}") from None
+        if not isinstance(orbits, OrbitalElements) or orbits.shape != (len(years),):
+            raise ConversionError(f"{source}: the orbit function must return OrbitalElements of "
+                                  f"shape ({len(years)},) for the {len(years)} model years")
+        return orbits
+    if isinstance(orbit, OrbitalElements) and orbit.shape not in ((), (1,)):
+        if orbit.shape != (len(years),):
+            raise OrbitError(f"orbit: orbits of shape {orbit.shape} for the {len(years)} "
+                             f"model years of {source} "
+                             f"({years[0]}-{years[-1]}); give one orbit per model year")
+        return orbit
+    one = _scalar_orbit(orbit, "orbit")
+    epoch = None if one.years_from_1950 is None else np.full(len(years), one.years_from_1950)
+    return OrbitalElements(*(np.full(len(years), v) for v in (
+        one.eccentricity, one.obliquity_deg, one.perihelion_longitude_deg)), epoch,
+        one.solution)
+
+
+def transient_orbits(experiment) -> Callable[[np.ndarray], OrbitalElements]:
+    """Return the function model years → orbits of a transient run (its mapping, acceleration).
+
+    Model year ``first_model_year + k`` has the orbit of the epoch ``start_epoch + k ×
+    acceleration`` years (:class:`bcgen.spec.TransientSpec`), from the run's orbital
+    solution (an orbit table is read once). A model year outside the run is an error
+    naming it. Give the result as ``orbit`` to :func:`to_fixed_angle_months` to convert a
+    transient run's output.
+
+    Parameters
+    ----------
+    experiment : bcgen.experiment.Experiment or bcgen.spec.ExperimentSpec
+        A transient experiment, or its spec.
+    """
+    from bcgen.experiment import Experiment
+
+    if not isinstance(experiment, Experiment):
+        experiment = Experiment(experiment)
+    spec = experiment.spec
+    tr = spec.transient
+    if tr is None:
+        raise ConversionError("transient_orbits needs a spec with a 'transient' section")
+    where = f"the transient run of {spec.path}" if spec.path else "the transient run"
+
+    def orbits(model_years) -> OrbitalElements:
+        years = np.asarray(model_years)
+        outside = years[(years < tr.first_model_year) | (years > tr.last_model_year)]
+        if outside.size:
+            raise ConversionError(
+                f"model year {int(outside[0])} is not covered by {where} (model years "
+                f"{tr.first_model_year}-{tr.last_model_year})")
+        return experiment.orbit_at(tr.epochs_of_model_years(years))
+
+    return orbits
+
+
+def _fixed_angle_targets(axis: TimeAxis, cal: ModelCalendar, orbits: OrbitalElements, reference,
+                         years):
+    """Fixed-angle months of every model year, each with its own orbit (``orbits[i]``).
+
+    Each month ends where the next one starts: within a model year that is its own end;
+    December ends where the next model year's January starts, so the months tile the
+    time axis even when the orbit changes from one model year to the next.
+    """
     from bcgen.solar_calendar.months import fixed_angle_months
 
-    leap_free = cal.name in ("noleap", "all_leap", "360_day")
-    cache = None
-    starts, last_end = [], None
-    for year in years:
-        table = cache if (leap_free and cache is not None) else fixed_angle_months(
-            orbit, cal, reference=reference, year=year)
-        cache = table
-        offset = axis.year_offset_days(year)
-        starts.append(offset + np.asarray(table.start_day, dtype=float))
-        last_end = offset + float(np.asarray(table.end_day)[-1])
-    start = np.concatenate(starts)
-    end = np.append(start[1:], last_end)
+    if cal.name in ("noleap", "all_leap", "360_day"):  # every year alike: all orbits at once
+        table = fixed_angle_months(orbits, cal, reference=reference, year=years[0])
+        start_days, end_days = table.start_day, table.end_day
+    else:
+        tables = [fixed_angle_months(orbits[i], cal, reference=reference, year=y)
+                  for i, y in enumerate(years)]
+        start_days = np.stack([t.start_day for t in tables])
+        end_days = np.stack([t.end_day for t in tables])
+    offsets = np.array([axis.year_offset_days(y) for y in years])[:, np.newaxis]
+    start = (offsets + start_days).ravel()
+    end = np.append(start[1:], offsets[-1, 0] + end_days[-1, -1])
     month = np.tile(np.arange(1, 13), len(years))
     year = np.repeat(np.asarray(years), 12)
     return start, end, month, year
@@ -456,8 +523,13 @@ def to_fixed_angle_months(
     ds : xarray.Dataset
         Model output with a decoded CF time axis (numpy- or dask-backed; chunk in space,
         time is made one chunk).
-    orbit : OrbitalElements or str
-        The run's orbit (one epoch), or an epoch such as ``"6ka"`` (Berger 1978).
+    orbit : OrbitalElements, str or callable
+        The run's orbit: one orbit (or an epoch such as ``"6ka"``, Berger 1978) for the
+        whole input; OrbitalElements of shape (n,), the orbit of each of the n model
+        years of the input in order; or a function from an array of model years to
+        their orbits (for a transient run: :func:`transient_orbits` of its spec).
+        Each model year's months are those of its own orbit; December ends where the
+        next model year's January starts.
     reference : OrbitalElements or str, optional
         Orbit whose fixed-day months define the arcs of true longitude (default 1950 CE,
         see :func:`bcgen.solar_calendar.months.fixed_angle_months`).
@@ -485,14 +557,14 @@ def to_fixed_angle_months(
     """
     axis = read_time_axis(ds, source, cyclic=cyclic)
     cal = _model_calendar(axis, calendar, anchor, source)
-    orbit = _scalar_orbit(orbit, "orbit")
     if reference is None:
         from bcgen.orbit import solve
 
         reference = solve(0.0)
     reference = _scalar_orbit(reference, "reference")
     years = [axis.origin_year] if axis.cyclic else _year_range(axis)
-    start, end, month, year = _fixed_angle_targets(axis, cal, orbit, reference, years)
+    orbits = _orbits_of_years(orbit, years, source)
+    start, end, month, year = _fixed_angle_targets(axis, cal, orbits, reference, years)
     keep = _select_covered(axis, start, end, min_valid_fraction)
     if not keep.any():
         raise ConversionError(f"{source}: no fixed-angle month is covered by the data")
@@ -501,7 +573,16 @@ def to_fixed_angle_months(
              "solar longitude that the fixed-day month spans in the reference orbit",
              f"{ATTR_PREFIX}calendar": cal.name,
              f"{ATTR_PREFIX}anchor": cal.anchor.describe()}
-    attrs.update(_orbit_attrs("orbit_", orbit))
+    if np.all(orbits.eccentricity == orbits.eccentricity[0]) and np.all(
+            orbits.obliquity_deg == orbits.obliquity_deg[0]) and np.all(
+            orbits.perihelion_longitude_deg == orbits.perihelion_longitude_deg[0]):
+        attrs.update(_orbit_attrs("orbit_", orbits[0]))
+    else:
+        attrs[f"{ATTR_PREFIX}orbit"] = (
+            f"each model year has its own orbit ({len(years)} model years, {years[0]}-"
+            f"{years[-1]}); the first year's and the last year's are recorded")
+        attrs.update(_orbit_attrs("orbit_first_year_", orbits[0]))
+        attrs.update(_orbit_attrs("orbit_last_year_", orbits[-1]))
     attrs.update(_orbit_attrs("reference_orbit_", reference))
     attrs[f"{ATTR_PREFIX}annual_mean"] = ANNUAL_MEAN_NOTE
     out = _convert(ds, dataclasses.replace(axis, calendar=cal), start, end,
