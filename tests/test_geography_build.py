@@ -174,3 +174,35 @@ def test_sea_level_change_taken_from_the_reconstruction(tmp_path):
                                      present="{file: relief.nc, variable: relief}",
                                      extra=rec + "  sea_level_change_m: -100\n"),
                         "g.yaml", base_dir=tmp_path)
+
+
+def test_model_grid_running_north_to_south(tmp_path, cf_compliant):
+    from bcgen import build
+    from bcgen.grids import regular_grid
+
+    g = regular_grid(10.0)
+    ds = g.to_dataset().isel(lat=slice(None, None, -1))
+    ds.to_netcdf(tmp_path / "grid.nc")
+    (tmp_path / "relief.nc").write_bytes((CONFIGS / "glacial_example" / "relief_2deg.nc")
+                                         .read_bytes())
+    spec = parse_spec_text(_SPEC.format(grid="{kind: file, path: grid.nc}",
+                                        present="{file: relief.nc, variable: relief}",
+                                        extra="  sea_level_change_m: -120\n"),
+                           "g.yaml", base_dir=tmp_path)
+    build(spec, tmp_path / "out")
+    path = tmp_path / "out" / "g_geography.nc"
+    cf_compliant(path)
+    with xr.open_dataset(path) as out:
+        assert out.lat.values[0] > out.lat.values[-1]
+        # Rows run north to south: the southernmost (Antarctica) is land, the row at
+        # 45-55 S is mostly ocean (common practice), and the file equals a south-to-north
+        # build turned around.
+        assert out.sea_mask.values[-1].sum() == 0 and out.sea_mask.values[-6].mean() > 0.8
+    spec2 = parse_spec_text(_SPEC.format(grid="{kind: regular, resolution_deg: 10.0}",
+                                         present="{file: relief.nc, variable: relief}",
+                                         extra="  sea_level_change_m: -120\n"),
+                            "g.yaml", base_dir=tmp_path)
+    build(spec2, tmp_path / "out2")
+    with xr.open_dataset(path) as a, xr.open_dataset(tmp_path / "out2" / "g_geography.nc") as b:
+        for name in ("orog", "sea_mask", "sftlf", "water_body"):
+            np.testing.assert_array_equal(a[name].values[::-1], b[name].values)

@@ -57,13 +57,14 @@ class LatLonField:
 
     @property
     def row_area_sr(self) -> np.ndarray:
-        """Area of one cell of each row in steradians, (nlat, 1) (longitudes are even)."""
+        """Cell areas in steradians: (nlat, 1) with even longitude steps, else (nlat, nlon)."""
         lat = np.deg2rad(self.grid.lat_bounds_deg)
         lon = np.deg2rad(self.grid.lon_bounds_deg)
-        widths = lon[:, 1] - lon[:, 0]
-        if not np.allclose(widths, widths[0]):
-            raise ValueError(f"{self.source}: uneven longitude steps")
-        return (np.sin(lat[:, 1]) - np.sin(lat[:, 0]))[:, None] * widths[0]
+        widths = np.abs(lon[:, 1] - lon[:, 0])
+        bands = np.abs(np.sin(lat[:, 1]) - np.sin(lat[:, 0]))[:, None]
+        if np.allclose(widths, widths[0]):
+            return bands * widths[0]
+        return bands * widths[None, :]
 
 
 def read_field(path, variable: str, *, kind: str = "length", key: str = "",

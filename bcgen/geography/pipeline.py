@@ -22,6 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bcgen.errors import GridError
 from bcgen.geography.constants import EARTH_RADIUS_M
 from bcgen.geography.fields import LatLonField
 from bcgen.geography.fractions import Fractions, consistent_fractions
@@ -93,7 +94,7 @@ def paleo_relief_fine(inputs: GeographyInputs) -> np.ndarray:
     if zero is None or epoch.values.shape != zero.values.shape or not (
             np.allclose(epoch.grid.lat_deg, zero.grid.lat_deg)
             and np.allclose(epoch.grid.lon_deg, zero.grid.lon_deg)):
-        raise ValueError("the reconstruction at the epoch and at 0 ka must share one grid")
+        raise GridError("the reconstruction at the epoch and at 0 ka must share one grid")
     anomaly = epoch.values.astype(np.float64) - zero.values
     onto_present = ConservativeRegridder.from_grids(epoch.grid, inputs.present.grid)
     out = onto_present.mean(anomaly)
@@ -118,14 +119,16 @@ def make_geography(inputs: GeographyInputs, grid: Grid,
     Geography
     """
     settings = settings or MaskSettings()
+    if grid.lat_deg.ndim == 1 and grid.lat_deg.size > 1 and grid.lat_deg[0] > grid.lat_deg[-1]:
+        raise GridError(f"grid {grid.name!r}: the geography products need latitudes running "
+                        "south to north; this grid runs north to south")
     present = inputs.present
     to_model = ConservativeRegridder.from_grids(present.grid, grid)
     area = to_model.dst_area_sr * EARTH_RADIUS_M**2
     fine_area = present.row_area_sr
-    lat_edges = np.append(grid.lat_bounds_deg[:, 0], grid.lat_bounds_deg[-1, 1])
-    lon_edges = np.append(grid.lon_bounds_deg[:, 0], grid.lon_bounds_deg[-1, 1])
-    if lat_edges[0] > lat_edges[-1]:
-        raise ValueError("the model grid's latitudes must increase for geography products")
+    lat_b, lon_b = np.sort(grid.lat_bounds_deg, axis=1), np.sort(grid.lon_bounds_deg, axis=1)
+    lat_edges = np.append(lat_b[:, 0], lat_b[-1, 1])
+    lon_edges = np.append(lon_b[:, 0], lon_b[-1, 1])
 
     relief0 = to_model.mean(present.values)
     ocean0_fine, _ = ocean_and_basins(present.values < 0, fine_area, settings.connectivity)

@@ -78,12 +78,22 @@ def resolve_inputs(geo_spec):
 def geography_outputs(ctx, output_class) -> list:
     """Return the geography file and its change report (text and JSON) for a build context."""
     from bcgen.geography import change_report, geography_dataset, make_geography, report_text
+    from bcgen.grids import Grid
 
     inputs, settings, salinity = resolve_inputs(ctx.spec.geography)
-    geo = make_geography(inputs, ctx.grid, settings)
+    grid = ctx.grid
+    # A model grid running north to south is computed south to north and written back
+    # in the model's order.
+    flip = grid.lat_deg.ndim == 1 and grid.lat_deg.size > 1 and grid.lat_deg[0] > grid.lat_deg[-1]
+    if flip:
+        grid = Grid(grid.lat_deg[::-1], grid.lat_bounds_deg[::-1], grid.lon_deg,
+                    grid.lon_bounds_deg, kind=grid.kind, name=grid.name, dims=grid.dims)
+    geo = make_geography(inputs, grid, settings)
     mean, source = salinity if salinity is not None else (None, "")
     report = change_report(geo, mean_salinity=mean, salinity_source=source)
     ds = geography_dataset(geo)
+    if flip:
+        ds = ds.isel({grid.dims[0]: slice(None, None, -1)})
     ds.attrs.update(ctx.attributes("paleogeography on the model grid"))
     ds.attrs["sea_level_change_m"] = float(inputs.sea_level_change_m)
     name = ctx.spec.file_name("geography")
