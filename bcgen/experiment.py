@@ -8,6 +8,7 @@ numbers. :class:`Experiment` turns it, once, into the objects the products need:
 - the model calendar with its anchor, and the anchor in words
   (:mod:`bcgen.solar_calendar.calendars`);
 - the grid (:mod:`bcgen.grids`), the solar constant and the greenhouse gases;
+- the paleogeography inputs and rules (:mod:`bcgen.geography.setup`);
 - the provenance every file carries (creation time, command, spec hash).
 
 The time-slice build (:mod:`bcgen.timeslice`), the transient build
@@ -165,6 +166,20 @@ class Experiment:
     def unique_latitudes_deg(self) -> tuple[np.ndarray, np.ndarray]:
         """Distinct latitudes of the grid and the index of each grid point into them."""
         return self.grid.unique_latitudes_deg()
+
+    @cached_property
+    def geography(self):
+        """Paleogeography inputs and rules, read once (None without a geography section).
+
+        Returns
+        -------
+        bcgen.geography.setup.GeographySetup or None
+        """
+        if self.spec.geography is None:
+            return None
+        from bcgen.geography.setup import resolve_geography
+
+        return resolve_geography(self.spec.geography)
 
     @property
     def solar_constant_wm2(self) -> float:
