@@ -335,6 +335,6 @@ def _report(args, path, out, dim: str, names: list[str]) -> dict:
 
 
 def _time_dim(ds) -> str:
-    from bcgen.convert.timeaxis import find_time_dim
+    from bcgen.cf.reader import find_time_dim
 
     return find_time_dim(ds, "output")

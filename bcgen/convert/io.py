@@ -22,7 +22,8 @@ import cftime
 import numpy as np
 import xarray as xr
 
-from bcgen.convert.timeaxis import find_time_dim, read_time_axis
+from bcgen.cf.reader import find_time_dim
+from bcgen.convert.timeaxis import read_time_axis
 from bcgen.errors import InputFileError
 
 #: Target size of one chunk of input (all times × a block of space), bytes.

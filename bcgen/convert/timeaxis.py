@@ -35,6 +35,7 @@ from typing import Literal
 import cftime
 import numpy as np
 
+from bcgen.cf.reader import find_time_dim
 from bcgen.errors import InputFileError
 from bcgen.solar_calendar.calendars import (
     DEPRECATED_CALENDAR_NAMES,
@@ -42,7 +43,8 @@ from bcgen.solar_calendar.calendars import (
     canonical_calendar,
 )
 
-TimeKind = Literal["monthly", "daily", "any_months"]
+#: What the time steps of a model file are (kinds of written axes: :data:`bcgen.cf.TimeKind`).
+StepKind = Literal["monthly", "daily", "any_months"]
 
 _TOL_DAYS = 1e-5  # about one second: rounding of decoded times
 
@@ -79,7 +81,7 @@ class TimeAxis:
     calendar: ModelCalendar
     origin_year: int
     edges_days: np.ndarray
-    kind: TimeKind
+    kind: StepKind
     cyclic: bool
     bounds_name: str | None
     climatology: tuple[int, int] | None
@@ -122,29 +124,6 @@ def _as_cftime(values: np.ndarray, calendar: str) -> np.ndarray:
                               only_use_cftime_datetimes=True)
         return np.asarray(out, dtype=object)
     return np.asarray(values, dtype=object)
-
-
-def find_time_dim(ds, source: str) -> str:
-    """Name of the one time coordinate of ``ds`` (decoded dates), or an error naming ``source``."""
-    found = []
-    for name, var in ds.coords.items():
-        if var.ndim != 1 or var.dims[0] != name:
-            continue
-        if np.issubdtype(var.dtype, np.datetime64) or (
-            var.dtype == object and var.size and isinstance(var.values[0], cftime.datetime)
-        ):
-            found.append(str(name))
-    if not found:
-        raise InputFileError(f"{source}: no time axis (a coordinate with CF units "
-                             "'days since ...' and a calendar); cannot convert")
-    if len(found) > 1:
-        preferred = [n for n in found if ds[n].attrs.get("axis") == "T"
-                     or ds[n].attrs.get("standard_name") == "time"]
-        if len(preferred) != 1:
-            raise InputFileError(f"{source}: several time axes ({', '.join(found)}); "
-                                 "expected one")
-        found = preferred
-    return found[0]
 
 
 def read_time_axis(ds, source: str = "input", *, cyclic: bool | None = None,
@@ -322,7 +301,7 @@ def _years_between(later, earlier, cal: ModelCalendar) -> int:
     return years
 
 
-def _classify(bounds, edges, expect, source) -> TimeKind:
+def _classify(bounds, edges, expect, source) -> StepKind:
     lengths = np.diff(edges)
     if expect == "any_months":
         if np.all((lengths > 20) & (lengths < 40)):

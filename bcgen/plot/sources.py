@@ -23,13 +23,13 @@ Fields computed from an epoch or a spec are evaluated on 1° latitudes from
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Literal
 
 import numpy as np
 
+from bcgen.cf.reader import bounds_variable, find_coordinates, time_unit_days
 from bcgen.epochs import epoch_labels, parse_epoch, parse_epochs
 from bcgen.errors import BcgenError, EpochError, InputFileError
 from bcgen.insolation import CMIP6_PICONTROL_SOLAR_CONSTANT_WM2, monthly_insolation
@@ -343,9 +343,6 @@ def compute_field(
 
 
 # --- built files -------------------------------------------------------------------------
-_UNITS_RE = re.compile(r"^\s*(days?|hours?|minutes?|seconds?)\s+since\s", re.IGNORECASE)
-_LAT_UNITS = ("degrees_north", "degree_north", "degree_N", "degrees_N", "degreeN", "degreesN")
-_UNIT_DAYS = {"day": 1.0, "hour": 1 / 24, "minute": 1 / 1440, "second": 1 / 86400}
 
 
 @dataclass(frozen=True)
@@ -431,18 +428,13 @@ def _field_from_file(path: Path) -> MonthlyField:
 
 def _time_bounds_days(ds, time_dim: str, path: Path) -> np.ndarray:
     time = ds[time_dim]
-    name = time.attrs.get("climatology") or time.attrs.get("bounds")
+    name = bounds_variable(time)
     if not name or name not in ds.variables:
         raise InputFileError(
             f"{path}: time axis '{time_dim}' has no 'climatology' or 'bounds' variable; "
             "expected month bounds (CF sections 7.1, 7.4)"
         )
-    match = _UNITS_RE.match(str(time.attrs.get("units", "")))
-    if not match:
-        raise InputFileError(
-            f"{path}: time units {time.attrs.get('units')!r} are not '<days|hours|...> since ...'"
-        )
-    scale = _UNIT_DAYS[match[1].lower().rstrip("s")]
+    scale = time_unit_days(time.attrs.get("units"), str(path))
     bounds = np.asarray(ds[name].values, dtype=float) * scale
     if bounds.shape != (12, 2) or np.any(bounds[:, 1] <= bounds[:, 0]):
         raise InputFileError(f"{path}: {name} must hold 12 increasing (start, end) pairs")
@@ -451,9 +443,7 @@ def _time_bounds_days(ds, time_dim: str, path: Path) -> np.ndarray:
 
 def _latitude(ds, da, time_dim: str, path: Path) -> np.ndarray:
     """Latitude of every point of ``da`` without its time axis (dims in ``da``'s order)."""
-    names = [n for n in ds.variables if n != "insolation" and set(ds[n].dims) <= set(da.dims)
-             and (ds[n].attrs.get("standard_name") == "latitude"
-                  or str(ds[n].attrs.get("units", "")) in _LAT_UNITS)]
+    names = [n for n in find_coordinates(ds, "latitude", da.dims) if n != "insolation"]
     if not names:
         raise InputFileError(f"{path}: no latitude coordinate for 'insolation' (standard_name "
                              "latitude or units degrees_north)")
