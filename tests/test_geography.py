@@ -16,7 +16,7 @@ from bcgen.geography.cleanup import clean_ocean, ocean_edge_neighbours
 from bcgen.geography.fields import LatLonField, read_field
 from bcgen.geography.fractions import LAND_THRESHOLD, consistent_fractions
 from bcgen.geography.landsea import MaskSettings, land_sea
-from bcgen.geography.mask import label_water
+from bcgen.geography.mask import label_water, ocean_and_basins
 from bcgen.geography.pipeline import GeographyInputs, make_geography
 from bcgen.geography.products import encoding, geography_dataset
 from bcgen.geography.regrid import ConservativeRegridder
@@ -130,6 +130,19 @@ def test_label_water_joins_bodies_across_the_seam_and_respects_connectivity():
     assert labels[4, 2] == labels[5, 3] and n == 2
     labels, _ = label_water(water, "edge", periodic=False)
     assert labels[2, 0] != labels[2, 7]
+
+
+@pytest.mark.parametrize("connectivity", ["edge", "corner"])
+def test_world_ocean_mask_is_the_largest_body_of_the_full_labelling(connectivity):
+    # Two ways to the same set: the fast fine-grid path and the full labelling.
+    from bcgen.geography.mask import world_ocean_mask
+
+    grid = regular_grid(2.0)
+    water = np.random.default_rng(3).random(grid.shape) < 0.55
+    area = grid.cell_area_weights()
+    expected, _ = ocean_and_basins(water, area, connectivity)
+    assert expected.sum() > 100
+    assert np.array_equal(world_ocean_mask(water, area[:, :1], connectivity), expected)
 
 
 def _basin_world():

@@ -48,12 +48,26 @@ def label_water(water: np.ndarray, connectivity: Connectivity = "edge",
     n : int
         Number of bodies.
     """
+    labels, lut = _labels_and_seam(water, connectivity, periodic)
+    if lut is None:
+        return labels, int(labels.max(initial=0))
+    labels = lut[labels]
+    return labels, int(lut.max())
+
+
+def _labels_and_seam(water, connectivity, periodic):
+    """Labels of ``scipy.ndimage.label`` and the table merging them across the seam.
+
+    Returns ``(labels, lut)``: ``lut[labels]`` are the merged labels 0..n (``lut`` is
+    None when nothing crosses the seam, so the labels stand as they are).
+    """
     if connectivity not in CONNECTIVITIES:
         raise ValueError(f"connectivity must be one of {CONNECTIVITIES}, not {connectivity!r}")
     structure = ndi.generate_binary_structure(2, 1 if connectivity == "edge" else 2)
     labels, n = ndi.label(water, structure=structure)
+    labels = labels.astype(np.int32, copy=False)
     if not periodic or n == 0:
-        return labels.astype(np.int32, copy=False), n
+        return labels, None
     first, last = labels[:, 0], labels[:, -1]
     pairs = [(first, last)]
     if connectivity == "corner":
@@ -62,13 +76,32 @@ def label_water(water: np.ndarray, connectivity: Connectivity = "edge",
     b = np.concatenate([p[1] for p in pairs])
     keep = (a > 0) & (b > 0)
     if not keep.any():
-        return labels.astype(np.int32, copy=False), n
+        return labels, None
     graph = coo_array((np.ones(int(keep.sum())), (a[keep], b[keep])), shape=(n + 1, n + 1))
     _, merged = connected_components(graph, directed=False)
     lut = np.zeros(n + 1, dtype=np.int32)
     lut[1:] = np.unique(merged[1:], return_inverse=True)[1] + 1
-    labels = lut[labels]
-    return labels, int(labels.max())
+    return labels, lut
+
+
+def world_ocean_mask(water: np.ndarray, area: np.ndarray,
+                     connectivity: Connectivity = "edge") -> np.ndarray:
+    """Cells of the largest water body (the world ocean), across the longitude seam.
+
+    The same result as ``ocean_and_basins(water, area, connectivity)[0]``, with one pass
+    over the cells fewer (for 5-minute fields).
+    """
+    labels, lut = _labels_and_seam(water, connectivity, True)
+    n_raw = int(labels.max(initial=0))
+    if n_raw == 0:
+        return np.zeros(water.shape, dtype=bool)
+    sizes = body_areas(labels, np.asarray(area), n_raw)
+    if lut is not None:
+        sizes = np.bincount(lut, weights=sizes, minlength=int(lut.max()) + 1)
+    sizes[0] = -1.0
+    world = int(np.argmax(sizes))
+    is_world = (np.arange(sizes.size) == world) if lut is None else (lut == world)
+    return is_world[labels]
 
 
 def body_areas(labels: np.ndarray, area: np.ndarray, n: int) -> np.ndarray:
@@ -80,7 +113,7 @@ def body_areas(labels: np.ndarray, area: np.ndarray, n: int) -> np.ndarray:
     """
     nlat = labels.shape[0]
     if area.ndim == 2 and area.shape[1] == 1 and nlat * (n + 1) <= 20_000_000:
-        rows = np.arange(nlat, dtype=np.int64)[:, None] * (n + 1)
+        rows = np.arange(nlat, dtype=labels.dtype)[:, None] * (n + 1)
         counts = np.bincount((labels + rows).ravel(), minlength=nlat * (n + 1))
         return area[:, 0] @ counts.reshape(nlat, n + 1)
     return np.bincount(labels.ravel(), weights=np.broadcast_to(area, labels.shape).ravel(),

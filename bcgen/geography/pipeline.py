@@ -27,7 +27,7 @@ from bcgen.geography.constants import EARTH_RADIUS_M
 from bcgen.geography.fields import LatLonField
 from bcgen.geography.fractions import Fractions, consistent_fractions
 from bcgen.geography.landsea import LandSea, MaskSettings, land_sea
-from bcgen.geography.mask import ocean_and_basins
+from bcgen.geography.mask import world_ocean_mask
 from bcgen.geography.regrid import ConservativeRegridder
 from bcgen.grids import Grid
 
@@ -131,13 +131,13 @@ def make_geography(inputs: GeographyInputs, grid: Grid,
     lon_edges = np.append(lon_b[:, 0], lon_b[-1, 1])
 
     relief0 = to_model.mean(present.values)
-    ocean0_fine, _ = ocean_and_basins(present.values < 0, fine_area, settings.connectivity)
+    ocean0_fine = world_ocean_mask(present.values < 0, fine_area, settings.connectivity)
     land0_fine = to_model.fraction(~ocean0_fine)
     del ocean0_fine
 
     paleo_fine = paleo_relief_fine(inputs)
     relief1 = to_model.mean(paleo_fine)
-    ocean1_fine, _ = ocean_and_basins(paleo_fine < 0, fine_area, settings.connectivity)
+    ocean1_fine = world_ocean_mask(paleo_fine < 0, fine_area, settings.connectivity)
     del paleo_fine
     land1_fine = to_model.fraction(~ocean1_fine)
     del ocean1_fine

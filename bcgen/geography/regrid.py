@@ -103,9 +103,11 @@ class ConservativeRegridder:
 
     lat_matrix: sp.csr_array
     lon_matrix: sp.csr_array
-    dst_area_sr: np.ndarray
-    src_area_sr: np.ndarray
-    covered_area_sr: np.ndarray  # area of each target cell covered by source cells
+    #: Target rows' and columns' measures covered by the source: sin(lat) and radians.
+    covered_rows: np.ndarray
+    covered_cols: np.ndarray
+    dst_edges: tuple
+    src_edges: tuple
 
     @classmethod
     def between(cls, src_lat_bounds_deg, src_lon_bounds_deg, dst_lat_bounds_deg,
@@ -118,11 +120,9 @@ class ConservativeRegridder:
         lat_m = _overlap_matrix(src_lat, dst_lat, _sin_deg)
         # (n_src_lon, n_dst_lon): the right factor of L X R.
         lon_m = _overlap_matrix(src_lon, dst_lon, np.deg2rad, period=360.0).T.tocsr()
-        dst_area = np.outer(np.diff(_sin_deg(dst_lat)), np.deg2rad(np.diff(dst_lon)))
-        src_area = np.outer(np.diff(_sin_deg(src_lat)), np.deg2rad(np.diff(src_lon)))
-        covered = np.outer(np.asarray(lat_m.sum(axis=1)).ravel(),
-                           np.asarray(lon_m.sum(axis=0)).ravel())
-        return cls(lat_m, lon_m, dst_area, src_area, covered)
+        rows = np.asarray(lat_m.sum(axis=1)).ravel()
+        cols = np.asarray(lon_m.sum(axis=0)).ravel()
+        return cls(lat_m, lon_m, rows, cols, (dst_lat, dst_lon), (src_lat, src_lon))
 
     @classmethod
     def from_grids(cls, source, target) -> ConservativeRegridder:
@@ -135,6 +135,23 @@ class ConservativeRegridder:
                 )
         return cls.between(source.lat_bounds_deg, source.lon_bounds_deg,
                            target.lat_bounds_deg, target.lon_bounds_deg)
+
+    @property
+    def dst_area_sr(self) -> np.ndarray:
+        """Target cell areas in steradians."""
+        lat, lon = self.dst_edges
+        return np.outer(np.diff(_sin_deg(lat)), np.deg2rad(np.diff(lon)))
+
+    @property
+    def src_area_sr(self) -> np.ndarray:
+        """Source cell areas in steradians."""
+        lat, lon = self.src_edges
+        return np.outer(np.diff(_sin_deg(lat)), np.deg2rad(np.diff(lon)))
+
+    @property
+    def covered_area_sr(self) -> np.ndarray:
+        """Area of each target cell covered by source cells, in steradians."""
+        return np.outer(self.covered_rows, self.covered_cols)
 
     def integrate(self, values: np.ndarray) -> np.ndarray:
         """Area integral of ``values`` over each target cell (steradians times units).
@@ -167,12 +184,14 @@ class ConservativeRegridder:
 
     def mean(self, values: np.ndarray) -> np.ndarray:
         """Area-weighted mean of ``values`` over each target cell (NaN where uncovered)."""
-        covered = self.covered_area_sr
         out = self.integrate(values)
+        rows, cols = self.covered_rows, self.covered_cols
         with np.errstate(invalid="ignore", divide="ignore"):
-            out /= covered
-        if not covered.all():
-            out[covered == 0] = np.nan
+            out /= rows[:, None]
+            out /= cols[None, :]
+        if not (rows.all() and cols.all()):
+            out[rows == 0, :] = np.nan
+            out[:, cols == 0] = np.nan
         return out
 
     def fraction(self, flags: np.ndarray) -> np.ndarray:

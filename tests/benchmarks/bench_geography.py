@@ -3,8 +3,9 @@
 Two measurements, each in a fresh Python process so that its peak resident memory is
 its own:
 
-1. The whole chain (``bcgen.geography``): read ETOPO5, add a reconstruction anomaly
-   (an invented 1-degree dome), lower the sea level by 120 m, regrid conservatively,
+1. The whole chain (``bcgen.geography``), median of three processes: read ETOPO5,
+   add a reconstruction anomaly (an invented 1-degree dome), lower the sea level by
+   120 m, regrid conservatively,
    flood-fill and clean the mask (with a Gibraltar strait rule), make the fractions,
    the change report and its text (imports done before the clock starts). Targets: under
    5 s and under 1 GiB.
@@ -134,12 +135,14 @@ def main(argv=None) -> int:
     if not Path(ETOPO5).is_file():
         print(f"{ETOPO5} not found: apt-get install ferret-datasets")
         return 1
-    c = run_child("chain", args.rounds)
+    runs = [run_child("chain", args.rounds) for _ in range(3)]
+    c = {"seconds": statistics.median(r["seconds"] for r in runs),
+         "peak_mib": max(r["peak_mib"] for r in runs)}
     r = run_child("regrid", args.rounds)
     ratio = r["ours_s"] / r["block_s"]
     ok_chain = c["seconds"] < TARGET_S and c["peak_mib"] < TARGET_MIB
-    print(f"whole chain (read, anomaly, regrid, mask, cleanup, fractions, report): "
-          f"{c['seconds']:.2f} s, peak {c['peak_mib']:.0f} MiB "
+    print(f"whole chain (read, anomaly, regrid, mask, cleanup, fractions, report), median of "
+          f"3 fresh processes: {c['seconds']:.2f} s, peak {c['peak_mib']:.0f} MiB "
           f"(targets {TARGET_S:g} s, {TARGET_MIB:.0f} MiB: {'met' if ok_chain else 'NOT met'})")
     print(f"regridding ETOPO5 to 1 deg: {r['ours_s'] * 1e3:.1f} ms vs numpy block mean "
           f"{r['block_s'] * 1e3:.1f} ms: ratio {ratio:.2f} (target {TARGET_RATIO:g}: "
