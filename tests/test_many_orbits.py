@@ -40,8 +40,10 @@ CALENDARS = [
 @pytest.fixture
 def tiny_blocks(monkeypatch):
     """Blocks of one or two orbits and a few quadrature pieces, so block edges are exercised."""
-    monkeypatch.setattr(monthly_module, "VALUES_PER_BLOCK", 2 * 366 * LATITUDES.size)
+    monkeypatch.setattr(monthly_module, "VALUES_PER_BLOCK", 2 * 24 * LATITUDES.size)
     monkeypatch.setattr(monthly_module, "INTERVALS_PER_BLOCK", 37)
+    monkeypatch.setattr(monthly_module, "QUADRATURE_VALUES_PER_BLOCK",
+                        5 * monthly_module.SMOOTH_NODES * LATITUDES.size)
     monkeypatch.setattr(quadrature_module, "PIECES_PER_BLOCK", 53)
 
 

@@ -84,9 +84,13 @@ INTERVALS_PER_BLOCK = 2**15
 #: relative there (obliquities 22-24.5°), 5e-9 for 12 nodes without the margin.
 SMOOTH_MARGIN = 0.05
 SMOOTH_NODES = 12
-#: Values per orbit block of :func:`monthly_insolation` (orbits x latitudes x days of a year):
-#: 2**20 values are 8 MiB per temporary array.
-VALUES_PER_BLOCK = 2**20
+#: Values per orbit block of :func:`monthly_insolation` and of the seasonal metrics (orbits x
+#: latitudes x days or instants of a year): 2**17 values are 1 MiB per temporary array, so
+#: a block's arrays stay in the processor's caches (8,001 orbits at one latitude ran 1.5
+#: times faster than with blocks of 2**20 values on a loaded 2-core machine).
+VALUES_PER_BLOCK = 2**17
+#: Values per block of the shared-declination quadrature (pieces x nodes x latitudes).
+QUADRATURE_VALUES_PER_BLOCK = 2**18
 
 
 def _kinks_in_longitude(lat_rad, obliquity_rad, lower) -> np.ndarray:
@@ -171,7 +175,7 @@ def _integrate_smooth_latitudes(lat, lo, hi, sin_eps) -> np.ndarray:
     g, wg = mapped_gauss_legendre(SMOOTH_NODES)
     sin_lat, cos_lat = np.sin(lat), np.cos(lat)
     out = np.zeros((lo.size, lat.size))
-    step = max(1, VALUES_PER_BLOCK // (SMOOTH_NODES * lat.size))
+    step = max(1, QUADRATURE_VALUES_PER_BLOCK // (SMOOTH_NODES * lat.size))
     for i in range(0, row.size, step):
         rows = row[i : i + step]
         x = start[i : i + step, np.newaxis] + width[i : i + step, np.newaxis] * g
@@ -441,7 +445,10 @@ def monthly_insolation(
     start = table.start_day.reshape(-1, 12)
     end = table.end_day.reshape(-1, 12)
     values = np.empty((flat.shape[0], lat.size, 12))
-    for block in orbit_blocks(flat.shape[0], lat.size * 366):
+    # Per orbit: a year of daily values, or 12 months of two arcs (the quadrature inside
+    # works in blocks of its own).
+    per_orbit = lat.size * (366 if months == "fixed_day" else 24)
+    for block in orbit_blocks(flat.shape[0], per_orbit):
         if months == "fixed_day":
             daily = daily_insolation(flat[block], calendar, lat.ravel(), s0, year=year,
                                      method=daily_method)
