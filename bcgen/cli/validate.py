@@ -46,6 +46,18 @@ def _non_negative(text: str) -> float:
     return value
 
 
+def _positive_minutes(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a number of minutes, got {text!r}") from None
+    if not math.isfinite(value) or not 0 < value <= 1440 or abs(
+            1440 / value - round(1440 / value)) > 1e-6:
+        raise argparse.ArgumentTypeError(f"expected minutes that divide the day (60, 180, ...), "
+                                         f"got {text!r}")
+    return value
+
+
 def register(subparsers) -> argparse.ArgumentParser:
     """Add the ``validate`` subcommand."""
     parser = subparsers.add_parser(
@@ -73,11 +85,17 @@ def register(subparsers) -> argparse.ArgumentParser:
     parser.add_argument("--noise-wm2", type=_non_negative, default=None, metavar="SIGMA",
                         help="noise level of the model output, W m-2 (default: estimated from "
                              "the residual; 0 turns the noise allowance off)")
-    parser.add_argument("--daily-method", choices=("midday", "day_average"), default=None,
-                        help="how the reference forms daily means: day_average, the exact "
-                             "time mean of the model's time steps (default), or midday, the "
-                             "Sun's position at 12:00 of each day (a model that updates its "
-                             "orbit once a day, or reads bcgen's midday daily products)")
+    parser.add_argument("--daily-method", choices=("midday", "day_average", "timestep_mean"),
+                        default=None,
+                        help="force the daily-mean convention of the output: midday (the "
+                             "daily-mean formula at 12:00 of each day), day_average (the exact "
+                             "mean over the day) or timestep_mean (the mean over the model's "
+                             "time steps; give --timestep-minutes). Default: the file's "
+                             "daily_method attribute, else the spec's insolation.daily_method "
+                             "when it states one, else the convention that fits the output")
+    parser.add_argument("--timestep-minutes", type=_positive_minutes, default=None,
+                        metavar="MINUTES",
+                        help="the model's time step, for --daily-method timestep_mean")
     parser.add_argument("--accept-file-calendar", action="store_true",
                         help="accept a model file on another calendar than the spec's (360_day "
                              "output for a noleap experiment ...): its insolation is then "
@@ -93,7 +111,7 @@ def run(args: argparse.Namespace) -> int:
 
     result = validate(args.model_file, args.spec, var=args.var,
                       tolerance_wm2=args.tolerance_wm2, noise_wm2=args.noise_wm2,
-                      daily_method=args.daily_method,
+                      daily_method=args.daily_method, timestep_minutes=args.timestep_minutes,
                       accept_file_calendar=args.accept_file_calendar)
     print(to_json(result) if args.format == "json" else to_text(result))
     if result.verdict != "consistent":

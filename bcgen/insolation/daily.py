@@ -489,3 +489,199 @@ def instantaneous_insolation(
     cos_zenith = np.sin(lat) * sin_dec + np.cos(lat) * cos_dec * np.cos(hour_angle)
     rho2 = distance_factor(lam, orbit.eccentricity, orbit.perihelion_longitude_rad)
     return s0 * rho2 * np.maximum(cos_zenith, 0.0)
+
+
+# --- means over any intervals of model time (model output of any daily-mean convention) -----
+#: Ways a daily (or longer) mean can be formed from the daily-mean formula, for
+#: :func:`interval_mean_insolation_wm2`: the two of :data:`DAILY_METHODS`, the mean of a
+#: model's time steps, and the formula at 00:00 (which no model intends; validation uses it
+#: to recognise that mistake).
+INTERVAL_MEAN_METHODS: dict[str, str] = {
+    **DAILY_METHODS,
+    "timestep_mean": (
+        "mean of the daily-mean formula at the middle of each model time step (steps of a "
+        "fixed length from 00:00), the zonal mean of what a model's radiation steps receive; "
+        "it tends to the day average as the step shrinks"
+    ),
+    "start_of_day": (
+        "daily-mean formula evaluated at the start of each model day (t = n, 00:00) instead "
+        "of its middle"
+    ),
+}
+
+
+def _day_pieces(start: np.ndarray, end: np.ndarray):
+    """Split intervals [start, end) at whole model days.
+
+    Returns (interval index, piece start, piece end, day number, instantaneous) per piece;
+    a zero-length interval is one instantaneous piece at its time.
+    """
+    instant = end - start <= 1e-9
+    first = np.floor(start)
+    count = np.where(instant, 1, np.maximum(np.ceil(end) - first, 1)).astype(int)
+    owner = np.repeat(np.arange(start.size), count)
+    within = np.arange(owner.size) - np.repeat(np.cumsum(count) - count, count)
+    day = first[owner] + within
+    a = np.maximum(day, start[owner])
+    b = np.where(instant[owner], a, np.minimum(day + 1.0, end[owner]))
+    keep = (b > a) | instant[owner]
+    return owner[keep], a[keep], b[keep], day[keep], instant[owner][keep]
+
+
+def _piece_nodes(a, b, day, instant, method: str, step_days: float | None):
+    """Return times (n_pieces, k) and weights (summing to the piece length; 1 if instant)."""
+    length = (b - a)[:, np.newaxis]
+    if method == "midday":
+        t, w = (day + 0.5)[:, np.newaxis], length
+    elif method == "start_of_day":
+        t, w = day[:, np.newaxis], length
+    elif method == "day_average":
+        x, wx = np.polynomial.legendre.leggauss(DAY_AVERAGE_NODES)
+        t = a[:, np.newaxis] + length * (0.5 * (x + 1.0))
+        w = length * (0.5 * wx)
+    else:  # timestep_mean: steps [n + j dt, n + (j + 1) dt), each at its middle
+        n_steps = int(round(1.0 / step_days))
+        lo = day[:, np.newaxis] + step_days * np.arange(n_steps)
+        t = lo + 0.5 * step_days
+        w = np.clip(np.minimum(b[:, np.newaxis], lo + step_days)
+                    - np.maximum(a[:, np.newaxis], lo), 0.0, None)
+    t = np.where(instant[:, np.newaxis], a[:, np.newaxis], t)
+    w = np.where(instant[:, np.newaxis], 1.0 / t.shape[1], w)
+    return t, w
+
+
+def interval_mean_insolation_wm2(
+    position,
+    orbit: OrbitalElements,
+    latitude_deg,
+    start_days,
+    end_days,
+    solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+    method: str = "day_average",
+    step_days: float | None = None,
+) -> np.ndarray:
+    r"""Zonal-mean TOA insolation averaged over intervals of model time (W m-2).
+
+    Each interval [t₁, t₂) is cut at whole model days; each piece of a day
+    contributes, weighted by its length, the daily mean of that day as
+    ``method`` forms it (:data:`INTERVAL_MEAN_METHODS`):
+
+    * ``midday``: the daily-mean formula at t = n + 0.5 (PMIP1 convention);
+    * ``day_average``: the formula averaged over the piece with
+      :data:`DAY_AVERAGE_NODES`-point Gauss-Legendre quadrature in time, the
+      pieces in which a latitude enters or leaves polar night split there (as
+      :func:`daily_insolation` does), so it is the exact time mean;
+    * ``timestep_mean``: the formula at the middle of each time step of
+      ``step_days`` (a whole number of steps per day, from 00:00), weighted by
+      the part of the step inside the interval;
+    * ``start_of_day``: the formula at t = n (00:00).
+
+    Since the mean over all longitudes of the instantaneous flux at a moment is
+    the daily-mean formula at that moment (Berger 1978), each of these is the
+    zonal mean a model's daily or monthly output holds under that convention.
+    A zero-length interval gives the formula at its time.
+
+    Parameters
+    ----------
+    position : SolarYear or compatible
+        Maps model time to the Sun's position: ``true_longitude_rad(t_days)`` and
+        ``time_of_true_longitude_days(true_longitude_rad, near_days)`` (any object
+        with these two methods, e.g. a time-shifted view of a :class:`SolarYear`).
+    orbit : OrbitalElements
+        One set of elements (scalar): obliquity, eccentricity and ϖ of the flux.
+    latitude_deg : array_like
+        Latitudes, degrees north (1-D).
+    start_days, end_days : array_like
+        Interval bounds, fractional days after 1 January 00:00 of the position's year.
+    solar_constant_wm2 : float
+        S0, W m-2.
+    method : str
+        A key of :data:`INTERVAL_MEAN_METHODS`.
+    step_days : float, optional
+        Time step of ``timestep_mean``, days (1 day divided by a whole number).
+
+    Returns
+    -------
+    numpy.ndarray
+        Shape (n_intervals, n_latitudes).
+    """
+    if method not in INTERVAL_MEAN_METHODS:
+        raise InsolationError(f"method: unknown method {method!r}; expected one of "
+                              f"{', '.join(INTERVAL_MEAN_METHODS)}")
+    if method == "timestep_mean":
+        steps = 1.0 / step_days if step_days else 0.0
+        if not step_days or step_days <= 0 or abs(steps - round(steps)) > 1e-6 * steps:
+            raise InsolationError(f"step_days: a time step must divide the day into a whole "
+                                  f"number of steps (1/24 for hourly steps); got {step_days}")
+    if orbit.shape != ():
+        raise InsolationError("orbit: interval means take one set of orbital elements")
+    lat = check_latitude_deg(latitude_deg).ravel()
+    s0 = float(check_solar_constant(solar_constant_wm2))
+    start = np.atleast_1d(np.asarray(start_days, dtype=float))
+    end = np.atleast_1d(np.asarray(end_days, dtype=float))
+    if start.shape != end.shape or start.ndim != 1 or np.any(~(end >= start)):
+        raise InsolationError("start_days, end_days: expected 1-D interval bounds with "
+                              "end >= start")
+    owner, a, b, day, instant = _day_pieces(start, end)
+    t, w = _piece_nodes(a, b, day, instant, method, step_days)
+    lam = position.true_longitude_rad(t)
+    values = daily_mean_insolation_wm2(lat[:, np.newaxis, np.newaxis], lam[np.newaxis], orbit,
+                                       s0)
+    pieces = np.einsum("lpk,pk->lp", values, w)  # (nlat, n_pieces)
+    if method == "day_average":
+        _split_pieces_at_polar_edges(pieces, position, orbit, lat, a, b, instant, s0)
+    total = np.add.reduceat(w.sum(axis=1), np.searchsorted(owner, np.arange(start.size)))
+    sums = np.add.reduceat(pieces, np.searchsorted(owner, np.arange(start.size)), axis=1)
+    return (sums / total).T
+
+
+def _split_pieces_at_polar_edges(pieces, position, orbit, lat_deg, a, b, instant, s0) -> None:
+    """Redo, in place, the day-average pieces in which a latitude crosses a polar-night edge.
+
+    The edge times come from the position's inverse (near points a third of a year
+    apart, so that every crossing in the span is found); each such piece is
+    integrated in two parts split at the edge with the mapped rule of
+    :mod:`bcgen.insolation.quadrature`.
+    """
+    lat = np.deg2rad(lat_deg)
+    edges = polar_edge_longitudes_rad(lat, orbit.obliquity_rad)  # (nlat, 4)
+    rows, cols = np.nonzero(np.isfinite(edges))
+    if rows.size == 0 or np.all(instant):
+        return
+    span = np.arange(float(a.min()) - 1.0, float(b.max()) + 122.0, 120.0)
+    times = np.stack([position.time_of_true_longitude_days(edges[rows, cols], near_days=near)
+                      for near in span], axis=-1)  # (n_edges, n_near)
+    lat_of = np.repeat(rows[:, np.newaxis], span.size, axis=1).ravel()
+    times = times.ravel()
+    key = np.unique(np.stack([lat_of, np.round(times, 7)], axis=1), axis=0)
+    lat_of, times = key[:, 0].astype(int), key[:, 1]
+    hit_edge, hit_piece = np.nonzero((a[np.newaxis] < times[:, np.newaxis])
+                                     & (times[:, np.newaxis] < b[np.newaxis])
+                                     & ~instant[np.newaxis])
+    if hit_edge.size == 0:
+        return
+    lo, hi, te = a[hit_piece], b[hit_piece], times[hit_edge]
+    g, wg = mapped_gauss_legendre(DAY_AVERAGE_NODES)
+    t = np.concatenate([lo[:, None] + (te - lo)[:, None] * g,
+                        te[:, None] + (hi - te)[:, None] * g], axis=-1)
+    w = np.concatenate([(te - lo)[:, None] * wg, (hi - te)[:, None] * wg], axis=-1)
+    phi = lat_deg[lat_of[hit_edge]][:, np.newaxis]
+    values = daily_mean_insolation_wm2(phi, position.true_longitude_rad(t), orbit, s0)
+    pieces[lat_of[hit_edge], hit_piece] = np.sum(values * w, axis=-1)
+
+
+def daily_mean_from_geometry_wm2(latitude_deg, declination_rad, distance_factor_,
+                                 solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2
+                                 ) -> np.ndarray:
+    r"""Daily-mean insolation from a given declination and distance factor (W m-2).
+
+    The formula of :func:`daily_mean_insolation_wm2` with δ and (a/r)² given
+    directly (as a model's orbit routine prints them) instead of computed from
+    the true longitude: :math:`\bar Q = (S_0/\pi)\,(a/r)^2\,q(\varphi, \delta)`
+    (Berger 1978). Broadcasts its arguments.
+    """
+    lat = np.deg2rad(check_latitude_deg(latitude_deg))
+    s0 = check_solar_constant(solar_constant_wm2)
+    dec = np.asarray(declination_rad, dtype=float)
+    q = daily_factor(np.sin(lat), np.cos(lat), np.sin(dec), np.cos(dec))
+    return (s0 / np.pi) * np.asarray(distance_factor_, dtype=float) * q

@@ -32,11 +32,13 @@ from typing import Literal
 import numpy as np
 
 from bcgen.errors import BcgenError, InputFileError, SpecError
+from bcgen.insolation.daily import daily_mean_from_geometry_wm2
 from bcgen.insolation.daily import distance_factor as _distance_factor
 from bcgen.solar_calendar.calendars import Anchor, ModelCalendar
 from bcgen.validation import compare as _compare
 from bcgen.validation.compare import DEFAULT_BAND_EDGES_DEG, DEFAULT_TOLERANCE_WM2, Comparison
-from bcgen.validation.diagnose import CODES, Diagnosis, Finding
+from bcgen.validation.convention import CANDIDATES, Convention, label, pick
+from bcgen.validation.diagnose import CODES, Diagnosis, Finding, say_indistinguishable
 from bcgen.validation.readers import (
     TABLE_COLUMNS,
     ModelOutput,
@@ -46,7 +48,7 @@ from bcgen.validation.readers import (
     read_model_output,
     read_orbit_table,
 )
-from bcgen.validation.reference import ForwardModel, Setup, insolation_from_geometry
+from bcgen.validation.reference import CONVENTIONS, ForwardModel, Setup
 
 Verdict = Literal["consistent", "inconsistent"]
 
@@ -54,7 +56,7 @@ Verdict = Literal["consistent", "inconsistent"]
 class ValidateOptionError(BcgenError, ValueError):
     """An impossible option of ``bcgen validate`` (a negative tolerance or noise level)."""
 
-#: How the reference forms the time mean of each model value by default (see setup_from_spec).
+#: The convention preferred when the output cannot tell them apart (see convention.py).
 DEFAULT_DAILY_METHOD = "day_average"
 
 #: Latitudes at which an orbit table is turned into insolation, degrees north.
@@ -94,6 +96,9 @@ class ValidationResult:
         Whether σ was estimated (not given).
     accept_file_calendar : bool
         Whether a file calendar other than the spec's was accepted (rule E).
+    convention : Convention or None
+        The daily-mean convention of the reference and how it was found
+        (:mod:`bcgen.validation.convention`).
     """
 
     verdict: Verdict
@@ -111,6 +116,7 @@ class ValidationResult:
     noise_limit_wm2: float = float("nan")
     noise_estimated: bool = True
     accept_file_calendar: bool = False
+    convention: Convention | None = None
 
     @property
     def max_abs_error_wm2(self) -> float:
@@ -126,14 +132,11 @@ class ValidationResult:
 def setup_from_spec(spec, daily_method: str | None = None) -> Setup:
     """Return the experiment a model is checked against, from a spec (path or ExperimentSpec).
 
-    ``daily_method`` defaults to :data:`DEFAULT_DAILY_METHOD` (``day_average``),
-    not to the spec's ``insolation.daily_method``: that key says how bcgen's own
-    daily products are formed, while a model's daily or monthly mean is the time
-    mean of its time steps, whose exact reference is the day average. The two
-    differ by up to about 1.2 W m-2 at the poles on the equinox days (the day
-    a pole enters or leaves polar night) and by less than 0.05 W m-2 almost
-    everywhere else. Give ``"midday"`` for a model that places the Sun once a
-    day at noon, or that reads bcgen's midday daily products as its forcing.
+    The one place where validation reads a spec. ``daily_method`` sets the
+    reference's convention; otherwise it is :data:`DEFAULT_DAILY_METHOD` until
+    :func:`validate_output` determines it. ``spec_daily_method`` keeps the
+    spec's ``insolation.daily_method`` when the spec states it (a default is
+    not a statement).
     """
     from bcgen.spec import ExperimentSpec, load_spec
 
@@ -151,7 +154,22 @@ def setup_from_spec(spec, daily_method: str | None = None) -> Setup:
         calendar=ModelCalendar(cal.name, anchor),
         daily_method=daily_method or DEFAULT_DAILY_METHOD,
         epoch_label=spec.epoch or "",
+        spec_daily_method=_stated_daily_method(spec),
     )
+
+
+def _stated_daily_method(spec) -> str | None:
+    """Return the spec's ``insolation.daily_method`` if its text states it, else None."""
+    import yaml
+
+    try:
+        data = yaml.safe_load(spec.text or "")
+    except yaml.YAMLError:
+        return None
+    section = data.get("insolation") if isinstance(data, dict) else None
+    if isinstance(section, dict) and "daily_method" in section:
+        return spec.insolation.daily_method
+    return None
 
 
 def table_to_output(table: OrbitTable, setup: Setup) -> ModelOutput:
@@ -177,7 +195,11 @@ def table_to_output(table: OrbitTable, setup: Setup) -> ModelOutput:
     else:
         raise InputFileError(f"{table.source}: needs a distance_factor or a true_longitude_deg "
                              f"column to know the Earth-Sun distance")
-    values = insolation_from_geometry(TABLE_LATITUDES_DEG, dec, rho, setup.solar_constant_wm2)
+    with np.errstate(invalid="ignore"):
+        values = daily_mean_from_geometry_wm2(TABLE_LATITUDES_DEG[np.newaxis, :],
+                                              np.deg2rad(dec)[:, np.newaxis],
+                                              np.asarray(rho, dtype=float)[:, np.newaxis],
+                                              setup.solar_constant_wm2)
     values[~(np.isfinite(dec) & np.isfinite(rho))] = np.nan
     given = [name for name in ("declination_deg", "distance_factor", "true_longitude_deg")
              if getattr(table, name) is not None]
@@ -265,6 +287,8 @@ def validate_output(
     band_edges_deg=DEFAULT_BAND_EDGES_DEG,
     n_worst: int = 5,
     accept_file_calendar: bool = False,
+    daily_method: str | None = None,
+    timestep_minutes: float | None = None,
 ) -> ValidationResult:
     """Compare, diagnose and judge model output that has been read already.
 
@@ -287,6 +311,12 @@ def validate_output(
         Accept a file whose calendar is not the spec's (rule E of the verdict):
         the insolation alone decides. Otherwise such a file is inconsistent,
         with the finding ``calendar_differs``.
+    daily_method : {"midday", "day_average", "timestep_mean"}, optional
+        Force the daily-mean convention; by default it is read from the file's
+        ``daily_method`` attribute, the spec, or fitted
+        (:mod:`bcgen.validation.convention`).
+    timestep_minutes : float, optional
+        The model's time step for ``timestep_mean``.
 
     Notes
     -----
@@ -311,10 +341,13 @@ def validate_output(
                         if calendar_differs and accept_file_calendar else ""))
     spec_calendar = setup.calendar.name
     setup = setup.on_calendar(output.calendar)
-    model = ForwardModel(output, setup)
-    comparison = _compare.compare(output, model.predict(), band_edges_deg, n_worst)
-    diagnosis = Diagnosis(model, output.insolation_wm2)
-    significant = [f for f in diagnosis.run() if f.significant]
+    convention, diagnosis, found = _diagnose_under_convention(
+        output, setup, daily_method, timestep_minutes)
+    model = diagnosis.model
+    setup = model.setup
+    comparison = _compare.compare(output, model.predict(), band_edges_deg, n_worst,
+                                  calendar=setup.calendar)
+    significant = [f for f in found if f.significant]
     if noise_wm2 is None:
         # systematic errors that curve in time inflate the estimate: the least noisy residual
         sigma = min([comparison.noise_wm2] + [f.noise_after_wm2 for f in significant])
@@ -325,7 +358,7 @@ def validate_output(
     allowed_rms = comparison.allowed_rms_error_wm2(tol)
     noise_limit = comparison.noise_limit_wm2(tol, estimated=noise_wm2 is None)
     judged = [f.judged(tol, sigma, comparison.n_values) for f in significant]
-    explaining = [f for f in judged if f.explains]
+    explaining = say_indistinguishable([f for f in judged if f.explains], setup.calendar)
     partial = [f for f in judged if not f.explains]
 
     reasons = []
@@ -378,7 +411,87 @@ def validate_output(
         allowed_max_abs_error_wm2=allowed, comparison=comparison, findings=tuple(findings),
         output=output, setup=setup, table_errors=table_errors, notes=tuple(notes),
         allowed_rms_error_wm2=allowed_rms, noise_limit_wm2=noise_limit,
-        noise_estimated=noise_wm2 is None, accept_file_calendar=accept_file_calendar)
+        noise_estimated=noise_wm2 is None, accept_file_calendar=accept_file_calendar,
+        convention=convention)
+
+def _stated_convention(output: ModelOutput, setup: Setup, daily_method, timestep_minutes):
+    """Return (method, step in days, source) when the convention is stated, else None."""
+    step = None if timestep_minutes is None else float(timestep_minutes) / 1440.0
+    if daily_method is not None:
+        if daily_method not in CONVENTIONS:
+            raise ValidateOptionError(f"--daily-method: expected one of "
+                                      f"{', '.join(CONVENTIONS)}, got {daily_method!r}")
+        if daily_method == "timestep_mean" and step is None:
+            raise ValidateOptionError("--daily-method timestep_mean needs --timestep-minutes "
+                                      "(the model's time step)")
+        return daily_method, step, "option"
+    if output.daily_method in ("midday", "day_average"):
+        return output.daily_method, None, "file attribute"
+    if setup.spec_daily_method in ("midday", "day_average"):
+        return setup.spec_daily_method, None, "spec"
+    return None
+
+
+def _diagnose_under_convention(output: ModelOutput, setup: Setup, daily_method,
+                               timestep_minutes) -> tuple[Convention, Diagnosis, list[Finding]]:
+    """Determine the daily-mean convention and diagnose under it (:mod:`.convention`)."""
+    if timestep_minutes is not None and not (np.isfinite(timestep_minutes)
+                                             and 0 < timestep_minutes <= 1440):
+        raise ValidateOptionError(f"--timestep-minutes: expected minutes in (0, 1440], got "
+                                  f"{timestep_minutes}")
+    y = output.insolation_wm2
+    valid = np.isfinite(y)
+    n = int(valid.sum())
+    if output.frequency == "instant":
+        diagnosis = Diagnosis(ForwardModel(output, setup), y)
+        return Convention(setup.daily_method, None, "instantaneous"), diagnosis, diagnosis.run()
+    stated = _stated_convention(output, setup, daily_method, timestep_minutes)
+    candidates = {label(m, None if k is None else 1.0 / k): (m, None if k is None else 1.0 / k)
+                  for m, k in CANDIDATES}
+    if stated is not None:
+        method, step, _ = stated
+        candidates.setdefault(label(method, step), (method, step))
+    models = {key: ForwardModel(output, setup.with_method(m, step))
+              for key, (m, step) in candidates.items()}
+
+    def rss_of(kwargs: dict) -> dict:
+        out = {}
+        for key, model in models.items():
+            d = (y - model.predict(**kwargs))[valid]
+            out[key] = float(np.einsum("i,i->", d, d))
+        return out
+
+    rss = rss_of({})
+    if stated is not None:
+        method, step, source = stated
+        chosen = label(method, step)
+        diagnosis = Diagnosis(models[chosen], y)
+        found = diagnosis.run()
+        note = ""
+        best, _ = pick(rss, n)
+        if best != chosen and rss[best] < 0.25 * rss[chosen]:
+            note = (f"the output fits {best} better (misfit {np.sqrt(rss[best] / n):.3f} "
+                    f"against {np.sqrt(rss[chosen] / n):.3f} W m-2); give --daily-method "
+                    f"to check it under another convention")
+        misfits = {k: float(np.sqrt(v / n)) for k, v in rss.items()}
+        return Convention(method, step, source, misfits, None, None, note), diagnosis, found
+    chosen, distinguishable = pick(rss, n)
+    diagnosis = Diagnosis(models[chosen], y)
+    found = diagnosis.run()
+    with_finding = None
+    top = found[0] if found and found[0].significant else None
+    if top is not None:
+        rss_top = rss_of(top.replay)
+        again, distinguishable = pick(rss_top, n)
+        rss, with_finding = rss_top, top.code
+        if again != chosen:
+            chosen = again
+            diagnosis = Diagnosis(models[chosen], y)
+            found = diagnosis.run()
+    method, step = candidates[chosen]
+    misfits = {k: float(np.sqrt(v / n)) for k, v in rss.items()}
+    return (Convention(method, step, "fitted", misfits, distinguishable, with_finding),
+            diagnosis, found)
 
 
 def validate(
@@ -392,6 +505,7 @@ def validate(
     band_edges_deg=DEFAULT_BAND_EDGES_DEG,
     n_worst: int = 5,
     accept_file_calendar: bool = False,
+    timestep_minutes: float | None = None,
 ) -> ValidationResult:
     """Check a model's output file against an experiment spec.
 
@@ -407,17 +521,17 @@ def validate(
         Tolerance T of the verdict, W m-2 (default 1).
     noise_wm2 : float, optional
         Noise level σ, W m-2 (default: estimated).
-    daily_method : {"midday", "day_average"}, optional
-        How the reference forms daily means (default ``day_average``, the exact
-        time mean; see :func:`setup_from_spec`).
-    band_edges_deg, n_worst, accept_file_calendar
+    daily_method : {"midday", "day_average", "timestep_mean"}, optional
+        Force the daily-mean convention (default: from the file's attribute,
+        the spec, or fitted; :mod:`bcgen.validation.convention`).
+    band_edges_deg, n_worst, accept_file_calendar, timestep_minutes
         See :func:`validate_output`.
 
     Returns
     -------
     ValidationResult
     """
-    setup = setup_from_spec(spec, daily_method)
+    setup = setup_from_spec(spec)
     if is_table_path(model_file):
         if var is not None:
             raise InputFileError(f"{model_file}: --var applies to NetCDF files, not to an orbit "
@@ -426,13 +540,14 @@ def validate(
     else:
         output = read_model_output(Path(model_file), var)
     return validate_output(output, setup, tolerance_wm2, noise_wm2, band_edges_deg, n_worst,
-                           accept_file_calendar)
+                           accept_file_calendar, daily_method, timestep_minutes)
 
 
 __all__ = [
     "CODES",
     "TABLE_COLUMNS",
     "Comparison",
+    "Convention",
     "Finding",
     "ModelOutput",
     "Setup",

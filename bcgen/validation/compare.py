@@ -62,6 +62,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bcgen.validation.dates import MONTH_NAMES, days_in_words
 from bcgen.validation.readers import ModelOutput
 
 #: Latitude band edges, degrees north (bands 30° wide).
@@ -77,8 +78,6 @@ MIN_NOISE_SAMPLES = 10
 NOISE_RELATIVE_SE = 1.4
 #: Standard errors of the noise estimate by which σ may exceed T (verdict rule C).
 NOISE_MARGIN_SE = 3.0
-MONTH_NAMES = ("January", "February", "March", "April", "May", "June", "July", "August",
-               "September", "October", "November", "December")
 
 
 def latitude_label(lat_deg: float) -> str:
@@ -117,18 +116,25 @@ class Place:
     latitude_deg: float
     model_wm2: float
     reference_wm2: float
+    calendar: object = None
 
     @property
     def error_wm2(self) -> float:
         """Model minus reference."""
         return self.model_wm2 - self.reference_wm2
 
+    @property
+    def when(self) -> str:
+        """The interval in days and as model-calendar dates (:mod:`bcgen.validation.dates`)."""
+        if self.calendar is None:
+            return (f"day {self.start_day:.2f}" if self.end_day - self.start_day < 1e-9
+                    else f"days {self.start_day:.2f}-{self.end_day:.2f}")
+        return days_in_words(self.start_day, self.end_day, self.calendar, self.year)
+
     def describe(self) -> str:
-        """``July, latitude 90N (days 181-212 of year 1): model 478.2, reference 470.1 (+8.1)``."""
-        when = (f"day {self.start_day:g}" if self.end_day - self.start_day < 1e-9
-                else f"days {self.start_day:g}-{self.end_day:g}")
+        """One line: month, latitude, year, the days in words, model, reference and error."""
         return (f"{MONTH_NAMES[self.month - 1]}, latitude {latitude_label(self.latitude_deg)} "
-                f"({when} of year {self.year}): model {self.model_wm2:.2f}, reference "
+                f"(year {self.year}, {self.when}): model {self.model_wm2:.2f}, reference "
                 f"{self.reference_wm2:.2f} ({self.error_wm2:+.2f} W m-2)")
 
     def to_dict(self) -> dict:
@@ -136,7 +142,7 @@ class Place:
         return {"year": self.year, "month": self.month, "start_day": self.start_day,
                 "end_day": self.end_day, "latitude_deg": self.latitude_deg,
                 "model_wm2": self.model_wm2, "reference_wm2": self.reference_wm2,
-                "error_wm2": self.error_wm2, "where": self.describe()}
+                "error_wm2": self.error_wm2, "when": self.when, "where": self.describe()}
 
 
 @dataclass(frozen=True)
@@ -191,7 +197,8 @@ def rms_allowed_wm2(tolerance_wm2: float, noise_wm2: float) -> float:
 
 
 def compare(output: ModelOutput, reference_wm2: np.ndarray,
-            band_edges_deg=DEFAULT_BAND_EDGES_DEG, n_worst: int = 5) -> Comparison:
+            band_edges_deg=DEFAULT_BAND_EDGES_DEG, n_worst: int = 5,
+            calendar=None) -> Comparison:
     """Compare a model's values with the reference on the same intervals and latitudes.
 
     Parameters
@@ -204,6 +211,8 @@ def compare(output: ModelOutput, reference_wm2: np.ndarray,
         Edges of the latitude bands, increasing, from -90 to 90.
     n_worst : int
         How many worst places to keep.
+    calendar : ModelCalendar or str, optional
+        Calendar in which the worst places' days are put into words.
     """
     model = output.insolation_wm2
     error = model - reference_wm2
@@ -242,7 +251,7 @@ def compare(output: ModelOutput, reference_wm2: np.ndarray,
         seen.add(key)
         worst.append(Place(int(output.year[i]), int(output.month[i]),
                            float(output.start_day[i]), float(output.end_day[i]), float(lat[j]),
-                           float(model[i, j]), float(reference_wm2[i, j])))
+                           float(model[i, j]), float(reference_wm2[i, j]), calendar))
     e = error[valid]
     sigma, n_noise = noise_estimate(output, error)
     return Comparison(

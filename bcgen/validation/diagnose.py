@@ -9,16 +9,17 @@ minus prediction over every valid value).
 Codes
 -----
 ``perihelion_opposite``
-    Longitude of perihelion off by 180° (a value in the other convention, such
-    as the Sun's longitude at perihelion). Fitted value: the ϖ the model used,
-    degrees. No free parameter.
+    Longitude of perihelion off by about 180° (a value in the other convention,
+    such as the Sun's longitude at perihelion). Fitted value: the ϖ the model
+    used, degrees, fitted within 5° of the spec's ϖ + 180°. One free parameter.
 ``equinox_day_shift``
     Orbit anchored on another day: the equinox (or the anchor) falls Δ days
     later than the spec says (negative: earlier); 0.5 day often means midnight
     versus noon. Fitted value: Δ, days. One free parameter.
 ``solar_constant_ratio``
-    Another solar constant. Fitted value: model S0 / expected S0. One free
-    parameter.
+    Another solar constant. Fitted value: model S0 / expected S0, a positive
+    ratio (a fit at a ratio of zero or below is physically meaningless and not
+    reported). One free parameter.
 ``year_length_mismatch``
     The orbit runs on a year of another length than the calendar (360 versus
     365 days ...). Fitted value: the model's orbital year, days (chosen from
@@ -26,14 +27,28 @@ Codes
 ``day_origin_off_by_one``
     Day of the year counted from another origin: the model's Sun is exactly one
     day early (−1) or late (+1). Fitted value: ±1, days. No free parameter.
+    An anchor date one day off gives the same output; when both explain it the
+    description says so.
+``sun_at_day_start``
+    The Sun evaluated at 00:00 instead of 12:00 of each day (the daily-mean
+    formula taken at the start of the day). No free parameter; fitted value
+    ``"00:00"``. Under the midday convention an orbit anchored half a day late
+    gives the same output; when both explain it the description says so.
 ``orbit_not_applied``
     The model ran the modern orbit. Fitted value: the epoch whose Berger (1978)
     orbit it matches (``1850CE``, ``1950CE`` or ``2000CE``). No free parameter.
 ``orbital_elements_differ``
     Orbital elements of another epoch or solution. Fitted value:
-    {eccentricity, obliquity_deg, perihelion_longitude_deg}, against the
-    expected ones, with the closest Berger (1978) epoch within 1 Myr in
-    ``details``. Three free parameters.
+    {eccentricity, obliquity_deg, perihelion_longitude_deg} (bounded by
+    physics: 0 ≤ e ≤ 0.2, 0° ≤ ε ≤ 60°), against the expected ones. Three free
+    parameters. ``details["closest_berger1978_epoch"]`` gives the epoch within
+    1 Myr whose Berger (1978) elements are closest, with ``matches`` true only
+    when the fit explains the output *and* those elements are within the
+    distance of about 1 W m-2 of insolation each (see
+    :func:`closest_berger1978_epoch`); only then does the description name
+    the epoch. A fit that does not explain the output (a calendar mistake fitted
+    with orbital elements) can land near some epoch by chance; that is not a
+    match.
 ``calendar_differs``
     The file's calendar is not the spec's (360_day output for a noleap
     experiment ...): the model did not run the experiment's year. Not fitted:
@@ -116,6 +131,7 @@ from bcgen.epochs import format_epoch
 from bcgen.orbit import solve as solve_orbit
 from bcgen.orbit.elements import OrbitalElements
 from bcgen.validation.compare import max_abs_allowed_wm2, noise_estimate, rms_allowed_wm2
+from bcgen.validation.dates import date_of_day, day_in_words
 from bcgen.validation.reference import ForwardModel, orbit_with
 
 #: Differences below this (W m-2) are numerical precision, not a misfit.
@@ -125,6 +141,11 @@ SIGNIFICANT_DELTA_BIC = -10.0
 #: Range and step of the scan for anchor shifts, days.
 SHIFT_RANGE_DAYS = 60.0
 SHIFT_STEP_DAYS = 1.5
+#: Half-width of the search for the perihelion longitude the model used, degrees.
+PERIHELION_RANGE_DEG = 5.0
+#: Largest scaled distance (about 1 W m-2 of insolation per unit) at which fitted elements
+#: match the Berger (1978) elements of an epoch (:func:`closest_berger1978_epoch`).
+MATCH_DISTANCE = 3.0
 #: Orbital-year lengths tried by ``year_length_mismatch``, days.
 #: A length within half a day of the calendar's is left out (it acts like a shift).
 YEAR_LENGTHS_DAYS = (360.0, 365.0, 366.0)
@@ -132,10 +153,12 @@ YEAR_LENGTHS_DAYS = (360.0, 365.0, 366.0)
 #: ``orbit_not_applied``: PMIP4 piControl (1850 CE), the BP "present" (1950 CE), and 2000 CE.
 MODERN_EPOCHS = {-100.0: "1850CE", 0.0: "1950CE", 50.0: "2000CE"}
 
-#: 0.9999 quantiles of χ² with 1 and 3 degrees of freedom (standard tables; from memory).
-CHI2_9999 = {1: 15.137, 3: 21.108}
+#: 0.9999 quantiles of χ² with 1, 2 and 3 degrees of freedom (standard tables, from memory;
+#: for 2 degrees of freedom the quantile is exactly −2 ln(1 − 0.9999)).
+CHI2_9999 = {1: 15.137, 2: 18.421, 3: 21.108}
 #: (special case, general explanation) pairs for the nested-model test.
 NESTED = (("day_origin_off_by_one", "equinox_day_shift"),
+          ("sun_at_day_start", "equinox_day_shift"),
           ("perihelion_opposite", "orbital_elements_differ"),
           ("orbit_not_applied", "orbital_elements_differ"))
 
@@ -146,6 +169,7 @@ CODES: dict[str, str] = {
     "solar_constant_ratio": "another solar constant (ratio fitted)",
     "year_length_mismatch": "orbital year of another length than the calendar year",
     "day_origin_off_by_one": "day of the year counted from another origin (one day off)",
+    "sun_at_day_start": "the Sun evaluated at 00:00 instead of 12:00 of each day",
     "orbit_not_applied": "the modern orbit instead of the experiment's",
     "orbital_elements_differ": "orbital elements of another epoch or solution (e, obliquity, "
                                "perihelion fitted)",
@@ -208,6 +232,7 @@ class Finding:
     max_abs_misfit_after_wm2: float = float("nan")
     noise_after_wm2: float = float("nan")
     explains: bool | None = None
+    replay: dict = field(default_factory=dict, repr=False, compare=False)
 
     def judged(self, tolerance_wm2: float, noise_wm2: float, n_values: int) -> Finding:
         """Return a copy with ``explains`` set by the rule of the module docstring."""
@@ -215,7 +240,17 @@ class Finding:
               and self.misfit_after_wm2 <= rms_allowed_wm2(tolerance_wm2, noise_wm2)
               and self.max_abs_misfit_after_wm2 <= max_abs_allowed_wm2(
                   tolerance_wm2, noise_wm2, n_values))
-        return replace(self, explains=bool(ok))
+        judged = replace(self, explains=bool(ok))
+        closest = self.details.get("closest_berger1978_epoch")
+        if closest is not None:
+            matches = bool(ok and closest["distance"] < MATCH_DISTANCE)
+            details = dict(self.details)
+            details["closest_berger1978_epoch"] = {**closest, "matches": matches}
+            text = self.description
+            if matches:
+                text += f"; these are the Berger (1978) elements of {closest['epoch']}"
+            judged = replace(judged, details=details, description=text)
+        return judged
 
     def to_dict(self) -> dict:
         """Return the finding as JSON-ready data (keys of the ``findings`` objects)."""
@@ -348,6 +383,7 @@ class Diagnosis:
         self.misfit_before = float(np.sqrt(self.rss_before / self.n))
         setup = model.setup
         self.orbit = setup.orbit
+        self.calendar = setup.calendar
         self.anchor_day = float(setup.calendar.anchor_day(1))
         self.calendar_year_days = float(setup.calendar.year_length_days(1))
 
@@ -367,7 +403,7 @@ class Diagnosis:
                      + k * np.log(self.n))
 
     def _finding(self, code, description, fitted, expected, unit, prediction, k,
-                 details=None) -> Finding:
+                 details=None, replay=None) -> Finding:
         rss = self._rss(prediction)
         score = self.delta_bic(rss, k)
         left = self.y - prediction
@@ -388,6 +424,7 @@ class Diagnosis:
             details=details or {},
             max_abs_misfit_after_wm2=float(np.max(np.abs(left))),
             noise_after_wm2=noise_estimate(self.model.output, residual)[0],
+            replay=replay or {},
         )
 
     def _shift_rss(self, coarse: bool = False, **kwargs) -> Callable[[float], float]:
@@ -403,35 +440,55 @@ class Diagnosis:
 
     # --- the catalogue ------------------------------------------------------------------------
     def perihelion_opposite(self) -> Finding:
-        """Fit ``perihelion_opposite``: the experiment's orbit with ϖ + 180°."""
+        """Fit ``perihelion_opposite``: the experiment's orbit with ϖ near ϖ + 180°."""
         varpi = float(self.orbit.perihelion_longitude_deg)
-        used = (varpi + 180.0) % 360.0
-        pred = self.predict(orbit=orbit_with(self.orbit, perihelion_longitude_deg=used))
+        opposite = varpi + 180.0
+
+        def rss(w: float, coarse: bool) -> float:
+            orbit = orbit_with(self.orbit, perihelion_longitude_deg=w % 360.0)
+            return self._rss(self.predict(coarse, orbit=orbit))
+
+        w, _ = golden_section(lambda w: rss(w, True), opposite - PERIHELION_RANGE_DEG,
+                              opposite + PERIHELION_RANGE_DEG, tol=0.01)
+        if self.coarse is not self.model:
+            w, _ = golden_section(lambda x: rss(x, False), w - 0.05, w + 0.05, tol=0.002)
+        used = round(w % 360.0, 2)
+        orbit = orbit_with(self.orbit, perihelion_longitude_deg=used)
+        pred = self.predict(orbit=orbit)
         return self._finding(
             "perihelion_opposite",
             f"longitude of perihelion 180 degrees off: the output matches perihelion "
-            f"longitude {used:.2f} deg instead of {varpi:.2f} deg (a value given in the other "
-            f"convention, such as the Sun's longitude at perihelion)",
-            round(used, 6), round(varpi, 6), "degree", pred, 0)
+            f"longitude {used:.2f} deg instead of {varpi:.2f} deg (the spec's value + 180 is "
+            f"{opposite % 360.0:.2f}; a value given in the other convention, such as the Sun's "
+            f"longitude at perihelion)",
+            used, round(varpi, 6), "degree", pred, 1, replay={"orbit": orbit})
 
     def equinox_day_shift(self) -> Finding:
         """Fit ``equinox_day_shift``: the anchor shift in days."""
         shift, _ = self._fit_shift(SHIFT_RANGE_DAYS)
         pred = self.predict(shift_days=shift)
         when = "later" if shift >= 0 else "earlier"
+        what = "the March equinox" if self.calendar.anchor.kind == "march_equinox" else \
+            "perihelion"
         return self._finding(
             "equinox_day_shift",
-            f"orbit anchored {abs(shift):.2f} days {when} than the spec says (day "
-            f"{self.anchor_day + shift:.2f} of the year instead of {self.anchor_day:.2f})",
+            f"orbit anchored {abs(shift):.2f} days {when} than the spec says: {what} on "
+            f"{day_in_words(self.anchor_day + shift, self.calendar)} instead of "
+            f"{day_in_words(self.anchor_day, self.calendar)}",
             round(shift, 4), 0.0, "days", pred, 1,
             {"anchor_day_fitted": round(self.anchor_day + shift, 4),
-             "anchor_day_expected": self.anchor_day})
+             "anchor_day_expected": self.anchor_day,
+             "anchor_date_fitted": date_of_day(self.anchor_day + shift, self.calendar),
+             "anchor_date_expected": date_of_day(self.anchor_day, self.calendar)},
+            replay={"shift_days": shift})
 
     def solar_constant_ratio(self) -> Finding:
         """Fit ``solar_constant_ratio``: linear least squares for the ratio."""
         p = self.reference
         pp = _sumsq(p)
         ratio = float(np.einsum("i,i->", self.y, p) / pp) if pp > 0 else 1.0
+        if not ratio > 0.0:  # a sign-flipped output is not another solar constant
+            return None
         s0 = self.model.setup.solar_constant_wm2
         return self._finding(
             "solar_constant_ratio",
@@ -439,7 +496,7 @@ class Diagnosis:
             f"{ratio * s0:.2f} W m-2 instead of {s0:g})",
             round(ratio, 7), 1.0, "1", ratio * p, 1,
             {"solar_constant_wm2_fitted": round(ratio * s0, 4),
-             "solar_constant_wm2_expected": s0})
+             "solar_constant_wm2_expected": s0}, replay={"solar_ratio": ratio})
 
     def year_length_mismatch(self) -> Finding:
         """Fit ``year_length_mismatch``: each other year length, with its anchor shift."""
@@ -457,7 +514,8 @@ class Diagnosis:
             f"the orbit runs on a {length:g}-day year in a {self.calendar_year_days:g}-day "
             f"calendar (anchor {shift:+.2f} days from the spec's)",
             length, self.calendar_year_days, "days", pred, 1,
-            {"anchor_shift_days": round(shift, 4)})
+            {"anchor_shift_days": round(shift, 4)},
+            replay={"shift_days": shift, "orbit_year_days": length})
 
     def day_origin_off_by_one(self) -> Finding:
         """Fit ``day_origin_off_by_one``: the better of shifts of -1 and +1 day."""
@@ -466,10 +524,20 @@ class Diagnosis:
         how = ("one day early (day numbers counted from 1 where the orbit code expects 0)"
                if shift < 0 else
                "one day late (day numbers counted from 0 where the orbit code expects 1)")
-        how += "; an anchor date one day off looks the same in the output"
         return self._finding("day_origin_off_by_one",
                              f"day of the year off by one: the model's Sun runs {how}",
-                             shift, 0.0, "days", pred, 0)
+                             shift, 0.0, "days", pred, 0, replay={"shift_days": shift})
+
+    def sun_at_day_start(self) -> Finding | None:
+        """Fit ``sun_at_day_start``: the daily-mean formula at 00:00 of each day."""
+        if self.model.output.frequency == "instant":
+            return None
+        pred = self.predict(method="start_of_day")
+        return self._finding(
+            "sun_at_day_start",
+            "the Sun evaluated at 00:00 instead of 12:00 of each day: the output holds the "
+            "daily-mean formula at the start of each day, not at its middle",
+            "00:00", "12:00", "time of day", pred, 0, replay={"method": "start_of_day"})
 
     def orbit_not_applied(self) -> Finding | None:
         """Fit ``orbit_not_applied``: the best of the modern orbits (None if one is the spec's)."""
@@ -492,7 +560,7 @@ class Diagnosis:
             f"(e={float(modern.eccentricity):.6f}, obliquity {float(modern.obliquity_deg):.3f} "
             f"deg, perihelion longitude {float(modern.perihelion_longitude_deg):.2f} deg)",
             label, self.model.setup.epoch_label or "the spec's orbit", "epoch", pred, 0,
-            {"orbit": _orbit_dict(modern)})
+            {"orbit": _orbit_dict(modern)}, replay={"orbit": modern})
 
     def orbital_elements_differ(self) -> Finding:
         """Fit ``orbital_elements_differ``: e, ε and ϖ by Levenberg–Marquardt."""
@@ -533,17 +601,16 @@ class Diagnosis:
                 f"{fit_d['perihelion_longitude_deg']:.2f} deg against e="
                 f"{exp_d['eccentricity']:.6f}, {exp_d['obliquity_deg']:.3f} deg, "
                 f"{exp_d['perihelion_longitude_deg']:.2f} deg")
-        if closest["matches"]:
-            text += f"; closest Berger (1978) epoch {closest['epoch']}"
         return self._finding("orbital_elements_differ", text, fit_d, exp_d, "mixed", pred, 3,
-                             {"closest_berger1978_epoch": closest})
+                             {"closest_berger1978_epoch": closest}, replay={"orbit": fitted})
 
     # --- all together ---------------------------------------------------------------------
     def run(self) -> list[Finding]:
         """Every explanation, best first (lowest ΔBIC; ties: fewer parameters first)."""
         found = [self.perihelion_opposite(), self.equinox_day_shift(),
                  self.solar_constant_ratio(), self.year_length_mismatch(),
-                 self.day_origin_off_by_one(), self.orbit_not_applied(),
+                 self.day_origin_off_by_one(), self.sun_at_day_start(),
+                 self.orbit_not_applied(),
                  self.orbital_elements_differ()]
         order = list(CODES)
         found = [f for f in found if f is not None]
@@ -622,8 +689,10 @@ def closest_berger1978_epoch(orbit: OrbitalElements) -> dict:
     """Find the epoch within 1 Myr whose Berger (1978) orbit is closest to the given elements.
 
     Distance: the element differences scaled by 0.001 for e·cos ϖ and e·sin ϖ and
-    by 0.05° for ε (about 1 W m-2 of insolation each); ``matches`` when it is
-    below 3. Searched on a 100-year grid, refined to 1 year.
+    by 0.05° for ε (about 1 W m-2 of insolation each). ``matches`` here says only
+    that the distance is below :data:`MATCH_DISTANCE`; a finding's ``matches``
+    also requires that the fit explains the output (:meth:`Finding.judged`).
+    Searched on a 100-year grid, refined to 1 year.
     """
     years, grid = _berger_grid()
     scale = np.array([1e-3, 1e-3, 0.05])
@@ -640,4 +709,35 @@ def closest_berger1978_epoch(orbit: OrbitalElements) -> dict:
     fd = np.sqrt((((fg - target) / scale) ** 2).sum(axis=1))
     j = int(np.argmin(fd))
     return {"epoch": format_epoch(float(fine[j])), "years_from_1950": float(fine[j]),
-            "distance": round(float(fd[j]), 3), "matches": bool(fd[j] < 3.0)}
+            "distance": round(float(fd[j]), 3), "matches": bool(fd[j] < MATCH_DISTANCE)}
+
+
+def say_indistinguishable(explaining: list[Finding], calendar) -> list[Finding]:
+    """Add one sentence to the first explanation when the output cannot tell it from the next.
+
+    A day-of-year origin off by one and an anchor date one day off (the same
+    shift of the Sun), and the Sun at 00:00 and an anchor half a day late under
+    the midday convention, give the same output; when both of such a pair
+    explain it, the first says so and names the other in
+    ``details["indistinguishable_from"]``.
+    """
+    if len(explaining) < 2:
+        return explaining
+    first, shift = explaining[0], next(
+        (f for f in explaining[1:] if f.code == "equinox_day_shift"), None)
+    if shift is None:
+        return explaining
+    fitted = float(shift.fitted_value)
+    if first.code == "day_origin_off_by_one" and abs(fitted - first.fitted_value) < 0.25:
+        anchor = shift.details["anchor_day_expected"] + first.fitted_value
+        sentence = (f"An anchor date one day off (the equinox on "
+                    f"{day_in_words(anchor, calendar)}) gives the same output, so the two "
+                    f"cannot be told apart from it.")
+    elif first.code == "sun_at_day_start" and abs(fitted - 0.5) < 0.25:
+        sentence = ("An orbit anchored half a day late gives the same output, so the two "
+                    "cannot be told apart from it.")
+    else:
+        return explaining
+    details = {**first.details, "indistinguishable_from": "equinox_day_shift"}
+    return [replace(first, description=f"{first.description}. {sentence}", details=details)
+            ] + explaining[1:]

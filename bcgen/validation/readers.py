@@ -134,6 +134,9 @@ class ModelOutput:
         ``true_longitude_deg`` as given (arrays of shape (n,) or None).
     notes : tuple of str
         Things the reader assumed, for the report.
+    daily_method : str or None
+        The variable's ``daily_method`` attribute (bcgen writes it into its daily
+        products: ``midday`` or ``day_average``), or None.
     """
 
     source: str
@@ -148,6 +151,7 @@ class ModelOutput:
     zonal_spread_wm2: float | None = None
     geometry: dict = field(default_factory=dict)
     notes: tuple[str, ...] = ()
+    daily_method: str | None = None
 
     def __post_init__(self) -> None:
         n = self.year.shape[0]
@@ -219,6 +223,8 @@ def read_model_output(path, var: str | None = None) -> ModelOutput:
         where = f"{path}:{name}"
         notes: list[str] = []
         _check_units(da, where)
+        daily_method = da.attrs.get("daily_method")
+        daily_method = str(daily_method).strip() if daily_method is not None else None
         time_dim, lat_dim, lon_dim = _find_dims(ds, da, where)
         lat = _latitudes_deg(ds[lat_dim], where, notes)
         extra = [d for d in da.dims if d not in (time_dim, lat_dim, lon_dim)]
@@ -261,6 +267,7 @@ def read_model_output(path, var: str | None = None) -> ModelOutput:
         insolation_wm2=values[order_idx][:, lat_order],
         zonal_spread_wm2=spread,
         notes=tuple(notes),
+        daily_method=daily_method,
     )
 
 

@@ -1,9 +1,9 @@
 r"""bcgen's reference for a model's output, and the same computation with a mistake applied.
 
 :class:`ForwardModel` predicts, for the exact time intervals and latitudes of a
-model's output, the zonal-mean TOA insolation that bcgen's engine gives
-(:mod:`bcgen.solar_calendar.position` for the Sun's true longitude,
-:func:`bcgen.insolation.daily_mean_insolation_wm2` for the flux), and the same
+model's output, the zonal-mean TOA insolation of bcgen's one insolation engine
+(:func:`bcgen.insolation.daily.interval_mean_insolation_wm2`, with the Sun's
+position from :class:`bcgen.solar_calendar.position.SolarYear`), and the same
 prediction under the assumptions of a mistaken orbit code:
 
 * other orbital elements (e, ε, ϖ), for instance ϖ + 180°, the modern orbit or
@@ -12,10 +12,11 @@ prediction under the assumptions of a mistaken orbit code:
 * the orbit anchored ``shift_days`` later in the calendar (an equinox on another
   day, or day numbers counted from another origin);
 * an orbital year of another length than the calendar year (a 365-day orbit in
-  a 360-day calendar, or the reverse).
+  a 360-day calendar, or the reverse);
+* the daily-mean formula taken at 00:00 of each day instead of its middle.
 
-The last two enter as a remapping of model time t to the time t' at which
-bcgen's orbit (anchored at day a, year length L) is evaluated,
+Anchor shifts and year lengths enter as a remapping of model time t to the time
+t' at which bcgen's orbit (anchored at day a, year length L) is evaluated,
 
 .. math::
 
@@ -25,16 +26,14 @@ with Δ the anchor shift and L' the model's orbital year: the model's Sun is at
 t where bcgen's is at t'. Both are exact for a uniformly advancing mean anomaly
 (Kepler's second law), which is how every orbit code places the Sun.
 
-Interval means
+Daily-mean conventions
     A value covering [t₁, t₂) is the time mean of the zonal-mean insolation
-    over it, built from the daily means of the days it overlaps, as the spec's
-    ``insolation.daily_method`` says: ``midday`` evaluates each day at its
-    middle (the PMIP1 convention) and weights it by the part of the day in the
-    interval; ``day_average`` integrates over the interval with the engine's
-    Gauss–Legendre nodes per day (the zonal mean of the instantaneous flux at a
-    moment is the daily-mean formula at that moment, so this is the exact mean
-    of the zonal-mean flux). Instantaneous values (orbit tables, zero-length
-    intervals) are evaluated at their time.
+    over it, built from the daily means of the days it overlaps, in one of the
+    legitimate conventions of :data:`CONVENTIONS` (the engine's methods):
+    ``midday`` (the formula at the middle of each day), ``day_average`` (the
+    exact mean over the day) or ``timestep_mean`` (the mean over the model's
+    time steps, which tends to the day average). Instantaneous values (orbit
+    tables, zero-length intervals) are evaluated at their time.
 """
 
 from __future__ import annotations
@@ -44,8 +43,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from bcgen.errors import BcgenError
-from bcgen.insolation import daily_mean_insolation_wm2
-from bcgen.insolation.daily import DAY_AVERAGE_NODES, DailyMethod
+from bcgen.insolation.daily import INTERVAL_MEAN_METHODS, interval_mean_insolation_wm2
 from bcgen.orbit.elements import OrbitalElements
 from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.solar_calendar.position import SolarYear
@@ -53,6 +51,10 @@ from bcgen.validation.readers import ModelOutput
 
 #: Calendars whose days map to the orbit in the same way every year.
 _FIXED_LENGTH = ("noleap", "all_leap", "360_day")
+
+#: The legitimate daily-mean conventions a model's output may follow (engine methods).
+CONVENTIONS: dict[str, str] = {name: INTERVAL_MEAN_METHODS[name]
+                               for name in ("midday", "day_average", "timestep_mean")}
 
 
 @dataclass(frozen=True)
@@ -67,31 +69,45 @@ class Setup:
         S0, W m-2.
     calendar : ModelCalendar
         Calendar (with its anchor) the spec names.
-    daily_method : {"midday", "day_average"}
-        How daily means are formed.
+    daily_method : {"midday", "day_average", "timestep_mean"}
+        The daily-mean convention of the reference (:data:`CONVENTIONS`).
     epoch_label : str
         The epoch as the spec writes it (``6ka``), or ``""``.
+    timestep_days : float or None
+        Time step of ``timestep_mean``, days.
+    spec_daily_method : str or None
+        The spec's ``insolation.daily_method`` when the spec states it.
     """
 
     orbit: OrbitalElements
     solar_constant_wm2: float
     calendar: ModelCalendar
-    daily_method: DailyMethod = "midday"
+    daily_method: str = "day_average"
     epoch_label: str = ""
+    timestep_days: float | None = None
+    spec_daily_method: str | None = None
 
     def __post_init__(self) -> None:
         if self.orbit.shape != ():
             raise BcgenError("the experiment's orbit must be one set of elements (a time "
                              "slice); validate one model year of a transient run at a time")
-        if self.daily_method not in ("midday", "day_average"):
-            raise BcgenError(f"unknown daily method {self.daily_method!r}; expected midday or "
-                             f"day_average")
+        if self.daily_method not in CONVENTIONS:
+            raise BcgenError(f"unknown daily method {self.daily_method!r}; expected one of "
+                             f"{', '.join(CONVENTIONS)}")
+        if self.daily_method == "timestep_mean" and not self.timestep_days:
+            raise BcgenError("daily method timestep_mean needs the model's time step "
+                             "(--timestep-minutes)")
 
     def on_calendar(self, name: str | None) -> Setup:
         """Return the same setup on another calendar (the model file's), keeping the anchor."""
         if not name or name == self.calendar.name:
             return self
         return replace(self, calendar=ModelCalendar(name, self.calendar.anchor))
+
+    def with_method(self, daily_method: str, timestep_days: float | None = None) -> Setup:
+        """Return the same setup with another daily-mean convention."""
+        return replace(self, daily_method=daily_method,
+                       timestep_days=timestep_days if daily_method == "timestep_mean" else None)
 
 
 def orbit_with(orbit: OrbitalElements, *, eccentricity=None, obliquity_deg=None,
@@ -103,6 +119,35 @@ def orbit_with(orbit: OrbitalElements, *, eccentricity=None, obliquity_deg=None,
         float(orbit.perihelion_longitude_deg if perihelion_longitude_deg is None
               else perihelion_longitude_deg),
         None, "fixed")
+
+
+@dataclass(frozen=True, eq=False)
+class RemappedSolarYear:
+    """The Sun of a :class:`SolarYear` seen through the time map t' = a + (t − a − Δ) s.
+
+    ``a`` is the anchor day, Δ the anchor shift (days) and s = L / L' the ratio
+    of the calendar's orbital year to the model's (module docstring). Offers the
+    two methods the engine's interval means need.
+    """
+
+    solar_year: SolarYear
+    shift_days: float = 0.0
+    scale: float = 1.0
+
+    def _forward(self, t):
+        a = self.solar_year.anchor_day
+        return a + (np.asarray(t, dtype=float) - a - self.shift_days) * self.scale
+
+    def true_longitude_rad(self, t_days) -> np.ndarray:
+        """Return the Sun's true longitude at model times, radians."""
+        return self.solar_year.true_longitude_rad(self._forward(t_days))
+
+    def time_of_true_longitude_days(self, true_longitude_rad, near_days=None) -> np.ndarray:
+        """Model time at which the Sun reaches a true longitude (nearest ``near_days``)."""
+        a = self.solar_year.anchor_day
+        near = None if near_days is None else self._forward(near_days)
+        t = self.solar_year.time_of_true_longitude_days(true_longitude_rad, near_days=near)
+        return a + self.shift_days + (t - a) / self.scale
 
 
 class ForwardModel:
@@ -132,39 +177,14 @@ class ForwardModel:
                         np.round(output.end_day, 6)], axis=1)
         unique, inverse = np.unique(key, axis=0, return_inverse=True)
         self._inverse = inverse.ravel()
-        times, weights, rows = [], [], []
-        if setup.daily_method == "day_average":
-            x, w = np.polynomial.legendre.leggauss(DAY_AVERAGE_NODES)
-            frac, wts = 0.5 * (x + 1.0), 0.5 * w
-        for row, (_, lo, hi) in enumerate(unique):
-            if hi - lo <= 1e-9:
-                t, wt = np.array([lo]), np.array([1.0])
-            else:
-                first, last = np.floor(lo), np.ceil(hi)
-                day = np.arange(first, last)
-                a, b = np.maximum(day, lo), np.minimum(day + 1.0, hi)
-                keep = b > a
-                day, a, b = day[keep], a[keep], b[keep]
-                if setup.daily_method == "midday":
-                    t, wt = day + 0.5, (b - a)
-                else:
-                    t = (a[:, None] + (b - a)[:, None] * frac).ravel()
-                    wt = ((b - a)[:, None] * wts).ravel()
-                wt = wt / wt.sum()
-            times.append(t)
-            weights.append(wt)
-            rows.append(np.full(t.size, row))
-        self._t = np.concatenate(times)
-        self._w = np.concatenate(weights)
-        self._row = np.concatenate(rows)
-        self._row_start = np.searchsorted(self._row, np.arange(unique.shape[0]))
-        self._node_year = unique[self._row, 0].astype(int)
-        self._years = np.unique(self._node_year)
+        self._unique = unique
+        self._years = np.unique(unique[:, 0]).astype(int)
         self.n_unique = unique.shape[0]
 
-    def with_method(self, daily_method: DailyMethod) -> ForwardModel:
-        """Return the same model with another daily method (a cheaper one for scans)."""
-        return ForwardModel(self.output, replace(self.setup, daily_method=daily_method))
+    def with_method(self, daily_method: str, timestep_days: float | None = None
+                    ) -> ForwardModel:
+        """Return the same model with another daily-mean convention."""
+        return ForwardModel(self.output, self.setup.with_method(daily_method, timestep_days))
 
     def predict(
         self,
@@ -172,6 +192,7 @@ class ForwardModel:
         solar_ratio: float = 1.0,
         shift_days: float = 0.0,
         orbit_year_days: float | None = None,
+        method: str | None = None,
     ) -> np.ndarray:
         """Insolation (W m-2) of shape (n_times, n_latitudes) under the given assumptions.
 
@@ -186,25 +207,23 @@ class ForwardModel:
             orbit (negative: earlier).
         orbit_year_days : float, optional
             Length of the model's orbital year, if not the calendar's.
+        method : str, optional
+            A method of the engine (:data:`bcgen.insolation.daily.INTERVAL_MEAN_METHODS`)
+            instead of the setup's convention (``start_of_day`` for the Sun at 00:00).
         """
         orbit = self.setup.orbit if orbit is None else orbit
-        out = np.empty((self._t.size, self.latitude_deg.size))
+        method = self.setup.daily_method if method is None else method
+        out = np.empty((self.n_unique, self.latitude_deg.size))
         for year in self._years:
-            sel = self._node_year == year
+            sel = self._unique[:, 0] == year
             solar_year = SolarYear(orbit, self.setup.calendar, year=int(year))
-            t = self._t[sel]
-            if orbit_year_days is not None or shift_days:
-                anchor = solar_year.anchor_day
-                scale = 1.0 if orbit_year_days is None else (
-                    solar_year.orbital_year_length_days / orbit_year_days)
-                t = anchor + (t - anchor - shift_days) * scale
-            lam = solar_year.true_longitude_rad(t)
-            out[sel] = daily_mean_insolation_wm2(self.latitude_deg[np.newaxis, :],
-                                                 lam[:, np.newaxis], orbit,
-                                                 self.setup.solar_constant_wm2)
-        out *= self._w[:, np.newaxis]
-        means = np.add.reduceat(out, self._row_start, axis=0)
-        return solar_ratio * means[self._inverse]
+            scale = 1.0 if orbit_year_days is None else (
+                solar_year.orbital_year_length_days / orbit_year_days)
+            position = RemappedSolarYear(solar_year, shift_days, scale)
+            out[sel] = interval_mean_insolation_wm2(
+                position, orbit, self.latitude_deg, self._unique[sel, 1], self._unique[sel, 2],
+                self.setup.solar_constant_wm2, method, self.setup.timestep_days)
+        return solar_ratio * out[self._inverse]
 
     def geometry(self, t_days: np.ndarray, year: np.ndarray) -> dict[str, np.ndarray]:
         """Return the reference true longitude (deg), declination (deg), (a/r)² at model times."""
@@ -217,28 +236,3 @@ class ForwardModel:
             lam[sel], dec[sel], rho[sel] = sy.solar_geometry(t_days[sel])
         return {"true_longitude_deg": np.rad2deg(lam), "declination_deg": np.rad2deg(dec),
                 "distance_factor": rho}
-
-
-def insolation_from_geometry(latitude_deg, declination_deg, distance_factor,
-                             solar_constant_wm2: float) -> np.ndarray:
-    r"""Daily-mean insolation from a declination and distance factor (W m-2).
-
-    .. math::
-
-        \bar Q = \frac{S_0}{\pi}\left(\frac{a}{r}\right)^2
-            (H_0 \sin\varphi \sin\delta + \cos\varphi\cos\delta\sin H_0),
-        \qquad \cos H_0 = -\tan\varphi\tan\delta
-
-    (Berger 1978). Used to turn a model's orbit table into the insolation its
-    radiation code receives; shape (n_times, n_latitudes).
-    """
-    phi = np.deg2rad(np.asarray(latitude_deg, dtype=float))[np.newaxis, :]
-    dec = np.deg2rad(np.asarray(declination_deg, dtype=float))[:, np.newaxis]
-    rho = np.asarray(distance_factor, dtype=float)[:, np.newaxis]
-    x, y = np.sin(phi) * np.sin(dec), np.cos(phi) * np.cos(dec)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        c = np.clip(-x / y, -1.0, 1.0)
-    c = np.where(np.isnan(c) & np.isfinite(x) & np.isfinite(y), 1.0, c)
-    h0 = np.arccos(c)
-    q = np.maximum(h0 * x + y * np.sqrt(1.0 - c * c), 0.0)
-    return solar_constant_wm2 / np.pi * rho * q

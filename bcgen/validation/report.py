@@ -35,6 +35,15 @@ key                            what it holds
 ``model``                      what was read
 ``reference``                  the orbit, solar constant, calendar, anchor and
                                daily method of the reference
+``daily_mean_convention``      the daily-mean convention the output was judged
+                               in: ``method`` (``midday``, ``day_average`` or
+                               ``timestep_mean``), ``timestep_minutes``,
+                               ``source`` (``option``, ``file attribute``,
+                               ``spec``, ``fitted`` or ``instantaneous``),
+                               ``description``, ``misfit_by_candidate_wm2``,
+                               ``distinguishable``, ``with_finding``
+``day_numbers``                how day numbers are counted (from 0 at 1 January
+                               00:00; every day named is also given as a date)
 ``table_errors``               for an orbit table, errors of each column given
 ``notes``                      assumptions worth knowing
 =============================  =====================================================
@@ -50,7 +59,7 @@ import math
 import numpy as np
 
 from bcgen import __version__
-from bcgen.validation.compare import MONTH_NAMES
+from bcgen.validation.dates import DAY_NUMBERS, MONTH_NAMES
 
 _ORDER = ("verdict", "max_abs_error_wm2", "rms_error_wm2", "findings")
 
@@ -120,6 +129,9 @@ def to_dict(result) -> dict:
             "anchor_day": float(setup.calendar.anchor_day(int(years[0]))),
             "daily_method": setup.daily_method,
         },
+        "daily_mean_convention": (result.convention.to_dict()
+                                  if result.convention is not None else None),
+        "day_numbers": DAY_NUMBERS,
         "table_errors": result.table_errors,
         "notes": list(result.notes),
         "bcgen_version": __version__,
@@ -150,8 +162,10 @@ def to_text(result) -> str:
         f"reference: {setup.epoch_label + ' ' if setup.epoch_label else ''}orbit e="
         f"{float(orbit.eccentricity):.6f}, obliquity {float(orbit.obliquity_deg):.3f} deg, "
         f"perihelion longitude {float(orbit.perihelion_longitude_deg):.2f} deg "
-        f"({orbit.solution}); S0 {setup.solar_constant_wm2:g} W m-2; {setup.calendar.describe()};"
-        f" daily means: {setup.daily_method}",
+        f"({orbit.solution}); S0 {setup.solar_constant_wm2:g} W m-2; {setup.calendar.describe()}",
+        "daily-mean convention: " + (result.convention.describe() if result.convention
+                                     is not None else setup.daily_method),
+        f"days:      {DAY_NUMBERS}",
     ]
     lines += [f"note:      {n}" for n in result.notes]
     lines.append("")
