@@ -193,13 +193,27 @@ def synthetic_output(
         values = values + noise_wm2 * rng.standard_normal(values.shape)
     if missing_fraction:
         values = np.where(rng.random(values.shape) < missing_fraction, np.nan, values)
+    return write_netcdf(Path(folder) / name, values, start, end, year_of, lats, calendar,
+                        var=var, standard_name=standard_name, bounds=bounds)
+
+
+def write_netcdf(path: Path, values, start, end, year_of, lats, calendar: str, *,
+                 var: str = "rsdt", standard_name: bool = True, bounds: bool = True,
+                 attrs: dict | None = None) -> Path:
+    """Write model output as CF NetCDF: values (n_times, n_lat[, n_lon]) over [start, end).
+
+    ``start`` and ``end`` are days after 1 January 00:00 of each value's model year
+    ``year_of``; a third axis of ``values`` is longitude (evenly spaced from 0).
+    """
+    n_lon = values.shape[2] if values.ndim == 3 else 0
+    lats = np.asarray(lats, dtype=float)
     units = "days since 0001-01-01 00:00:00"
     jan1 = np.array([cftime.date2num(cftime.datetime(int(y), 1, 1, calendar=calendar), units,
                                      calendar=calendar) for y in year_of])
     t_bounds = np.stack([jan1 + start, jan1 + end], axis=1)
     dims = ("time", "lat") + (("lon",) if n_lon else ())
     attrs = {"units": "W m-2", "long_name": "TOA incident shortwave radiation",
-             "cell_methods": "time: mean"}
+             "cell_methods": "time: mean", **(attrs or {})}
     if standard_name:
         attrs["standard_name"] = "toa_incoming_shortwave_flux"
     time_attrs = {"units": units, "calendar": calendar, "standard_name": "time", "axis": "T"}
@@ -216,7 +230,6 @@ def synthetic_output(
     if bounds:
         data_vars["time_bnds"] = (("time", "nv"), t_bounds)
     ds = xr.Dataset(data_vars, coords=coords, attrs={"Conventions": "CF-1.11"})
-    path = Path(folder) / name
     encoding = {var: {"_FillValue": np.float32(1.0e20)}, "time": {"_FillValue": None},
                 "lat": {"_FillValue": None}}
     if bounds:

@@ -1,0 +1,266 @@
+"""``bcgen validate`` with default options on outputs of an independent model-side orbit routine.
+
+The outputs come from ``model_side_orbit.py`` (a typical model routine written
+from the published formulas, not from bcgen's engine), correct and with each
+catalogued mistake, daily and monthly, on noleap and 360_day axes, in each
+daily-mean convention; and from bcgen's own daily product for every bundled
+protocol config on a grid with the pole rows. Expected values are the truth of
+each construction or published protocol values (named beside each check).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from pathlib import Path
+
+import numpy as np
+import pytest
+from model_side_orbit import ModelOrbit, berger1978_elements
+from validate_synthetic import write_netcdf
+
+import bcgen
+from bcgen.solar_calendar.calendars import ModelCalendar
+from bcgen.spec import load_spec
+from bcgen.spec.grid import GridSpec
+from bcgen.validation import validate
+
+#: PMIP4 lig127k: perihelion - 180 = 275.41 deg, so a model that used the value 180 deg off
+#: has 95.41 (Otto-Bliesner et al. 2017, GMD 10, 3979-4003, Table 1; also in
+#: configs/protocols/lig127k.yaml).
+LIG127K_OPPOSITE_DEG = 95.41
+#: 127 ka in years from 1950 CE.
+EPOCH_YEARS = -127000.0
+#: 13 latitudes from pole to pole (15 degrees apart) keep the tests fast.
+LATS_POLES = np.linspace(-90.0, 90.0, 13)
+#: Cell centres without pole rows, and a 32-row Gaussian grid (latitudes of the
+#: Gauss-Legendre nodes, common practice in spectral models).
+LATS_NO_POLES = np.arange(-85.0, 86.0, 10.0)
+LATS_GAUSSIAN = np.rad2deg(np.arcsin(np.polynomial.legendre.leggauss(32)[0]))
+#: The March equinox on 21 March 12:00, counted from 1: day 80.5 in a 365-day calendar,
+#: 81.5 in a 360-day one (two 30-day months before March).
+EQUINOX_DAY = {"noleap": 80.5, "360_day": 81.5}
+YEAR_DAYS = {"noleap": 365.0, "360_day": 360.0}
+
+SPEC = """\
+experiment:
+  name: model_side_check
+epoch: 127ka
+orbit:
+  solution: berger1978
+solar_constant_wm2: 1360.747
+calendar:
+  name: {calendar}
+  anchor: march_equinox
+  date: "03-21 12:00"
+products: [orbit]
+"""
+
+#: Each mistake: (what the model is given, first finding expected).
+MISTAKES = ("perihelion_opposite", "equinox_day_shift", "solar_constant_ratio",
+            "year_length_mismatch", "day_origin_off_by_one", "orbit_not_applied",
+            "orbital_elements_differ", "sun_at_day_start", "calendar_differs")
+
+
+@pytest.fixture(scope="module")
+def folder(tmp_path_factory):
+    return tmp_path_factory.mktemp("model_side")
+
+
+def spec_path(folder: Path, calendar: str) -> Path:
+    path = folder / f"spec_{calendar}.yaml"
+    if not path.exists():
+        path.write_text(SPEC.format(calendar=calendar), encoding="utf-8")
+    return path
+
+
+def model_routine(mistake: str | None, calendar: str) -> ModelOrbit:
+    """The routine as a model on ``calendar`` runs it, with ``mistake``."""
+    model = ModelOrbit.for_epoch(EPOCH_YEARS, year_days=YEAR_DAYS[calendar],
+                                 equinox_day=EQUINOX_DAY[calendar])
+    if mistake == "perihelion_opposite":
+        return model.with_(perihelion_deg=(model.perihelion_deg + 180.0) % 360.0)
+    if mistake == "equinox_day_shift":  # the equinox two days late (23 March)
+        return model.with_(equinox_day=model.equinox_day + 2.0)
+    if mistake == "solar_constant_ratio":
+        return model.with_(solar_constant_wm2=1365.0)
+    if mistake == "year_length_mismatch":  # the other calendar's orbital year
+        other = "noleap" if calendar == "360_day" else "360_day"
+        return model.with_(year_days=YEAR_DAYS[other], equinox_day=EQUINOX_DAY[other])
+    if mistake == "day_origin_off_by_one":  # days counted from 0 passed to a routine from 1
+        return model.with_(day_number_offset=-1.0)
+    if mistake == "orbit_not_applied":
+        return ModelOrbit.for_epoch(-100.0, year_days=model.year_days,
+                                    equinox_day=model.equinox_day)  # 1850 CE
+    if mistake == "orbital_elements_differ":
+        return ModelOrbit.for_epoch(-21000.0, year_days=model.year_days,
+                                    equinox_day=model.equinox_day)  # 21 ka
+    return model
+
+
+def model_file(folder: Path, mistake: str | None, *, calendar: str = "noleap",
+               frequency: str = "daily", convention: str = "midday", lats=LATS_POLES,
+               steps_per_day: int = 24, n_lon: int = 0) -> Path:
+    """Write what the model would output (zonal means, or a lat-lon field)."""
+    if mistake == "sun_at_day_start":
+        convention = "start_of_day"
+    n_days = int(YEAR_DAYS[calendar])
+    model = model_routine(mistake, calendar)
+    if n_lon:  # instantaneous flux on a lat-lon grid at each time step, averaged per day
+        lon = np.arange(n_lon) * 360.0 / n_lon
+        daily = np.zeros((n_days, lats.size, n_lon))
+        for k in range(steps_per_day):
+            daily += model.instantaneous_wm2(np.arange(1, n_days + 1) + (k + 0.5) / steps_per_day,
+                                             lats, lon)
+        daily /= steps_per_day
+    else:
+        daily = model.daily_means_wm2(n_days, lats, convention, steps_per_day)
+    if frequency == "daily":
+        start = np.arange(n_days, dtype=float)
+        end, values = start + 1.0, daily
+    else:
+        bounds = ModelCalendar(calendar).month_starts_days(1)
+        start, end = bounds[:-1], bounds[1:]
+        values = np.stack([daily[int(a):int(b)].mean(axis=0) for a, b in zip(start, end,
+                                                                              strict=True)])
+    name = f"{mistake}_{calendar}_{frequency}_{convention}{steps_per_day}_{lats.size}_{n_lon}.nc"
+    return write_netcdf(folder / name, values, start, end, np.ones(start.size, int), lats,
+                        calendar)
+
+
+def test_model_side_elements_are_berger1978():
+    # The routine's elements reproduce the PMIP4 lig127k table to its digits (Otto-Bliesner
+    # et al. 2017, Table 1: e 0.039378, obliquity 24.040, perihelion - 180 = 275.41).
+    e, obliquity, varpi = berger1978_elements(EPOCH_YEARS)
+    assert e == pytest.approx(0.039378, abs=1e-6)
+    assert obliquity == pytest.approx(24.040, abs=1e-3)
+    assert varpi == pytest.approx(275.41, abs=0.01)
+
+
+# --- correct outputs: consistent with default options, the convention reported ---------------
+@pytest.mark.parametrize("convention, steps, lats, calendar, expected", [
+    ("midday", 1, LATS_POLES, "noleap", "midday"),
+    ("midday", 1, LATS_POLES, "360_day", "midday"),
+    ("midday", 1, LATS_NO_POLES, "noleap", None),
+    ("exact", 1, LATS_POLES, "noleap", "day_average"),
+    ("exact", 1, LATS_GAUSSIAN, "360_day", "day_average"),
+    ("timestep_mean", 24, LATS_POLES, "noleap", "day_average"),
+    ("timestep_mean", 8, LATS_NO_POLES, "noleap", "day_average"),
+], ids=["midday-poles", "midday-360", "midday-nopoles", "exact-poles", "exact-gauss-360",
+        "1h-steps-poles", "3h-steps-nopoles"])
+def test_correct_daily_outputs_are_consistent(folder, convention, steps, lats, calendar,
+                                              expected):
+    path = model_file(folder, None, calendar=calendar, convention=convention, lats=lats,
+                      steps_per_day=steps)
+    result = validate(path, spec_path(folder, calendar))
+    assert result.verdict == "consistent", result.reasons
+    assert result.findings == ()
+    assert result.convention.source == "fitted"
+    if expected is None:  # without the pole rows midday and day average differ < 0.1 W m-2
+        assert result.convention.distinguishable is False
+    else:
+        assert result.convention.method == expected
+        if expected == "midday":
+            assert result.convention.distinguishable is True
+
+
+def test_correct_latlon_timestep_output_is_consistent(folder):
+    # instantaneous cos Z on 48 longitudes every 3 hours, a model's own radiation steps
+    path = model_file(folder, None, n_lon=48, steps_per_day=8)
+    result = validate(path, spec_path(folder, "noleap"))
+    assert result.verdict == "consistent", result.reasons
+    assert result.convention.method == "day_average"
+
+
+@pytest.mark.parametrize("calendar", ["noleap", "360_day"])
+def test_correct_monthly_outputs_are_consistent(folder, calendar):
+    path = model_file(folder, None, calendar=calendar, frequency="monthly")
+    result = validate(path, spec_path(folder, calendar))
+    assert result.verdict == "consistent", result.reasons
+    assert result.convention.distinguishable is False  # monthly means cannot tell
+
+
+# --- each catalogued mistake: inconsistent, the right finding first ---------------------------
+def _check_first(result, mistake, calendar):
+    assert result.verdict == "inconsistent"
+    first = result.findings[0]
+    assert first.code == mistake, [(f.code, f.explains) for f in result.findings]
+    if mistake == "calendar_differs":
+        return
+    assert first.explains is True
+    value = first.fitted_value
+    if mistake == "perihelion_opposite":
+        assert value == pytest.approx(LIG127K_OPPOSITE_DEG, abs=0.02)
+    elif mistake == "equinox_day_shift":
+        assert value == pytest.approx(2.0, abs=0.05)  # the construction: 23 March
+    elif mistake == "solar_constant_ratio":
+        assert value == pytest.approx(1365.0 / 1360.747, abs=2e-4)  # the construction
+    elif mistake == "year_length_mismatch":
+        assert value == (365.0 if calendar == "360_day" else 360.0)
+    elif mistake == "day_origin_off_by_one":
+        # days counted from 0 passed to a routine that counts from 1: its Sun lags a day
+        assert value == 1.0
+        assert "cannot be told apart" in first.description
+    elif mistake == "orbit_not_applied":
+        assert value == "1850CE"
+    elif mistake == "orbital_elements_differ":
+        closest = first.details["closest_berger1978_epoch"]
+        assert closest["epoch"] == "21ka" and closest["matches"] is True
+    elif mistake == "sun_at_day_start":
+        assert value == "00:00"
+
+
+CASES = [(m, "daily", "midday", "noleap") for m in MISTAKES]
+CASES += [(m, "daily", "exact", "360_day") for m in MISTAKES if m != "calendar_differs"]
+CASES += [(m, "daily", "timestep_mean", "noleap") for m in MISTAKES
+          if m not in ("calendar_differs", "sun_at_day_start")]
+CASES += [(m, "monthly", "midday", "360_day") for m in MISTAKES if m != "calendar_differs"]
+CASES += [(m, "monthly", "exact", "noleap") for m in MISTAKES]
+
+
+@pytest.mark.parametrize("mistake, frequency, convention, calendar", CASES,
+                         ids=["-".join(c) for c in CASES])
+def test_each_mistake_is_found_first(folder, mistake, frequency, convention, calendar):
+    file_calendar = calendar
+    if mistake == "calendar_differs":  # a correct 360-day model checked against a noleap spec
+        file_calendar, calendar = "360_day", "noleap"
+    path = model_file(folder, mistake, calendar=file_calendar, frequency=frequency,
+                      convention=convention, steps_per_day=8)
+    result = validate(path, spec_path(folder, calendar))
+    _check_first(result, mistake, file_calendar)
+    if frequency == "daily" and mistake not in ("sun_at_day_start", "calendar_differs"):
+        expected = "midday" if convention == "midday" else "day_average"
+        assert result.convention.method == expected
+
+
+def test_sign_flipped_output_is_not_a_negative_solar_constant(folder):
+    path = model_file(folder, None)
+    flipped = folder / "flipped.nc"
+    import xarray as xr
+
+    with xr.open_dataset(path) as ds:
+        ds = ds.load()
+    ds["rsdt"] = -ds["rsdt"]
+    ds.to_netcdf(flipped)
+    result = validate(flipped, spec_path(folder, "noleap"))
+    assert result.verdict == "inconsistent"
+    assert result.findings[0].code == "unexplained"
+    assert all(f.code != "solar_constant_ratio" for f in result.findings)
+
+
+# --- bcgen's own daily product against its own spec, with the pole rows -------------------
+PROTOCOLS = sorted((Path(__file__).parents[1] / "configs" / "protocols").glob("*.yaml"))
+
+
+@pytest.mark.parametrize("config", PROTOCOLS, ids=[p.stem for p in PROTOCOLS])
+def test_bcgen_daily_product_validates_against_its_spec(tmp_path, config):
+    spec = load_spec(config)
+    spec = dataclasses.replace(
+        spec, products=("daily_insolation",),
+        grid=GridSpec(kind="zonal", latitudes_deg=tuple(np.linspace(-90.0, 90.0, 19))))
+    build = bcgen.build(spec, tmp_path)
+    daily = next(p for p in build.directory.iterdir() if "daily_insolation" in p.name)
+    result = validate(daily, spec)
+    assert result.verdict == "consistent", result.reasons
+    assert result.max_abs_error_wm2 < 0.01
+    assert result.convention.source == "file attribute"
+    assert result.convention.method == spec.insolation.daily_method
