@@ -264,3 +264,28 @@ def test_bcgen_daily_product_validates_against_its_spec(tmp_path, config):
     assert result.max_abs_error_wm2 < 0.01
     assert result.convention.source == "file attribute"
     assert result.convention.method == spec.insolation.daily_method
+
+
+def test_convention_and_dates_in_the_reports(folder, run_cli):
+    import json
+
+    spec = spec_path(folder, "noleap")
+    path = model_file(folder, None)  # a correct midday model
+    status, out, _ = run_cli(["validate", path, "--spec", spec])
+    assert status == 0
+    assert "daily-mean convention: midday (fitted" in out
+    status, out, _ = run_cli(["validate", path, "--spec", spec, "--format", "json"])
+    convention = json.loads(out)["daily_mean_convention"]
+    assert convention["method"] == "midday" and convention["source"] == "fitted"
+    assert convention["distinguishable"] is True
+    # forced: the exact day average makes the pole rows of a midday file too far off
+    status, out, err = run_cli(["validate", path, "--spec", spec, "--daily-method",
+                                "day_average"])
+    assert status == 1 and "daily-mean convention: day_average (option)" in out
+    # the equinox two days late, named as days and as dates of the model calendar
+    # (21 March 12:00 is day 79.50 counted from 0 in a 365-day calendar: common practice)
+    late = model_file(folder, "equinox_day_shift")
+    status, out, _ = run_cli(["validate", late, "--spec", spec])
+    assert status == 1
+    assert "instead of day 79.50 (21 March 12:00, noleap)" in out
+    assert "(23 March " in out
