@@ -186,7 +186,18 @@ def test_midday_model_needs_the_midday_reference(folder, spec):
     result = validate(path, spec, daily_method="midday")
     assert result.verdict == "consistent"
     assert result.max_abs_error_wm2 < 1e-3
-    assert validate(path, spec).max_abs_error_wm2 > 0.5
+    assert result.convention.source == "option"
+    # this spec states daily_method: day_average, which then rules; the report says the
+    # output fits midday better
+    stated = validate(path, spec)
+    assert stated.convention.source == "spec" and stated.convention.method == "day_average"
+    assert stated.max_abs_error_wm2 > 0.5
+    assert "fits midday better" in stated.convention.note
+    # a spec that states midday rules too
+    spec_midday = write_spec(folder, daily_method="midday", name="spec_midday.yaml")
+    by_spec = validate(path, spec_midday)
+    assert by_spec.verdict == "consistent"
+    assert (by_spec.convention.source, by_spec.convention.method) == ("spec", "midday")
 
 
 def test_tolerance_option_and_findings_below_tolerance(folder, spec):
