@@ -11,6 +11,7 @@ each construction or published protocol values (named beside each check).
 from __future__ import annotations
 
 import dataclasses
+import re
 from pathlib import Path
 
 import numpy as np
@@ -289,7 +290,9 @@ def test_convention_and_dates_in_the_reports(folder, run_cli):
     # the equinox two days late, named as days and as dates of the model calendar
     # (21 March 12:00 is day 79.50 counted from 0 in a 365-day calendar: common practice)
     late = model_file(folder, "equinox_day_shift")
-    status, out, _ = run_cli(["validate", late, "--spec", spec])
+    status, out, err = run_cli(["validate", late, "--spec", spec])
     assert status == 1
     assert "instead of day 79.50 (21 March 12:00, noleap)" in out
+    # the closing line names the worst place with its dates whole
+    assert re.search(r"bcgen: check failed: .*\(year 1, days? [\d.-]+ \(\d+ \w+ \d\d:\d\d", err)
     assert "(23 March " in out

@@ -131,10 +131,15 @@ class Place:
                     else f"days {self.start_day:.2f}-{self.end_day:.2f}")
         return days_in_words(self.start_day, self.end_day, self.calendar, self.year)
 
-    def describe(self) -> str:
-        """One line: month, latitude, year, the days in words, model, reference and error."""
+    @property
+    def where(self) -> str:
+        """Month, latitude, year and the days in words."""
         return (f"{MONTH_NAMES[self.month - 1]}, latitude {latitude_label(self.latitude_deg)} "
-                f"(year {self.year}, {self.when}): model {self.model_wm2:.2f}, reference "
+                f"(year {self.year}, {self.when})")
+
+    def describe(self) -> str:
+        """One line: where, model, reference and error."""
+        return (f"{self.where}: model {self.model_wm2:.2f}, reference "
                 f"{self.reference_wm2:.2f} ({self.error_wm2:+.2f} W m-2)")
 
     def to_dict(self) -> dict:

@@ -223,7 +223,7 @@ def to_text(result) -> str:
 def summary_line(result) -> str:
     """One line for the exit message of an inconsistent verdict."""
     comp = result.comparison
-    where = comp.worst[0].describe().split(":")[0] if comp.worst else "?"
+    where = comp.worst[0].where if comp.worst else "?"
     text = (f"{result.output.source} is inconsistent with the spec: max abs error "
             f"{comp.max_abs_error_wm2:.2f} W m-2 ({where}; allowed "
             f"{result.allowed_max_abs_error_wm2:.2f})")
