@@ -118,7 +118,7 @@ def test_demo_documents_every_key():
             continue
         assert re.search(rf"\b{re.escape(leaf)}\b\s*:", text), f"{path} not shown in demo.yaml"
     for vocabulary in (
-        S.CALENDARS,
+        S.CALENDAR_NAMES,
         S.PRODUCTS,
         S.GRID_KINDS,
         S.ANCHORS,

@@ -86,6 +86,14 @@ LONGITUDE_UNITS: frozenset[str] = frozenset(
     {"degrees_east", "degree_east", "degree_E", "degrees_E", "degreeE", "degreesE"}
 )
 
+#: Attributes of the precession index (no CF standard name exists).
+PRECESSION_INDEX_ATTRS: MappingProxyType = MappingProxyType({
+    "long_name": "climatic precession parameter e sin(perihelion_longitude)",
+    "units": "1",
+    "convention": "eccentricity times the sine of the heliocentric longitude of perihelion "
+    "from the moving March equinox (Berger 1978)",
+})
+
 _ORBIT_COMMENT = "no CF standard name exists for this quantity"
 
 #: Data variables bcgen writes, keyed by the variable name bcgen suggests.

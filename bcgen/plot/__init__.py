@@ -32,7 +32,7 @@ from bcgen.plot.output import FORMATS, check_dpi, check_output, figure_format, s
 from bcgen.plot.sources import (
     MonthLengths,
     MonthlyField,
-    OrbitSeries,
+    OrbitsThroughTime,
     SourceError,
     field_pair,
     month_lengths,
@@ -46,7 +46,7 @@ __all__ = [
     "MissingExtraError",
     "MonthLengths",
     "MonthlyField",
-    "OrbitSeries",
+    "OrbitsThroughTime",
     "SourceError",
     "anomaly_figure",
     "check_dpi",

@@ -29,7 +29,7 @@ import numpy as np
 
 from bcgen.errors import BcgenError
 from bcgen.insolation import insolation_at_true_longitude_wm2
-from bcgen.plot.sources import MonthLengths, MonthlyField, OrbitSeries, SourceError
+from bcgen.plot.sources import MonthLengths, MonthlyField, OrbitsThroughTime, SourceError
 
 MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
 #: Colormap of fields: lightness increases monotonically (readable in grey).
@@ -428,7 +428,7 @@ def solstice_words(true_longitude_deg: float) -> str:
     return f"{name} (λ = {lam:g}°)" if name else f"λ = {lam:g}°"
 
 
-def orbit_figure(series: OrbitSeries, latitudes_deg: Sequence[float] | None = (65.0,),
+def orbit_figure(series: OrbitsThroughTime, latitudes_deg: Sequence[float] | None = (65.0,),
                  true_longitude_deg: float | None = None):
     """Eccentricity, obliquity, precession index (and summer-solstice insolation) through time.
 
@@ -437,7 +437,7 @@ def orbit_figure(series: OrbitSeries, latitudes_deg: Sequence[float] | None = (6
 
     Parameters
     ----------
-    series : OrbitSeries
+    series : OrbitsThroughTime
         From :func:`bcgen.plot.sources.orbit_series`.
     latitudes_deg : sequence of float or None
         Latitudes of a fourth panel: daily-mean insolation when the Sun is at

@@ -39,15 +39,13 @@ from bcgen.solar_calendar.calendars import (
     anchor_from_words,
     canonical_calendar,
 )
+from bcgen.spec.schema import DEFAULT_REFERENCE_EPOCH  # also when no spec names one
 
 SourceKind = Literal["epoch", "range", "spec", "file"]
 Months = Literal["fixed_day", "fixed_angle"]
 
 #: Latitudes of fields computed from an epoch or a spec when none are given, degrees north.
 DEFAULT_LATITUDES_DEG = np.linspace(-90.0, 90.0, 181)
-#: Reference epoch of fixed-angle months when neither a spec nor a file names one (as in
-#: :func:`bcgen.solar_calendar.months.fixed_angle_months`).
-DEFAULT_REFERENCE_EPOCH = "1950CE"
 
 SPEC_SUFFIXES = (".yaml", ".yml")
 FILE_SUFFIXES = (".nc", ".nc4", ".netcdf")
@@ -561,7 +559,7 @@ def month_lengths(source: str, reference: str | None = None,
 
 # --- orbit through time ------------------------------------------------------------------
 @dataclass(frozen=True)
-class OrbitSeries:
+class OrbitsThroughTime:
     """Orbital elements at a series of epochs.
 
     Attributes
@@ -589,7 +587,7 @@ class OrbitSeries:
         return -np.asarray(self.orbit.years_from_1950, dtype=float) / 1000.0
 
 
-def orbit_series(source: str) -> OrbitSeries:
+def orbit_series(source: str) -> OrbitsThroughTime:
     """Orbital elements through time from a range of epochs or a transient spec."""
     kind = source_kind(source)
     if kind == "range":
@@ -597,7 +595,7 @@ def orbit_series(source: str) -> OrbitSeries:
         labels = epoch_labels(source)
         step = source.partition("/")[2].strip()
         label = f"{labels[0]} to {labels[-1]} every {step}"
-        return OrbitSeries(solve(years), label)
+        return OrbitsThroughTime(solve(years), label)
     if kind == "spec":
         spec = _load_spec(source)
         if spec.is_transient:
@@ -605,7 +603,7 @@ def orbit_series(source: str) -> OrbitSeries:
             label = (f"{spec.experiment.name} (transient {t.start_epoch} to {t.end_epoch}, "
                      f"{t.acceleration} yr per model year)")
             experiment = _experiment(spec)
-            return OrbitSeries(experiment.orbit, label, experiment.solar_constant_wm2)
+            return OrbitsThroughTime(experiment.orbit, label, experiment.solar_constant_wm2)
     what = "a time-slice spec" if kind == "spec" else _KIND_WORDS[kind]
     raise SourceError(
         f"source {source} is {what}; the orbit figure needs a range of epochs such as "

@@ -322,9 +322,9 @@ class CalendarSpec:
         if self.name in REFUSED_CALENDARS:
             raise FieldError(
                 "calendar.name",
-                f"{REFUSED_CALENDARS[self.name]}; expected one of {', '.join(S.CALENDARS)}",
+                f"{REFUSED_CALENDARS[self.name]}; expected one of {', '.join(S.CALENDAR_NAMES)}",
             )
-        check_choice("calendar.name", self.name, S.CALENDARS, "calendar")
+        check_choice("calendar.name", self.name, S.CALENDAR_NAMES, "calendar")
         check_choice("calendar.anchor", self.anchor, S.ANCHORS, "anchor")
         if self.date is None:
             if self.anchor == "perihelion":
@@ -425,7 +425,8 @@ class InsolationSpec:
     reference_epoch: str = S.DEFAULT_REFERENCE_EPOCH
 
     def __post_init__(self) -> None:
-        check_choice("insolation.daily_method", self.daily_method, S.DAILY_METHODS, "daily method")
+        check_choice("insolation.daily_method", self.daily_method, tuple(S.DAILY_METHODS),
+                     "daily method")
         check_epoch("insolation.reference_epoch", self.reference_epoch)
 
     @property

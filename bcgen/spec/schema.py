@@ -55,6 +55,7 @@ from bcgen.geography.options import (
     SHALLOW_POLICIES,
     STRAIT_ACTIONS,
 )
+from bcgen.insolation.daily import DAILY_METHODS  # how the daily mean of a day is formed
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS
 from bcgen.solar_calendar.calendars import ANCHOR_KINDS, CALENDAR_NAMES, MAX_MODEL_YEAR
 
@@ -76,12 +77,8 @@ KeyType = Literal[
 # Closed vocabularies
 # ---------------------------------------------------------------------------------------------
 
-#: CF calendar names usable for a model year with an annual cycle (the calendar authority's).
-CALENDARS = CALENDAR_NAMES
 #: What the calendar date anchors: the March equinox or the perihelion passage.
 ANCHORS = tuple(ANCHOR_KINDS)
-#: How the daily mean of a calendar day is formed.
-DAILY_METHODS = ("midday", "day_average")
 #: Grid kinds.
 GRID_KINDS = ("regular", "gaussian", "zonal", "file")
 #: Products of a time slice and what each needs.
@@ -434,7 +431,7 @@ SCHEMA: Mapping[str, Key] = _map(
                 "choice",
                 "CF calendar name",
                 default=DEFAULT_CALENDAR,
-                choices=CALENDARS,
+                choices=CALENDAR_NAMES,
                 noun="calendar",
             ),
             anchor=Key(
@@ -514,7 +511,7 @@ SCHEMA: Mapping[str, Key] = _map(
                 "midday: the Sun's position at 12:00 of each day; "
                 "day_average: averaged over the day",
                 default=DEFAULT_DAILY_METHOD,
-                choices=DAILY_METHODS,
+                choices=tuple(DAILY_METHODS),
                 noun="daily method",
             ),
             reference_epoch=Key(

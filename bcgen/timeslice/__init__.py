@@ -30,9 +30,9 @@ from bcgen.io.lock import FolderLock
 from bcgen.io.staging import make_stage, replace_all, sweep_stale_temporaries
 from bcgen.spec import ExperimentSpec
 from bcgen.timeslice.context import BuildContext
-from bcgen.timeslice.products import PRODUCTS, Output, make_outputs
+from bcgen.timeslice.products import PRODUCT_MAKERS, Output, make_outputs
 
-__all__ = ["PRODUCTS", "BuildResult", "build_time_slice"]
+__all__ = ["PRODUCT_MAKERS", "BuildResult", "build_time_slice"]
 
 
 def build_time_slice(spec: ExperimentSpec, output_dir=None, *, force: bool = False,

@@ -17,7 +17,7 @@ from pathlib import Path
 import numpy as np
 import xarray as xr
 
-from bcgen.cf import variable_attrs
+from bcgen.cf import PRECESSION_INDEX_ATTRS, variable_attrs
 from bcgen.errors import SpecError
 from bcgen.insolation import daily_insolation, instantaneous_insolation, monthly_insolation
 from bcgen.orbit import SOLUTIONS
@@ -27,15 +27,6 @@ from bcgen.solar_calendar.position import SolarYear
 from bcgen.timeslice.context import BuildContext
 from bcgen.timeslice.values import in_units, template_values
 from bcgen.writer import climatology_time_axis, time_axis
-
-#: Attributes of the precession index (no CF standard name exists).
-PRECESSION_INDEX_ATTRS = {
-    "long_name": "climatic precession parameter e sin(perihelion_longitude)",
-    "units": "1",
-    "convention": "eccentricity times the sine of the heliocentric longitude of perihelion "
-    "from the moving March equinox (Berger 1978)",
-}
-
 
 #: Size of the slabs in which latitude-longitude fields are spread and written.
 _SLAB_BYTES = 16 * 2**20
@@ -290,7 +281,7 @@ def templates_product(ctx: BuildContext) -> list[Output]:
 
 
 #: Products of a time slice: spec name -> function.
-PRODUCTS: dict[str, Callable[[BuildContext], list[Output]]] = {
+PRODUCT_MAKERS: dict[str, Callable[[BuildContext], list[Output]]] = {
     "orbit": orbit_product,
     "solar_constant": solar_constant_product,
     "greenhouse_gases": greenhouse_gas_product,
@@ -307,10 +298,10 @@ def make_outputs(ctx: BuildContext) -> list[Output]:
     """Every output of the spec's products, in the order the spec lists them."""
     outputs: list[Output] = []
     for product in ctx.spec.products:
-        if product not in PRODUCTS:
+        if product not in PRODUCT_MAKERS:
             raise SpecError(f"product {product!r} is not available in a time-slice build; "
-                            f"expected one of {', '.join(PRODUCTS)}")
-        outputs.extend(PRODUCTS[product](ctx))
+                            f"expected one of {', '.join(PRODUCT_MAKERS)}")
+        outputs.extend(PRODUCT_MAKERS[product](ctx))
     if ctx.spec.geography is not None:
         from bcgen.timeslice.geography import geography_outputs
 

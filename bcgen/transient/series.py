@@ -26,7 +26,7 @@ import cftime
 import numpy as np
 
 from bcgen import __version__
-from bcgen.cf import variable_attrs
+from bcgen.cf import PRECESSION_INDEX_ATTRS, variable_attrs
 from bcgen.errors import InputFileError
 from bcgen.experiment import Experiment
 from bcgen.grids import Grid
@@ -49,13 +49,6 @@ YEARLY_CHUNK_YEARS = 10_000
 #: Rough count of float64 temporaries per value inside the daily-insolation engine.
 _TEMPORARIES = 4
 
-#: Attributes of the precession index (as in the time-slice product; no CF standard name).
-PRECESSION_INDEX_ATTRS = {
-    "long_name": "climatic precession parameter e sin(perihelion_longitude)",
-    "units": "1",
-    "convention": "eccentricity times the sine of the heliocentric longitude of perihelion "
-    "from the moving March equinox (Berger 1978)",
-}
 EPOCH_ATTRS = {
     "long_name": "epoch whose orbit (and greenhouse gases) the model year has, years before "
     "1950 CE",
