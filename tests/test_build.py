@@ -1,9 +1,9 @@
 """The main job end to end: `bcgen build` on every bundled config and on purpose-made specs.
 
 Published checks here:
-- PMIP4/CMIP6 protocol orbits (published-values.md §1.1; Otto-Bliesner et al. 2017,
+- PMIP4/CMIP6 protocol orbits (Otto-Bliesner et al. 2017,
   Kageyama et al. 2017), through each protocol config's `orbit.expected`.
-- The PMIP1 monthly insolation check table (Bonfils et al. 1998, published-values.md §4.7),
+- The PMIP1 monthly insolation check table (Bonfils et al. 1998),
   read back from a built NetCDF file.
 - CF compliance through the IOOS compliance-checker (tests/cf_checker.py).
 """
@@ -42,13 +42,13 @@ def built(tmp_path_factory):
 
 
 def test_protocol_configs_exist():
-    # The four PMIP4-CMIP6 Tier-1 time slices (published-values.md §1.1).
+    # The four PMIP4-CMIP6 Tier-1 time slices (Otto-Bliesner et al. 2017).
     assert {p.stem for p in PROTOCOLS} >= {"piControl", "midHolocene", "lig127k", "lgm"}
 
 
 @pytest.mark.parametrize("config", PROTOCOLS, ids=lambda p: p.stem)
 def test_protocol_orbit_agrees_with_published_digits(built, config):
-    # Source: PMIP4-CMIP6 protocol values (published-values.md §1.1), carried in each config's
+    # Source: PMIP4-CMIP6 protocol values (Otto-Bliesner et al. 2017), carried in each config's
     # orbit.expected with its source; agreement is to half a unit of the last written digit.
     result, _ = built[config.stem]
     assert len(result.orbit_checks) == 3
@@ -82,7 +82,8 @@ def test_round_trip_with_xarray(built):
     by_product = {f["product"]: folder / f["file"] for f in result.files}
     with xr.open_dataset(by_product["orbit"]) as ds:
         assert float(ds.eccentricity) == pytest.approx(float(orbit.eccentricity), abs=0)
-        # The two perihelion conventions differ by exactly 180 degrees (ARCHITECTURE.md).
+        # The two perihelion conventions differ by exactly 180 degrees (Berger 1978's ϖ is
+        # heliocentric; the Sun's longitude at perihelion is geocentric: common practice).
         diff = float(ds.sun_longitude_at_perihelion) - float(ds.perihelion_longitude)
         assert diff % 360 == pytest.approx(180.0)
         assert "March equinox" in ds.perihelion_longitude.attrs["convention"]
@@ -96,7 +97,7 @@ def test_round_trip_with_xarray(built):
         assert ds.insolation.attrs["units"] == "W m-2"
         assert float(ds.insolation.min()) >= 0.0
     with xr.open_dataset(by_product["greenhouse_gases"]) as ds:
-        # Units 1e-6 / 1e-9 (UDUNITS-2; published-values.md §2.1) with the protocol's values.
+        # Units 1e-6 / 1e-9 (UDUNITS-2) with the protocol's values.
         assert float(ds.co2) == pytest.approx(264.4) and ds.co2.attrs["units"] == "1e-6"
         assert float(ds.ch4) == pytest.approx(597) and ds.ch4.attrs["units"] == "1e-9"
 
@@ -159,7 +160,7 @@ def test_cli_build_prints_summary_and_exit_status(tmp_path, capsys):
                    "--format", "json"])
     assert status == 0
     summary = json.loads(capsys.readouterr().out)
-    # Global annual mean = S0 / (4 sqrt(1 - e^2)) (published-values.md §4.1).
+    # Global annual mean = S0 / (4 sqrt(1 - e^2)) (Berger 1978).
     e = summary["orbit"]["eccentricity"]
     expected = summary["solar_constant_wm2"] / (4 * np.sqrt(1 - e**2))
     assert summary["global_annual_mean_insolation_wm2"] == pytest.approx(expected, rel=1e-9)
@@ -236,8 +237,8 @@ def test_other_grids_and_calendars_pass_the_cf_checker(tmp_path, name):
 
 
 def test_gas_amounts_are_written_as_the_protocol_prints_them(built):
-    # PMIP4-CMIP6 protocol gases (published-values.md §1.1), read back exactly: the conversion
-    # to a mole fraction and back must not leave 284.29999999999995 for 284.3.
+    # PMIP4-CMIP6 protocol gases (Otto-Bliesner et al. 2017), read back exactly: the
+    # conversion to a mole fraction and back must not leave 284.29999999999995 for 284.3.
     expected = {"piControl": (284.3, 808.2, 273.0), "midHolocene": (264.4, 597, 262),
                 "lig127k": (275, 685, 255), "lgm": (190, 375, 200)}
     for name, (co2, ch4, n2o) in expected.items():
@@ -280,8 +281,8 @@ def test_user_template_renders_values_in_both_perihelion_conventions(tmp_path):
     result = build(spec, tmp_path / "out")
     text = (tmp_path / "out" / next(f["file"] for f in result.files
                                      if f["product"] == "templates")).read_text()
-    # PMIP4 midHolocene: perihelion - 180 = 0.87 (published-values.md §1.1); the Sun's
-    # longitude at perihelion is that + 180 (ARCHITECTURE.md conventions).
+    # PMIP4 midHolocene: perihelion - 180 = 0.87 (Otto-Bliesner et al. 2017); the Sun's
+    # longitude at perihelion is that + 180 (geocentric vs heliocentric: common practice).
     assert text == "varpi = 0.87\nlambda_p = 180.87\nco2 = 264.4\n"
 
 
@@ -298,7 +299,7 @@ def test_metadata_template_sets_global_attributes_of_every_file(tmp_path):
     for record in result.files:
         assert_cf_compliant(tmp_path / record["file"])
         with xr.open_dataset(tmp_path / record["file"]) as ds:
-            # input4MIPs conventions (published-values.md §3): activity_id and a handle-style
+            # input4MIPs conventions (PCMDI input4MIPs_CVs): activity_id and a handle-style
             # tracking_id; the spec's own attributes win over the template's.
             assert ds.attrs["activity_id"] == "input4MIPs"
             assert re.fullmatch(r"hdl:21\.14100/[0-9a-f-]{36}", ds.attrs["tracking_id"])

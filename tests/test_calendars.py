@@ -22,7 +22,7 @@ CANONICAL = ("noleap", "all_leap", "360_day", "proleptic_gregorian", "standard",
 
 
 def test_every_cf_calendar_with_an_annual_cycle_is_accepted():
-    # CF 1.13 §4.4.3 Table 4.1 (published-values.md §2.2): standard, proleptic_gregorian,
+    # CF 1.13 §4.4.3 Table 4.1 (CF 1.13 §4.4.3): standard, proleptic_gregorian,
     # julian, noleap/365_day, all_leap/366_day, 360_day, and the deprecated name gregorian.
     # (utc and tai are time scales, none has no annual cycle: not model calendars here.)
     cf_names = {
@@ -128,9 +128,9 @@ def test_month_lengths():
 
 
 def test_default_anchor_is_pmip_equinox():
-    # PMIP protocols: vernal equinox at 21 March, 12:00 (published-values.md §1.5). In a
+    # PMIP protocols: vernal equinox at 21 March, 12:00 (Otto-Bliesner et al. 2017). In a
     # 365-day year that is 79.5 days after 1 January 00:00, the value that reproduces the
-    # PMIP1 check table (published-values.md §4.7).
+    # PMIP1 check table (Bonfils et al. 1998).
     cal = ModelCalendar("noleap")
     assert cal.anchor == Anchor("march_equinox", 3, 21, 12, 0)
     assert cal.anchor_day() == 79.5

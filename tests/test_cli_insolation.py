@@ -25,19 +25,19 @@ def test_json_for_the_mid_holocene(capsys):
     assert record["months"] == list(range(1, 13))
     values = np.array(record["insolation_wm2"])
     assert values.shape == (4, 12) and np.all(values >= 0)
-    assert record["solar_constant_wm2"] == 1360.747  # CMIP6 piControl (published-values §1.1)
+    assert record["solar_constant_wm2"] == 1360.747  # CMIP6 piControl (Matthes et al. 2017)
     assert record["calendar"] == "noleap"
     assert record["anchor"] == {"kind": "march_equinox", "date": "03-21 12:00", "day": 79.5}
     assert record["month_definition"] == "fixed-day" and record["daily_method"] == "midday"
     orbit = record["orbit"]
-    # midHolocene protocol orbit (PMIP3/PMIP4 design pages, published-values.md §1.1).
+    # midHolocene protocol orbit (PMIP3/PMIP4 design pages; Otto-Bliesner et al. 2017).
     assert round(orbit["eccentricity"], 6) == 0.018682
     assert round(orbit["obliquity_deg"], 3) == 24.105
     assert round(orbit["perihelion_longitude_deg"], 2) == 0.87
     assert "perihelion - 180" in orbit["perihelion_longitude_convention"]
     assert orbit["sun_longitude_at_perihelion_deg"] == pytest.approx(
         orbit["perihelion_longitude_deg"] + 180.0)
-    # Polar annual mean S0 sin(eps) / (pi sqrt(1 - e^2)) (published-values.md §4.2) from the
+    # Polar annual mean S0 sin(eps) / (pi sqrt(1 - e^2)) (Berger, Loutre & Yin 2010) from the
     # orbit the command reports, and the month-length-weighted mean of its own monthly values
     # (mean of daily means at midday, so only close to the exact value: 0.05 W m-2).
     e, eps = orbit["eccentricity"], np.deg2rad(orbit["obliquity_deg"])
@@ -84,7 +84,7 @@ def test_fixed_angle_months_against_1850_reference(capsys):
     assert status == 0 and err == ""
     record = json.loads(out)
     assert record["reference_epoch"] == "1850CE"
-    # piControl orbit (published-values.md §1.1; PMIP3 last-millennium page: 0.01676, 100.327).
+    # piControl orbit (Otto-Bliesner et al. 2017; PMIP3 last-millennium page: 0.01676, 100.327).
     assert round(record["reference_orbit"]["eccentricity"], 5) == 0.01676
     lengths = np.array(record["month_length_days"])
     assert lengths.sum() == pytest.approx(365.0, abs=1e-9)  # noleap months tile the year
@@ -168,7 +168,7 @@ def test_reference_orbit_is_berger1978(capsys):
                     "1850CE", "--format", "json")
     record = json.loads(out)
     assert record["orbit"]["solution"] == record["reference_orbit"]["solution"] == "berger1978"
-    # piControl orbit (published-values.md §1.1): e = 0.016764, perihelion - 180 = 100.33.
+    # piControl orbit (Otto-Bliesner et al. 2017): e = 0.016764, perihelion - 180 = 100.33.
     assert round(record["reference_orbit"]["eccentricity"], 6) == 0.016764
     assert round(record["reference_orbit"]["perihelion_longitude_deg"], 2) == 100.33
 

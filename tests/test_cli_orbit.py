@@ -10,6 +10,7 @@ from pathlib import Path
 
 import pytest
 from cli_checks import one_error_line
+from published_tables import PMIP4
 
 from bcgen.cli import main
 from bcgen.errors import EpochError
@@ -40,20 +41,15 @@ def test_json_gives_the_pmip4_protocol_orbits(capsys):
     assert [r["epoch"] for r in records] == ["1850CE", "6ka", "21ka", "127ka"]
     assert [r["years_bp"] for r in records] == [100, 6000, 21000, 127000]
     assert {r["solution"] for r in records} == {"berger1978"}
-    # PMIP4-CMIP6 protocol orbits, published-values.md §1.1: piControl (Otto-Bliesner et al.
-    # 2017, digits from memory), midHolocene and lgm (PMIP design pages, confirmed),
-    # lig127k (secondary copies of Otto-Bliesner et al. 2017).
-    published = [
-        (0.016764, 23.459, 100.33),
-        (0.018682, 24.105, 0.87),
-        (0.018994, 22.949, 114.42),
-        (0.039378, 24.040, 275.41),
-    ]
+    # PMIP4-CMIP6 protocol orbits (Otto-Bliesner et al. 2017; Kageyama et al. 2017; the
+    # confidence of each row in tests/published_tables.py).
+    published = [PMIP4[name].orbit for name in ("piControl", "midHolocene", "lgm", "lig127k")]
     for record, (ecc, obl, peri) in zip(records, published, strict=True):
         assert round(record["eccentricity"], 6) == ecc
         assert round(record["obliquity_deg"], 3) == obl
         assert round(record["perihelion_longitude_deg"], 2) == peri
-        # published-values.md §1.6: the Sun's longitude at perihelion is ϖ + 180°.
+        # The Sun is seen from the Earth opposite the Earth seen from the Sun, so its
+        # longitude at perihelion is ϖ + 180° (geometry; Berger 1978 measures ϖ heliocentrically).
         assert record["sun_longitude_at_perihelion_deg"] == pytest.approx(
             (record["perihelion_longitude_deg"] + 180.0) % 360.0
         )
@@ -97,7 +93,7 @@ def test_text_states_units_and_conventions(capsys):
         line.split() for line in out.splitlines() if line.split()[0] in ("1850CE", "6ka", "21ka")
     ]
     assert [r[0] for r in rows] == ["1850CE", "6ka", "21ka"]
-    # midHolocene (PMIP design page, published-values.md §1.1): e 0.018682, ε 24.105, ϖ 0.87.
+    # midHolocene (PMIP design page; Otto-Bliesner et al. 2017): e 0.018682, ε 24.105, ϖ 0.87.
     assert float(rows[1][2]) == 0.018682
     assert round(float(rows[1][3]), 3) == 24.105
     assert round(float(rows[1][4]), 2) == 0.87

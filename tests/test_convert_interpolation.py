@@ -1,7 +1,7 @@
 """Mean-preserving interpolation and exact aggregation (bcgen.convert.interpolation/aggregate).
 
 External references: Killworth (1996) J. Phys. Oceanogr. 26, 136-143 (equal-month weights
-1/8, 3/4, 1/8, quoted in the project's published-values note §5); Epstein (1991) J. Climate
+1/8, 3/4, 1/8, quoted in Killworth 1996); Epstein (1991) J. Climate
 4, 365-368 (harmonic coefficients, formula quoted in the same note); numpy.linalg.solve as a
 reference solver; analytic integrals of piecewise-linear functions and of harmonics.
 """
@@ -46,7 +46,7 @@ def dense(lower, diag, upper, cyclic):
 # --- the linear system ----------------------------------------------------------------------
 def test_equal_months_give_killworth_weights():
     # Killworth (1996): for equal intervals the adjusted values satisfy
-    # a_{i-1}/8 + 3 a_i/4 + a_{i+1}/8 = m_i (published-values note §5).
+    # a_{i-1}/8 + 3 a_i/4 + a_{i+1}/8 = m_i (Killworth 1996).
     lower, diag, upper = killworth1996_system(np.full(12, 30.0), cyclic=True)
     np.testing.assert_allclose(lower, 1 / 8, rtol=0, atol=1e-15)
     np.testing.assert_allclose(diag, 3 / 4, rtol=0, atol=1e-15)
@@ -187,7 +187,7 @@ def test_annual_mean_conserved_over_any_tiling():
 # --- Epstein (1991) -------------------------------------------------------------------------
 def test_epstein_equal_months_match_the_published_formula():
     # Epstein (1991): a0 = ΣY/12; a_j, b_j = [(πj/12)/sin(πj/12)] Σ Y_T cos/sin(2πjT/12)/6,
-    # a6 = (π/2) Σ Y_T cos(πT)/12, months centred at T = 1..12 (published-values note §5).
+    # a6 = (π/2) Σ Y_T cos(πT)/12, months centred at T = 1..12 (Killworth 1996).
     y = np.random.default_rng(4).normal(size=12)
     coeffs = epstein1991_coefficients(y, np.arange(13) + 0.5)
     T = np.arange(1, 13)

@@ -8,6 +8,7 @@ second law, integral over true longitude).
 
 import numpy as np
 import pytest
+from published_tables import CMIP6_PICONTROL_TSI_WM2, PMIP4
 
 from bcgen.insolation import (
     annual_mean_insolation_wm2,
@@ -29,7 +30,7 @@ EXACT_REL = 1e-9  # two exact formulas that differ only by rounding and 1e-12 qu
 QUADRATURE_REL = 1e-7  # quadrature over latitude or time with a few hundred nodes
 SAMPLED_REL = 2e-5  # time integrals on the 3-hourly grid of bcgen.insolation.metrics
 
-S0 = 1360.747  # CMIP6 piControl TSI (published-values.md §1.1)
+S0 = CMIP6_PICONTROL_TSI_WM2  # Matthes et al. 2017, CMIP6 piControl
 
 
 def fixed(e, obliquity_deg, varpi_deg):
@@ -37,14 +38,8 @@ def fixed(e, obliquity_deg, varpi_deg):
                  perihelion_deg=varpi_deg, perihelion_convention="perihelion_longitude")
 
 
-# PMIP4 Tier-1 orbits (published-values.md §1.1) and an extreme one.
-ORBITS = {
-    "piControl": (0.016764, 23.459, 100.33),
-    "midHolocene": (0.018682, 24.105, 0.87),
-    "lig127k": (0.039378, 24.040, 275.41),
-    "lgm": (0.018994, 22.949, 114.42),
-    "extreme": (0.1, 30.0, 45.0),
-}
+# PMIP4 Tier-1 orbits (Otto-Bliesner et al. 2017; Kageyama et al. 2017) and an extreme one.
+ORBITS = {name: s.orbit for name, s in PMIP4.items()} | {"extreme": (0.1, 30.0, 45.0)}
 
 
 GAUSS_200 = np.polynomial.legendre.leggauss(200)
@@ -63,10 +58,10 @@ def _global_mean_over_latitude(values_of_lat, kink_sin_lat):
     return total / 2.0
 
 
-# --- published-values §4.1: global annual mean = S0 / (4 sqrt(1 - e^2)) ------------------------
+# --- Berger 1978: global annual mean = S0 / (4 sqrt(1 - e^2)) ------------------------
 @pytest.mark.parametrize("name", list(ORBITS))
 def test_global_annual_mean_longitude_route(name):
-    # Analytic: <Q> = S0 / (4 sqrt(1 - e^2)) (published-values.md §4.1; Berger 1978): the time
+    # Analytic: <Q> = S0 / (4 sqrt(1 - e^2)) (Berger 1978): the time
     # mean of (a/r)^2 over an orbit is (1 - e^2)^(-1/2) and a sphere intercepts 1/4 of S0.
     e, eps, varpi = ORBITS[name]
     orbit = fixed(e, eps, varpi)
@@ -77,7 +72,7 @@ def test_global_annual_mean_longitude_route(name):
 
 
 def test_global_annual_mean_time_route():
-    # Same analytic result (§4.1), reached through daily values: day averages of a 365-day
+    # Same analytic result (Berger 1978), reached through daily values: day averages of a 365-day
     # model year, averaged over days and over the sphere (band mean of the whole globe).
     e, eps, varpi = ORBITS["lig127k"]
     orbit = fixed(e, eps, varpi)
@@ -108,11 +103,11 @@ def test_global_daily_mean_is_a_quarter_of_the_flux():
         assert by_points == pytest.approx(S0 * rho2[k] / 4, rel=QUADRATURE_REL)
 
 
-# --- published-values §4.2: polar annual mean = S0 sin(eps) / (pi sqrt(1 - e^2)) ---------------
+# --- polar annual mean = S0 sin(eps) / (pi sqrt(1 - e^2)) ---------------
 @pytest.mark.parametrize("name", list(ORBITS))
 @pytest.mark.parametrize("pole", [90.0, -90.0])
 def test_polar_annual_mean(name, pole):
-    # Analytic (published-values.md §4.2; Berger, Loutre & Yin 2010): at a pole the daily mean
+    # Analytic (Berger, Loutre & Yin 2010): at a pole the daily mean
     # is S0 (a/r)^2 sin(delta) in polar day, so the annual mean is S0 sin(eps)/(pi sqrt(1-e^2)).
     e, eps, varpi = ORBITS[name]
     orbit = fixed(e, eps, varpi)
@@ -121,8 +116,9 @@ def test_polar_annual_mean(name, pole):
 
 
 def test_polar_annual_mean_from_months_and_days():
-    # §4.2 again through the calendar: fixed-angle months weighted by their lengths, and the day
-    # averages of a 365-day model year, must both give the analytic polar annual mean.
+    # The polar result again, through the calendar: fixed-angle months weighted by their
+    # lengths, and the day averages of a 365-day model year, must both give the analytic
+    # polar annual mean.
     e, eps, varpi = ORBITS["midHolocene"]
     orbit = fixed(e, eps, varpi)
     expected = S0 * np.sin(np.deg2rad(eps)) / (np.pi * np.sqrt(1 - e * e))
@@ -134,10 +130,10 @@ def test_polar_annual_mean_from_months_and_days():
     assert daily.insolation_wm2[0].mean() == pytest.approx(expected, rel=1e-8)
 
 
-# --- published-values §4.3: energy between fixed true longitudes does not depend on varpi -------
+# --- Kepler's second law: energy between fixed true longitudes does not depend on varpi -------
 @pytest.mark.parametrize("lat", [90.0, 65.0, 0.0, -40.0, -80.0])
 def test_energy_between_true_longitudes_independent_of_perihelion(lat):
-    # Kepler's second law (published-values.md §4.3; Huybers 2006; Berger, Loutre & Yin 2010):
+    # Kepler's second law (Huybers 2006; Berger, Loutre & Yin 2010):
     # the energy received between two true longitudes depends on e only through sqrt(1 - e^2).
     varpis = np.arange(0.0, 360.0, 30.0)
     orbit = fixed(0.05 * np.ones_like(varpis), 23.5, varpis)
@@ -168,7 +164,7 @@ def test_energy_between_true_longitudes_time_route():
 
 
 def test_annual_mean_is_symmetric_between_hemispheres():
-    # Consequence of Kepler's second law (published-values.md §4.3): over a year each
+    # Consequence of Kepler's second law (Kepler's second law; Huybers 2006): over a year each
     # hemisphere's summer arc is as long in energy as the other's, so <Q>(phi) = <Q>(-phi)
     # for any orbit (common practice; e.g. Berger, Loutre & Yin 2010).
     orbit = fixed(0.06, 24.0, 70.0)

@@ -75,7 +75,7 @@ def test_instantaneous_never_negative(e, eps, varpi, t_frac, lat, lon):
        st.sampled_from(["march_equinox", "perihelion"]))
 def test_fixed_angle_months_equal_fixed_day_months_for_the_reference_orbit(
         e, eps, varpi, name, when, kind):
-    # Definition of fixed-angle months (issue 3; published-values.md §4.8): with the epoch's
+    # Definition of fixed-angle months (issue 3; Joussaume & Braconnot 1997): with the epoch's
     # own orbit as the reference, every month spans its own calendar days, so its boundaries
     # are the fixed-day ones and its exact time mean is the day-average mean of its days.
     orbit = fixed(e, eps, varpi)
@@ -97,7 +97,7 @@ def test_fixed_angle_months_equal_fixed_day_months_for_the_reference_orbit(
        st.floats(0.0, 359.0), st.floats(0.5, 359.0))
 def test_energy_over_fixed_longitudes_independent_of_perihelion(e, eps, varpi1, varpi2, lat,
                                                                  start, span):
-    # Kepler's second law (published-values.md §4.3; Huybers 2006; Berger, Loutre & Yin 2010).
+    # Kepler's second law (Huybers 2006; Berger, Loutre & Yin 2010).
     orbits = fixed(np.array([e, e]), eps, np.array([varpi1, varpi2]))
     energy = insolation_energy_between_true_longitudes_j_m2(orbits, lat, start, start + span, S0)
     assert energy[0] == pytest.approx(energy[1], rel=EXACT_REL, abs=1e-6)

@@ -4,6 +4,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from published_tables import MEEUS_30A
 
 from bcgen.errors import OrbitError
 from bcgen.solar_calendar.kepler import (
@@ -24,16 +25,17 @@ deg = np.deg2rad
 
 # --- published worked examples --------------------------------------------------------------
 def test_meeus_example_30a():
-    # Meeus, Astronomical Algorithms, 2nd ed., Example 30.a (p. 196): e = 0.100, M = 5°
-    # gives E = 5.554589° (published-values.md §4.4, [confirmed]).
-    big_e = solve_kepler(deg(5.0), 0.100)
-    assert abs(np.rad2deg(big_e) - 5.554589) < PRINTED_6DP_DEG
+    # Meeus (1998), Astronomical Algorithms, 2nd ed., Example 30.a (p. 196): e = 0.100, M = 5°
+    # gives E = 5.554589°.
+    big_e = solve_kepler(deg(MEEUS_30A["mean_anomaly_deg"]), MEEUS_30A["eccentricity"])
+    assert abs(np.rad2deg(big_e) - MEEUS_30A["eccentric_anomaly_deg"]) < PRINTED_6DP_DEG
 
 
 def test_meeus_example_30a_true_anomaly():
-    # Same example, true anomaly v = 6.139762° (published-values.md §4.4: confirmed through a
-    # public test suite that cites Meeus, i.e. a secondary source).
-    assert abs(np.rad2deg(mean_to_true(deg(5.0), 0.100)) - 6.139762) < PRINTED_6DP_DEG
+    # Same example, true anomaly v = 6.139762° (Meeus 1998, Example 30.a, as a public test
+    # suite that cites Meeus quotes it: a secondary source).
+    v = mean_to_true(deg(MEEUS_30A["mean_anomaly_deg"]), MEEUS_30A["eccentricity"])
+    assert abs(np.rad2deg(v) - MEEUS_30A["true_anomaly_deg"]) < PRINTED_6DP_DEG
 
 
 @pytest.mark.parametrize(
@@ -48,7 +50,7 @@ def test_meeus_example_30a_true_anomaly():
     ],
 )
 def test_meeus_further_pairs(e, m_deg, e_deg):
-    # Further sample pairs of the same Meeus example family, published-values.md §4.4. The note
+    # Further sample pairs of the same Meeus example family (Meeus 1998, Example 30.a). The note
     # says these were RE-SOLVED for the note rather than read in print, so besides comparing
     # with them (to their printed 6 decimals) we check the defining equation directly.
     big_e = solve_kepler(deg(m_deg), e)
@@ -57,7 +59,7 @@ def test_meeus_further_pairs(e, m_deg, e_deg):
 
 
 def test_meeus_high_eccentricity_radians():
-    # published-values.md §4.4 (re-solved for the note): e = 0.99, M = 0.2 rad
+    # Meeus 1998, Example 30.a family (re-solved for the note): e = 0.99, M = 0.2 rad
     # gives E = 1.066997365282 rad (12 decimals printed).
     big_e = solve_kepler(0.2, 0.99)
     assert abs(big_e - 1.066997365282) < 1e-12

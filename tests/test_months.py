@@ -189,7 +189,7 @@ def test_leap_year_sums_stated_in_the_docstring():
 
 
 def test_cf_example_126_kyr_month_lengths():
-    # CF Conventions 1.13, Example 4.6 (published-values.md §2.2): calendar "126 kyr B.P.",
+    # CF Conventions 1.13, Example 4.6 (CF 1.13 §4.4.3): calendar "126 kyr B.P.",
     # month_lengths = 34, 31, 32, 30, 29, 27, 28, 28, 28, 32, 32, 34. The orbit solution,
     # reference orbit and equinox convention are not stated and the lengths are rounded to
     # whole days, so we compare each month to within 1 day (rounding 0.5 + unknown setup).

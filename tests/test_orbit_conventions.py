@@ -23,7 +23,7 @@ def angular_distance_deg(a, b):
 
 # --- conventions --------------------------------------------------------------------------
 def test_sun_longitude_at_perihelion_is_varpi_plus_180():
-    # published-values.md §1.6: the Sun's geocentric longitude at perihelion is ϖ + 180°,
+    # Berger 1978: the Sun's geocentric longitude at perihelion is ϖ + 180°,
     # e.g. 102.04 + 180 = 282.04° (perihelion about 3 January) for the PMIP 1950 orbit.
     sun = convert_perihelion(102.04, "perihelion_longitude", "sun_longitude_at_perihelion")
     assert sun == pytest.approx(282.04, abs=1e-12)
@@ -116,7 +116,7 @@ def test_registry_lists_the_three_solutions():
 
 # --- fixed --------------------------------------------------------------------------------
 def test_fixed_values_in_either_convention():
-    # PMIP 1950 orbit (published-values.md §1.2): ϖ = 102.04°, i.e. 282.04° for the Sun.
+    # PMIP 1950 orbit (PMIP3 design pages): ϖ = 102.04°, i.e. 282.04° for the Sun.
     a = bcgen.solve(
         [-6000.0, 0.0],
         "fixed",

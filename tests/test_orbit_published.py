@@ -9,6 +9,7 @@ import warnings
 import erfa
 import numpy as np
 import pytest
+from published_tables import PMIP4
 
 import bcgen
 from bcgen.errors import OrbitError, OutsideValidityWarning
@@ -30,26 +31,16 @@ def assert_published(value: float, published: str) -> None:
     assert round(float(value), decimals(published)) == float(published), (value, published)
 
 
-# PMIP4-CMIP6 Tier-1 orbits (e, obliquity in degrees, "perihelion - 180" in degrees),
-# as collected with their confidence in published-values.md §1.1:
-PMIP4 = [
-    # piControl, 1850 CE: Otto-Bliesner et al. (2017), GMD 10, 3979-4003, Table 1,
-    # doi:10.5194/gmd-10-3979-2017 [exact digits from memory; consistent with the PMIP3
-    # last-millennium design page, checked below].
-    pytest.param("1850CE", "0.016764", "23.459", "100.33", id="piControl"),
-    # midHolocene, 6 ka: PMIP3 6 ka final design page and PMIP-CMIP6 6 ka design page
-    # (wiki.lsce.ipsl.fr/pmip3) [confirmed].
-    pytest.param("6ka", "0.018682", "24.105", "0.87", id="midHolocene"),
-    # lgm, 21 ka: PMIP4 lgm experiment design page citing Kageyama et al. (2017), GMD 10,
-    # 4035-4055, doi:10.5194/gmd-10-4035-2017 [confirmed].
-    pytest.param("21ka", "0.018994", "22.949", "114.42", id="lgm"),
-    # lig127k, 127 ka: Otto-Bliesner et al. (2017) Table 1 as quoted by a public PMIP4 run
-    # script and the ACCESS-ESM PMIP4 wiki page [secondary].
-    pytest.param("127ka", "0.039378", "24.040", "275.41", id="lig127k"),
+# PMIP4-CMIP6 Tier-1 orbits (e, obliquity in degrees, "perihelion - 180" in degrees):
+# Otto-Bliesner et al. (2017) Table 1 and Kageyama et al. (2017), typed with the confidence of
+# each row in tests/published_tables.py.
+PMIP4_ORBITS = [
+    pytest.param(s.epoch, s.eccentricity, s.obliquity_deg, s.perihelion_minus_180_deg, id=name)
+    for name, s in PMIP4.items()
 ]
 
 
-@pytest.mark.parametrize(("epoch", "ecc", "obl", "peri"), PMIP4)
+@pytest.mark.parametrize(("epoch", "ecc", "obl", "peri"), PMIP4_ORBITS)
 def test_pmip4_protocol_orbits(epoch, ecc, obl, peri):
     orbit = bcgen.solve(bcgen.parse_epoch(epoch))
     assert_published(orbit.eccentricity, ecc)

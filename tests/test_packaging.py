@@ -38,7 +38,7 @@ def test_bundled_templates_and_tables_are_installed():
 
 
 def test_top_level_of_the_repository_is_fixed():
-    # The project's design fixes the top level (ARCHITECTURE.md); dotfiles and .ci/ aside.
+    # The project's design fixes the top level (DEVELOPERS.md); dotfiles and .ci/ aside.
     allowed = {"README.md", "DEVELOPERS.md", "pyproject.toml", "bcgen", "configs", "templates",
                "tests"}
     if not (ROOT / ".git").exists():

@@ -39,7 +39,7 @@ PDF_MAGIC = b"%PDF-"
 MONTHS = ["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"]
 
 # The PMIP1 check conventions (Bonfils et al. 1998, "Documentation of the PMIP models",
-# appendix "About insolation computations"; published-values.md §4.7): 1950 orbit, S0 = 1365,
+# appendix "About insolation computations"; Bonfils et al. 1998): 1950 orbit, S0 = 1365,
 # 365-day year, vernal equinox 21 March 12:00, daily values at mid-day.
 PMIP1_SPEC = (
     "experiment: {name: pmip1-today}\nepoch: 0ka\n" + PMIP1_SPEC_HEAD
@@ -127,7 +127,7 @@ def test_a_spec_reproduces_the_pmip1_table(built):
     field = monthly_field(built["spec"], latitude_deg=[-90, -60, 0, 60, 90])
     for lat, row in PMIP1_TODAY_WM2.items():
         i = int(np.flatnonzero(field.latitude_deg == lat)[0])
-        np.testing.assert_allclose(field.insolation_wm2[i], row, atol=0.01)  # §4.7: ±0.01
+        np.testing.assert_allclose(field.insolation_wm2[i], row, atol=0.01)  # as printed
 
 
 def test_a_reference_epoch_takes_the_conventions_of_a_file(built):
@@ -174,7 +174,7 @@ def test_insolation_figure_from_an_epoch():
     check_field_axes(fig)
     title = texts(fig)
     assert "6ka" in title and "fixed-day months" in title and "noleap" in title
-    assert "S0 = 1360.747 W m-2" in title  # CMIP6 piControl TSI (published-values §1.1)
+    assert "S0 = 1360.747 W m-2" in title  # CMIP6 piControl TSI (Matthes et al. 2017)
     assert fig.axes[0].get_ylim() == (-90.0, 90.0)
 
 
@@ -249,7 +249,7 @@ def test_orbit_figure_from_a_range():
     left, right = axes[-1].get_xlim()
     assert left > right  # the past on the left, the present on the right
     # The plotted eccentricity at 6 ka and obliquity at 21 ka are the protocols' (PMIP3/PMIP4
-    # 6 ka and lgm design pages: 0.018682 and 22.949 deg; published-values §1.1).
+    # 6 ka and lgm design pages: 0.018682 and 22.949 deg; Otto-Bliesner et al. 2017).
     ecc, obl = axes[0].lines[0], axes[1].lines[0]
     assert np.interp(6.0, ecc.get_xdata()[::-1], ecc.get_ydata()[::-1]) == pytest.approx(
         0.018682, abs=5e-6)

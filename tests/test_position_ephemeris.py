@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from published_tables import TROPICAL_YEAR_DAYS, USNO_2023_UT  # Astronomical Almanac; USNO
 
 from bcgen.errors import CalendarError, OrbitError
 from bcgen.orbit import OrbitalElements, solve
@@ -37,7 +38,7 @@ def test_equinox_anchor_puts_true_longitude_zero_at_anchor():
 
 
 def test_perihelion_anchor_puts_true_anomaly_zero_at_anchor():
-    # Definition of a perihelion anchor: v = 0, so λ = ϖ + 180° (published-values.md §1.6).
+    # Definition of a perihelion anchor: v = 0, so λ = ϖ + 180° (Berger 1978).
     orb = orbit(0.0167, 23.44, 102.04)
     cal = ModelCalendar("noleap", Anchor("perihelion", 1, 3, 0, 0))
     sy = SolarYear(orb, cal)
@@ -86,7 +87,7 @@ def test_declination_and_distance_extremes():
 
 @pytest.mark.parametrize("e", [0.0, 0.0167, 0.0394, 0.07])
 def test_time_mean_of_distance_factor(e):
-    # Analytic (published-values.md §4.1): the time average of (a/r)² over an orbit is
+    # Analytic (Berger 1978): the time average of (a/r)² over an orbit is
     # (1 - e²)^(-1/2). Uniform sampling of a periodic smooth function converges fast.
     sy = SolarYear(orbit(e, 23.44, 250.0), "noleap")
     t = np.arange(2000) * 365 / 2000
@@ -153,12 +154,12 @@ def test_bad_arguments():
 # --- present-day events: JPL DE421 (skyfield) and USNO 2023 ---------------------------------
 # The model: the orbit of 2023 CE (Berger 1978, 73 years after 1950) in a proleptic_gregorian
 # calendar, anchored at the real March equinox of 2023, 20 March 21:24 UT (USNO,
-# published-values.md §4.6). Model time is read as UT (days after 2023-01-01 00:00 UT).
+# USNO, Earth's Seasons 2023). Model time is read as UT (days after 2023-01-01 00:00 UT).
 #
 # Expected differences, and the tolerances they justify:
 # * Leap-year stretch (the leap-year rule): the orbital year 2023-03-20 21:24 → 2024-03-20
 #   21:24 contains 2024-02-29 and lasts 366 days in the model, whereas the tropical year is
-#   365.24219 days (published-values.md §4.5). An event a fraction f of the way through it
+#   365.24219 days (Astronomical Almanac, from memory). An event a fraction f of the way through it
 #   happens f × (366 - 365.24219) days later in the model than in reality (up to 0.57 day
 #   at the December solstice). Before the anchor the orbital year has 365 days instead.
 # * Mean Keplerian orbit vs the real Earth: the Moon displaces the geocentre from the
@@ -178,16 +179,11 @@ EVENT_TOL_DAYS = 0.05
 PERIHELION_EARTH_TOL_DAYS = 1.5
 PERIHELION_EMB_TOL_DAYS = 0.3
 USNO_MINUTE = 1.0 / 1440  # USNO times are given to the minute
-TROPICAL_YEAR_DAYS = 365.24219  # published-values.md §4.5 (Astronomical Almanac)
-
-# USNO "Earth's Seasons" 2023, in UT (published-values.md §4.6, [confirmed]), as
-# (days after 2023-01-01 00:00 UT).
+# USNO, "Earth's Seasons and Apsides" 2023, in UT, as days after 2023-01-01 00:00 UT.
+_DAYS_BEFORE_MONTH_2023 = (0, 31, 59, 90, 120, 151, 181, 212, 243, 273, 304, 334)
 USNO_2023 = {
-    "perihelion": 3 + (16 + 17 / 60) / 24,  # 4 Jan 16:17
-    "march_equinox": 78 + (21 + 24 / 60) / 24,  # 20 Mar 21:24
-    "june_solstice": 171 + (14 + 58 / 60) / 24,  # 21 Jun 14:58
-    "september_equinox": 265 + (6 + 50 / 60) / 24,  # 23 Sep 06:50
-    "december_solstice": 355 + (3 + 27 / 60) / 24,  # 22 Dec 03:27
+    name: _DAYS_BEFORE_MONTH_2023[m - 1] + d - 1 + (hour + minute / 60) / 24
+    for name, (m, d, hour, minute) in USNO_2023_UT.items() if name != "aphelion"
 }
 SEASON_LONGITUDES_DEG = {
     "june_solstice": 90.0,
@@ -300,7 +296,7 @@ def _stretch_days(sy, t_model):
 
 
 def test_ephemeris_harness_reproduces_usno_2023(ephemeris_events):
-    # The DE421/skyfield event finder against USNO's published 2023 dates (§4.6): same
+    # The DE421/skyfield event finder against USNO's published 2023 dates: same
     # definitions (apparent longitude of date; geocentric distance), so within USNO's rounding
     # to the minute plus ΔT-table differences (a minute).
     _, events = ephemeris_events

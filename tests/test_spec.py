@@ -15,6 +15,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 import yaml
+from published_tables import PMIP4
 
 from bcgen.errors import SpecError
 from bcgen.spec import (
@@ -42,19 +43,10 @@ CONFIGS = ROOT / "configs"
 DEMO = CONFIGS / "demo.yaml"
 PROTOCOLS = sorted((CONFIGS / "protocols").glob("*.yaml"))
 
-# PMIP4-CMIP6 Tier-1 values (orbit as printed, "perihelion - 180" column; gases; TSI):
-# piControl: Otto-Bliesner et al. 2017 Table 1 (orbit digits from memory; PMIP3 1850 values
-#   0.01676 / 23.459 / 100.327 confirmed); gases CMIP6 1850 (Meinshausen et al. 2017) rounded.
-# midHolocene: PMIP3 6 ka design page (orbit, confirmed); Otto-Bliesner 2017 (gases, secondary).
-# lig127k: Otto-Bliesner 2017 Table 1 (secondary copies).
-# lgm: PMIP4 lgm design page citing Kageyama et al. 2017 (confirmed).
-# TSI 1360.747 W m-2: Matthes et al. 2017, CMIP6 piControl (confirmed, secondary route).
-PUBLISHED = {
-    "piControl": ("1850CE", (0.016764, 23.459, 100.33), {"co2": 284.3, "ch4": 808.2, "n2o": 273.0}),
-    "midHolocene": ("6ka", (0.018682, 24.105, 0.87), {"co2": 264.4, "ch4": 597, "n2o": 262}),
-    "lig127k": ("127ka", (0.039378, 24.040, 275.41), {"co2": 275, "ch4": 685, "n2o": 255}),
-    "lgm": ("21ka", (0.018994, 22.949, 114.42), {"co2": 190, "ch4": 375, "n2o": 200}),
-}
+# PMIP4-CMIP6 Tier-1 values (orbit as printed, "perihelion - 180" column; gases): Otto-Bliesner
+# et al. 2017 Table 1 and Kageyama et al. 2017, typed with their sources in
+# tests/published_tables.py; TSI: Matthes et al. 2017, CMIP6 piControl.
+PUBLISHED = {name: (s.epoch, s.orbit, s.gases) for name, s in PMIP4.items()}
 
 
 # --- the bundled configs ---------------------------------------------------------------------
@@ -79,7 +71,7 @@ def test_protocol_config_carries_the_published_values(path):
     assert {g.name: g.value for g in spec.greenhouse_gases if g.name in gases} == gases
     assert spec.gas("co2").units == "ppm" and spec.gas("ch4").units == "ppb"
     assert spec.solar_constant_wm2 == 1360.747
-    # PMIP: vernal equinox on 21 March at 12:00 (published-values §1.5, confirmed)
+    # PMIP: vernal equinox on 21 March at 12:00 (Otto-Bliesner et al. 2017)
     assert (spec.calendar.anchor, spec.calendar.date) == ("march_equinox", "03-21 12:00")
 
 
@@ -190,7 +182,7 @@ def test_schema_walk_covers_every_section():
 
 
 def test_gas_standard_names_are_in_the_cf_table():
-    # CF standard-name table bundled with compliance-checker (v93 per published-values §2)
+    # CF standard-name table bundled with compliance-checker (version 93)
     import compliance_checker
 
     table = Path(compliance_checker.__file__).parent / "data" / "cf-standard-name-table.xml"
@@ -200,7 +192,7 @@ def test_gas_standard_names_are_in_the_cf_table():
 
 
 def test_gas_units_and_mole_fractions():
-    # UDUNITS-2: ppm = 1e-6, ppb = 1e-9 (published-values §2.1); 1 ppt = 1e-12 (SI prefixes)
+    # UDUNITS-2: ppm = 1e-6, ppb = 1e-9 (UDUNITS-2); 1 ppt = 1e-12 (SI prefixes)
     assert GasSpec("co2", 264.4, "ppm").mole_fraction == pytest.approx(2.644e-4, rel=1e-15)
     assert GasSpec("ch4", 597, "ppb").mole_fraction == GasSpec("ch4", 597, "1e-9").mole_fraction
     assert GasSpec("cfc11", 250, "ppt").mole_fraction == pytest.approx(2.5e-10, rel=1e-15)
@@ -210,7 +202,8 @@ def test_gas_units_and_mole_fractions():
 # --- the calendar -----------------------------------------------------------------------------
 def test_anchor_day_of_the_pmip_equinox():
     # 21 March 12:00 is 79.5 days after 1 January 00:00 in a 365-day year (31 + 28 + 20 + 0.5;
-    # published-values §1.5/§4.7); in a 360-day year of 30-day months, 30 + 30 + 20 + 0.5.
+    # Otto-Bliesner et al. 2017; Bonfils et al. 1998); in a 360-day year of 30-day months,
+    # 30 + 30 + 20 + 0.5.
     assert CalendarSpec("noleap").anchor_day(1) == 79.5
     assert CalendarSpec("360_day").anchor_day(1) == 80.5
     assert CalendarSpec("all_leap").anchor_day(1) == 80.5
@@ -243,7 +236,7 @@ def test_perihelion_anchor_needs_its_date():
 
 # --- the orbit ----------------------------------------------------------------------------------
 def test_fixed_orbit_in_either_convention():
-    # published-values §1.6: the Sun's longitude at perihelion is varpi + 180 degrees
+    # Berger 1978: the Sun's longitude at perihelion is varpi + 180 degrees
     a = OrbitSpec(
         "fixed",
         eccentricity=0.016724,
@@ -283,7 +276,7 @@ def test_idealized_lifts_the_earth_range_check():
 
 
 def test_reference_orbit_is_the_1950_orbit():
-    # PMIP2/PMIP3 "0 ka" (1950) orbit 0.016724, 23.446, 102.04 (published-values §1.2; the
+    # PMIP2/PMIP3 "0 ka" (1950) orbit 0.016724, 23.446, 102.04 (PMIP3 design pages; the
     # 1950 identification from memory), to the digits printed
     orbit = InsolationSpec().resolve_reference_orbit()
     assert ExpectedValue(0.016724, 6).agrees(float(orbit.eccentricity))
@@ -306,7 +299,7 @@ def test_expected_values_keep_their_written_digits():
 def test_table_solution_resolves_relative_to_the_spec(tmp_path):
     folder = tmp_path / "specs"
     folder.mkdir()
-    # values: the PMIP 0 ka and 6 ka orbits (published-values §1.2), as a two-row table
+    # values: the PMIP 0 ka and 6 ka orbits (PMIP3 design pages), as a two-row table
     (folder / "orbit.csv").write_text(
         "age_ka_bp,eccentricity,obliquity_deg,perihelion_longitude_deg\n"
         "0,0.016724,23.446,102.04\n6,0.018682,24.105,0.87\n"

@@ -666,7 +666,7 @@ def test_cf_tables_use_names_of_the_bundled_standard_name_table():
     }
     for name in names:
         assert name in table, name
-    # No standard name exists for the orbital quantities (published-values.md §2.1): they
+    # No standard name exists for the orbital quantities (CF standard-name table v93): they
     # carry a long name and a convention instead.
     for key in (
         "eccentricity",

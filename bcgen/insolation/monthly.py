@@ -72,8 +72,8 @@ MONTHLY_AVERAGING: dict[str, str] = {
                    "arc of true longitude, by Kepler's second law, divided by its length)",
 }
 
-#: Mean tropical year, days (365 d 5 h 48 min 45 s; the Astronomical Almanac's value as
-#: quoted in published-values §4.5), the default year length for energies in J m-2.
+#: Mean tropical year, days (365 d 5 h 48 min 45 s; the Astronomical Almanac's value, from
+#: memory), the default year length for energies in J m-2.
 TROPICAL_YEAR_DAYS = 365.24219
 SECONDS_PER_DAY = 86400.0
 #: Arcs of true longitude integrated at once (bounds the memory of the quadrature's pieces).
