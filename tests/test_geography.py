@@ -240,14 +240,17 @@ def test_read_field_checks_and_converts_units(tmp_path):
     ds = grid.to_dataset()
     ds["h"] = (grid.dims, np.full(grid.shape, 1.5), {"units": "km"})
     ds["t"] = (grid.dims, np.ones(grid.shape), {"units": "K"})
+    ds["flat"] = (("station",), np.ones(3), {"units": "m"})
     path = tmp_path / "in.nc"
     ds.to_netcdf(path)
     f = read_field(path, "h", key="geography.present")
     assert f.units == "m" and np.all(f.values == 1500.0)
     with pytest.raises(InputFileError, match=r"geography.present: .*units 'K'; expected a length"):
         read_field(path, "t", key="geography.present")
-    with pytest.raises(InputFileError, match=r"has no variable 'z'; it has h, t"):
+    with pytest.raises(InputFileError, match=r"has no variable 'z'; it has flat, h, t"):
         read_field(path, "z")
+    with pytest.raises(InputFileError, match=r"'flat' needs one 1-D latitude coordinate"):
+        read_field(path, "flat")
     with pytest.raises(InputFileError, match="does not exist"):
         read_field(tmp_path / "nothing.nc", "h")
 

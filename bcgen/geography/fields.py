@@ -2,8 +2,9 @@
 
 Every input (present-day relief, the reconstruction at the epoch and at 0 ka, ice
 thickness or ice fraction) is one variable of a NetCDF file, named in the spec. The
-reader finds its latitude and longitude (CF standard names or units, through
-:func:`bcgen.grids.grid_from_file`), checks its units against what the input means
+reader finds the variable's latitude and longitude by CF rules (bcgen's one CF reader,
+:func:`bcgen.cf.reader.find_coordinates`), reads their cells with
+:func:`bcgen.grids.grid_from_file`, checks its units against what the input means
 (a length for relief and thickness, a fraction for ice cover) with cf-units, converts
 to metres (or 1), turns latitudes to increasing order, and snaps a nearly even global
 axis to exact steps: ETOPO5 as distributed stores its 5-minute steps rounded to
@@ -17,6 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bcgen.cf.reader import find_coordinates
 from bcgen.errors import InputFileError
 from bcgen.grids import Grid, grid_from_file
 
@@ -98,11 +100,6 @@ def read_field(path, variable: str, *, kind: str = "length", key: str = "",
     where = f"{key}: " if key else ""
     if not os.path.isfile(path):
         raise InputFileError(f"{where}input file {path} does not exist")
-    grid = grid_from_file(path)
-    if grid.is_curvilinear or grid.is_zonal:
-        raise InputFileError(
-            f"{where}{path}: geography inputs must be on a latitude-longitude grid with 1-D axes"
-        )
     try:
         ds = xr.open_dataset(path, decode_times=False, mask_and_scale=True)
     except Exception as exc:  # noqa: BLE001 - many backends, one message
@@ -115,6 +112,17 @@ def read_field(path, variable: str, *, kind: str = "length", key: str = "",
                 f"{where}{path} has no variable {variable!r}; it has {', '.join(names)}"
             )
         da = ds[variable]
+        # The variable's own latitude and longitude, by the CF rules of bcgen's one reader.
+        axes = []
+        for what in ("latitude", "longitude"):
+            found = [n for n in find_coordinates(ds, what, dims=da.dims) if ds[n].ndim == 1]
+            if len(found) != 1:
+                raise InputFileError(
+                    f"{where}{path}: variable {variable!r} needs one 1-D {what} coordinate "
+                    f"among its dimensions {da.dims}; found {found or 'none'} (geography "
+                    "inputs must be on a latitude-longitude grid)")
+            axes.append(found[0])
+        grid = grid_from_file(path, lat_name=axes[0], lon_name=axes[1])
         lat_dim, lon_dim = grid.dims
         extra = [d for d in da.dims if d not in (lat_dim, lon_dim)]
         if lat_dim not in da.dims or lon_dim not in da.dims or any(da.sizes[d] != 1 for d in extra):
