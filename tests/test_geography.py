@@ -255,6 +255,21 @@ def test_read_field_checks_and_converts_units(tmp_path):
         read_field(tmp_path / "nothing.nc", "h")
 
 
+def test_geography_standard_names_are_in_the_bundled_table():
+    # CF standard-name table v93 as bundled with compliance-checker 6.1.
+    from compliance_checker.cf.util import StandardNameTable
+
+    from bcgen.cf.attributes import GEOGRAPHY_VARIABLES
+
+    table = StandardNameTable()
+    names = {e["standard_name"] for e in GEOGRAPHY_VARIABLES.values() if "standard_name" in e}
+    assert names == {"surface_altitude", "sea_floor_depth_below_geoid", "land_area_fraction",
+                     "land_ice_area_fraction", "land_ice_thickness", "cell_area",
+                     "sea_binary_mask"}
+    for name in names:
+        assert name in table, name
+
+
 def test_products_are_cf_compliant_and_the_report_is_json(tmp_path, cf_compliant):
     grid, relief = _basin_world()
     present = LatLonField(grid, relief, "m", "synthetic")

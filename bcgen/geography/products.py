@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from bcgen.geography.cfattrs import GEOGRAPHY_VARIABLES
+from bcgen.cf.attributes import GEOGRAPHY_VARIABLES
 from bcgen.geography.pipeline import Geography
 
 
