@@ -73,19 +73,25 @@ def _insolation_over_orbit(
     cos_ecc, sin_ecc = np.cos(ecc_anomaly[:-1]), np.sin(ecc_anomaly[:-1])
     per = expand_orbit(orbit, 1)
     e = per.eccentricity
-    r_over_a = 1.0 - e * cos_ecc
-    cos_v = (cos_ecc - e) / r_over_a
-    sin_v = np.sqrt(1.0 - e * e) * sin_ecc / r_over_a
-    # λ = v + ϖ + π, so sin λ = −(sin v cos ϖ + cos v sin ϖ).
-    varpi = per.perihelion_longitude_rad
-    sin_dec = -np.sin(per.obliquity_rad) * (sin_v * np.cos(varpi) + cos_v * np.sin(varpi))
+    inverse_r = 1.0 / (1.0 - e * cos_ecc)  # a / r
+    # λ = v + ϖ + π, so sin λ = −(sin v cos ϖ + cos v sin ϖ), with r/a · cos v = cos E − e
+    # and r/a · sin v = √(1 − e²) sin E: sin δ = (a/r)(α sin E + β cos E + γ) per orbit.
+    varpi, sin_eps = per.perihelion_longitude_rad, np.sin(per.obliquity_rad)
+    alpha = -sin_eps * np.sqrt(1.0 - e * e) * np.cos(varpi)
+    beta = -sin_eps * np.sin(varpi)
+    sin_dec = alpha * sin_ecc + beta * cos_ecc
+    sin_dec -= beta * e
+    sin_dec *= inverse_r
     cos_dec = np.sqrt(1.0 - sin_dec * sin_dec)
-    mean_anomaly = ecc_anomaly - e * np.sin(ecc_anomaly)
-    duration = np.diff(mean_anomaly, axis=-1) / (2.0 * np.pi)
+    # Time from instant k to k + 1 (Kepler's equation, M = E − e sin E), a share of the year.
+    step = np.diff(np.sin(ecc_anomaly))
+    duration = (2.0 * np.pi / samples - e * step) / (2.0 * np.pi)
     insert = (Ellipsis,) + (np.newaxis,) * lat.ndim + (slice(None),)
     lat = lat[..., np.newaxis]
     q = daily_factor(np.sin(lat), np.cos(lat), sin_dec[insert], cos_dec[insert])
-    q *= (s0 / np.pi) / (r_over_a * r_over_a)[insert]
+    inverse_r *= inverse_r
+    inverse_r *= s0 / np.pi
+    q *= inverse_r[insert]
     return q, duration[insert]
 
 
