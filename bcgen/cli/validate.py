@@ -109,6 +109,8 @@ def run(args: argparse.Namespace) -> int:
     from bcgen.validation import validate
     from bcgen.validation.report import summary_line, to_json, to_text
 
+    if _is_transient(args.spec):
+        return _run_transient(args)
     result = validate(args.model_file, args.spec, var=args.var,
                       tolerance_wm2=args.tolerance_wm2, noise_wm2=args.noise_wm2,
                       daily_method=args.daily_method, timestep_minutes=args.timestep_minutes,
@@ -117,3 +119,30 @@ def run(args: argparse.Namespace) -> int:
     if result.verdict != "consistent":
         raise CheckFailed(summary_line(result))
     return 0
+
+
+def _is_transient(spec_path) -> bool:
+    from bcgen.spec import load_spec
+
+    return load_spec(spec_path).transient is not None
+
+
+def _run_transient(args: argparse.Namespace) -> int:
+    """Check each model year of a transient run against its own orbit (issue 15)."""
+    import json
+
+    from bcgen.errors import InputFileError
+    from bcgen.validation.readers import is_table_path
+    from bcgen.validation.transient import validate_transient
+
+    if is_table_path(args.model_file):
+        raise InputFileError(f"{args.model_file}: a transient run is checked from its NetCDF "
+                             "insolation output, not from an orbit table")
+    result = validate_transient(args.model_file, args.spec, var=args.var,
+                                tolerance_wm2=args.tolerance_wm2,
+                                daily_method=args.daily_method or "day_average")
+    print(json.dumps(result.to_dict(), indent=2) if args.format == "json" else result.to_text())
+    if result.verdict != "consistent":
+        raise CheckFailed(result.summary_line())
+    return 0
+
