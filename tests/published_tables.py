@@ -122,3 +122,9 @@ solar_constant_wm2: 1365
 calendar: {name: noleap, anchor: march_equinox, date: "03-21 12:00"}
 insolation: {daily_method: midday}
 """
+
+
+# Volume of the world ocean today: Charette, M. A. and Smith, W. H. F. (2010), "The volume
+# of Earth's ocean", Oceanography 23(2), 112-114, doi:10.5670/oceanog.2010.51:
+# 1.332 x 10^9 km3.
+OCEAN_VOLUME_M3 = 1.332e18
