@@ -14,6 +14,7 @@ import warnings
 import numpy as np
 import pytest
 import xarray as xr
+from published_tables import PMIP4
 from validate_synthetic import (
     LATS_19,
     MISTAKES,
@@ -39,12 +40,12 @@ from bcgen.validation.compare import Comparison, estimate_noise_wm2, noise_estim
 from bcgen.validation.diagnose import golden_section, levenberg_marquardt
 from bcgen.validation.readers import AmbiguousTimeWarning
 
-# PMIP4/PMIP3 midHolocene "perihelion - 180" = 0.87 deg (published-values §1.1, PMIP3 6 ka
+# PMIP4/PMIP3 midHolocene "perihelion - 180" = 0.87 deg (Otto-Bliesner et al. 2017; PMIP3 6 ka
 # design page): a model that used the value 180 deg off has 180.87.
-MID_HOLOCENE_VARPI_DEG = 0.87
-# PMIP4 lgm orbit (published-values §1.1, PMIP4 lgm design page; Kageyama et al. 2017).
-LGM_ORBIT = {"eccentricity": 0.018994, "obliquity_deg": 22.949,
-             "perihelion_longitude_deg": 114.42}
+MID_HOLOCENE_VARPI_DEG = PMIP4["midHolocene"].orbit[2]
+# PMIP4 lgm orbit (Kageyama et al. 2017; PMIP4 lgm design page).
+LGM_ORBIT = dict(zip(("eccentricity", "obliquity_deg", "perihelion_longitude_deg"),
+                     PMIP4["lgm"].orbit, strict=True))
 
 
 @pytest.fixture(scope="module")

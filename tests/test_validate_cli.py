@@ -78,7 +78,7 @@ def test_inconsistent_exits_1_with_json_and_one_line(capsys, files):
         assert FINDING_KEYS <= set(finding)
     first = data["findings"][0]
     assert first["code"] == "perihelion_opposite"
-    # PMIP midHolocene perihelion - 180 = 0.87 (published-values §1.1): the model used 180.87
+    # PMIP midHolocene perihelion - 180 = 0.87 (Otto-Bliesner et al. 2017): the model used 180.87
     assert first["fitted_value"] == pytest.approx(180.87, abs=0.005)
     assert first["misfit_after_wm2"] < 0.05 < first["misfit_before_wm2"]
     assert data["model"]["zonal_spread_wm2"] == pytest.approx(1.0, abs=1e-3)

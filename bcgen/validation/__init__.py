@@ -34,7 +34,7 @@ import numpy as np
 from bcgen.errors import BcgenError, InputFileError, SpecError
 from bcgen.insolation.daily import daily_mean_from_geometry_wm2
 from bcgen.insolation.daily import distance_factor as _distance_factor
-from bcgen.solar_calendar.calendars import Anchor, ModelCalendar
+from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.validation import compare as _compare
 from bcgen.validation.compare import DEFAULT_BAND_EDGES_DEG, DEFAULT_TOLERANCE_WM2, Comparison
 from bcgen.validation.convention import CANDIDATES, Convention, label, pick
@@ -146,12 +146,13 @@ def setup_from_spec(spec, daily_method: str | None = None) -> Setup:
     if getattr(spec, "transient", None) is not None:
         raise SpecError(f"{where}transient: validate checks one time slice; give a spec with "
                         f"'epoch' for the model year you are checking")
-    cal = spec.calendar
-    anchor = Anchor(cal.anchor, cal.month, cal.day, cal.hour, cal.minute)
+    from bcgen.experiment import Experiment
+
+    experiment = Experiment(spec)  # orbit, S0 and calendar resolved as every command does
     return Setup(
-        orbit=spec.resolve_orbit(),
-        solar_constant_wm2=float(spec.solar_constant_wm2),
-        calendar=ModelCalendar(cal.name, anchor),
+        orbit=experiment.orbit,
+        solar_constant_wm2=experiment.solar_constant_wm2,
+        calendar=experiment.calendar,
         daily_method=daily_method or DEFAULT_DAILY_METHOD,
         epoch_label=spec.epoch or "",
         spec_daily_method=_stated_daily_method(spec),

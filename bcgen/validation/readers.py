@@ -65,6 +65,7 @@ import cftime
 import numpy as np
 
 from bcgen.cf import LATITUDE_UNITS
+from bcgen.cf.reader import coordinate_kind, time_unit_days
 from bcgen.errors import BcgenError, BcgenWarning, InputFileError
 from bcgen.solar_calendar.calendars import ModelCalendar, canonical_calendar
 from bcgen.textfile import content_lines
@@ -87,11 +88,6 @@ TABLE_COLUMNS: dict[str, str] = {
 
 _POINT_COLUMN = re.compile(r"^insolation_wm2_lat(-?\d+(?:\.\d*)?)_lon(-?\d+(?:\.\d*)?)$")
 _LAT_UNITS = {u.lower() for u in LATITUDE_UNITS}
-_LON_UNITS = {"degrees_east", "degree_east", "degree_e", "degrees_e", "degreee", "degreese"}
-_TIME_UNIT_DAYS = {"days": 1.0, "day": 1.0, "d": 1.0, "hours": 1 / 24, "hour": 1 / 24,
-                   "hr": 1 / 24, "h": 1 / 24, "minutes": 1 / 1440, "minute": 1 / 1440,
-                   "min": 1 / 1440, "seconds": 1 / 86400, "second": 1 / 86400,
-                   "sec": 1 / 86400, "s": 1 / 86400}
 
 
 class AmbiguousTimeWarning(BcgenWarning):
@@ -317,19 +313,6 @@ def _check_units(da, where: str) -> None:
         raise InputFileError(f"{where}: units {units!r}; expected W m-2 (TOA insolation)")
 
 
-def _coord_kind(var) -> str | None:
-    attrs = var.attrs
-    std = attrs.get("standard_name")
-    units = str(attrs.get("units", "")).strip().lower()
-    axis = str(attrs.get("axis", "")).upper()
-    name = str(var.name).lower()
-    if std == "time" or axis == "T" or " since " in units:
-        return "time"
-    if std == "latitude" or units in _LAT_UNITS or axis == "Y" or name in ("lat", "latitude"):
-        return "latitude"
-    if std == "longitude" or units in _LON_UNITS or axis == "X" or name in ("lon", "longitude"):
-        return "longitude"
-    return None
 
 
 def _latitudes_deg(coord, where: str, notes: list[str]) -> np.ndarray:
@@ -363,11 +346,11 @@ def _latitudes_deg(coord, where: str, notes: list[str]) -> np.ndarray:
 def _find_dims(ds, da, where: str) -> tuple[str, str, str | None]:
     found: dict[str, str] = {}
     for dim in da.dims:
-        kind = _coord_kind(ds[dim]) if dim in ds.variables else None
+        kind = coordinate_kind(ds[dim]) if dim in ds.variables else None
         if kind and kind not in found:
             found[kind] = dim
     if "latitude" not in found:
-        aux = [c for c in da.coords if _coord_kind(ds[c]) == "latitude" and ds[c].ndim > 1]
+        aux = [c for c in da.coords if coordinate_kind(ds[c]) == "latitude" and ds[c].ndim > 1]
         if aux:
             raise InputFileError(
                 f"{where}: latitude {aux[0]!r} is 2-D (a curvilinear grid); give the zonal mean "
@@ -384,11 +367,7 @@ def _read_time(ds, dim: str, where: str, notes: list[str]):
     """Calendar, year, start_day, end_day, month and frequency of each time step."""
     time = ds[dim]
     units = time.attrs.get("units")
-    match = re.match(r"^\s*(\w+)\s+since\s+", str(units or ""))
-    if not match or match[1].lower() not in _TIME_UNIT_DAYS:
-        raise InputFileError(f"{where}: time units {units!r}; expected '<days|hours|minutes|"
-                             f"seconds> since <date>'")
-    factor = _TIME_UNIT_DAYS[match[1].lower()]
+    factor = time_unit_days(units, where)
     raw_calendar = time.attrs.get("calendar")
     if raw_calendar is None:  # CF's default ('standard') is rarely a model's: never guessed
         raise InputFileError(f"{where}: time coordinate '{dim}' has no calendar attribute; "
