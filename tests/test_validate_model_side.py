@@ -169,6 +169,7 @@ def test_correct_latlon_timestep_output_is_consistent(folder):
     path = model_file(folder, None, n_lon=48, steps_per_day=8)
     result = validate(path, spec_path(folder, "noleap"))
     assert result.verdict == "consistent", result.reasons
+    assert result.findings == ()
     assert result.convention.method == "day_average"
 
 
@@ -232,8 +233,9 @@ def test_each_mistake_is_found_first(folder, mistake, frequency, convention, cal
                       convention=convention, steps_per_day=8)
     result = validate(path, spec_path(folder, calendar))
     _check_first(result, mistake, file_calendar)
-    if frequency == "daily" and mistake not in ("sun_at_day_start", "calendar_differs"):
-        expected = "midday" if convention == "midday" else "day_average"
+    if frequency == "daily" and mistake != "calendar_differs":
+        expected = "midday" if convention in ("midday", "start_of_day") or (
+            mistake == "sun_at_day_start") else "day_average"
         assert result.convention.method == expected
 
 

@@ -24,7 +24,9 @@ The convention is taken, in this order, from
    :data:`CANDIDATES`, which is then kept (``distinguishable: false``). When a
    catalogued mistake explains the output better than the reference, the
    candidates are compared with that mistake applied (the mistake is then
-   diagnosed again under the convention found).
+   diagnosed again under the convention found). The Sun evaluated at 00:00
+   (``sun_at_day_start``) is the formula taken once a day: its convention is
+   ``midday``.
 
 Orbit tables hold instantaneous values, which have no daily-mean convention
 (``source: instantaneous``).
