@@ -104,9 +104,11 @@ class Convention:
             if others:
                 text += (f"; misfit {self.misfit_by_candidate_wm2[self.label]:.3f} W m-2, next "
                          f"best {others[0][1]} {others[0][0]:.3f}")
-            if self.with_finding:
+            if self.with_finding == "sun_at_day_start":
+                text += "; implied by sun_at_day_start: the formula taken once a day"
+            elif self.with_finding:
                 text += f", with {self.with_finding} applied"
-            if not self.distinguishable:
+            if self.distinguishable is False:
                 text += "; the output cannot tell these conventions apart"
         text += ")"
         if self.method == "day_average" and self.source == "fitted":
