@@ -243,9 +243,8 @@ def _run_transient(args, orbit, reference, anchor, calendar, cyclic) -> int:
     from pathlib import Path
 
     import numpy as np
-    import xarray as xr
 
-    from bcgen.convert.io import check_inputs, open_inputs
+    from bcgen.convert.io import open_inputs
     from bcgen.convert.timeaxis import find_time_dim
     from bcgen.errors import OutputError
 
@@ -256,23 +255,19 @@ def _run_transient(args, orbit, reference, anchor, calendar, cyclic) -> int:
     if folder.exists() and not folder.is_dir():
         raise OutputError(f"{folder}: with a transient spec, -o names a folder for one output "
                           "file per input file; this is a file")
-    ordered = check_inputs(args.inputs) if len(args.inputs) > 1 else [Path(args.inputs[0])]
-    targets = [folder / path.name for path in ordered]
-    for path, target in zip(ordered, targets, strict=True):
-        if target.resolve() == path.resolve():
-            raise OutputError(f"{target}: the output would replace its input; choose another "
-                              "folder with -o")
-        if target.exists() and not args.force:
-            raise OutputError(f"{target} exists; use --force to replace it")
-    ds, label = open_inputs(args.inputs)
+    ds, label = open_inputs(args.inputs)  # checks each file and the joins between them
     written = []
     with ds:
         dim = find_time_dim(ds, label)
+        ordered, counts = _files_in_time_order(args.inputs, dim)
+        targets = [folder / path.name for path in ordered]
+        for path, target in zip(ordered, targets, strict=True):
+            if target.resolve() == path.resolve():
+                raise OutputError(f"{target}: the output would replace its input; choose "
+                                  "another folder with -o")
+            if target.exists() and not args.force:
+                raise OutputError(f"{target} exists; use --force to replace it")
         years = np.array([d.year for d in ds[dim].values])
-        counts = []
-        for path in ordered:
-            with xr.open_dataset(path, decode_times=False) as one:
-                counts.append(one.sizes[dim])
         edges = np.concatenate([[0], np.cumsum(counts)])
         folder.mkdir(parents=True, exist_ok=True)
         with _scheduler(args.scheduler) as client:
@@ -288,6 +283,24 @@ def _run_transient(args, orbit, reference, anchor, calendar, cyclic) -> int:
             print(f"wrote {path}: {out.sizes[dim]} {args.to} months of {', '.join(names)} "
                   f"({out.attrs.get('month_conversion_method')}, each model year's orbit)")
     return 0
+
+
+def _files_in_time_order(paths, dim: str):
+    """Return the input files ordered by their first time, and the time steps of each."""
+    from pathlib import Path
+
+    import cftime
+    import xarray as xr
+
+    found = []
+    for raw in paths:
+        with xr.open_dataset(raw, decode_times=False) as one:
+            t = one[dim]
+            first = cftime.num2date(float(t.values[0]), t.attrs["units"],
+                                    calendar=t.attrs.get("calendar", "standard"))
+            found.append((first, Path(raw), one.sizes[dim]))
+    found.sort(key=lambda item: item[0])
+    return [item[1] for item in found], [item[2] for item in found]
 
 
 def _convert_each(args, ds, dim, years, edges, ordered, targets, orbit, reference, anchor,
