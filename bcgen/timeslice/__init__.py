@@ -39,23 +39,8 @@ def build_time_slice(spec: ExperimentSpec, output_dir=None, *, force: bool = Fal
                      command: str | None = None) -> BuildResult:
     """Build every product of a time-slice spec into ``output_dir`` (default: ``output.directory``).
 
-    Parameters
-    ----------
-    spec : ExperimentSpec
-        A validated time-slice spec (:func:`bcgen.spec.load_spec`); :func:`bcgen.build`
-        hands a transient spec to :func:`bcgen.transient.build_transient` instead.
-    output_dir : path, optional
-        Folder for the outputs; created if missing.
-    force : bool
-        Replace existing outputs.
-    command : str, optional
-        The command line, recorded in each file's ``history``.
-
-    Returns
-    -------
-    BuildResult
-        The files written (name, bytes, sha256, product, description) and the
-        comparison with the spec's expected orbit values, if any.
+    The parameters and the result are those of :func:`bcgen.build`, which hands a time-slice
+    spec here and a transient spec to :func:`bcgen.transient.build_transient`.
     """
     directory = Path(output_dir if output_dir is not None else spec.output.directory)
     ctx = BuildContext(spec, command=command)
