@@ -179,7 +179,7 @@ def test_anchor_fields_are_validated():
     ("text", "expected"),
     [
         ("03-21 12:00", Anchor("march_equinox", 3, 21, 12, 0)),
-        ("03-20", Anchor("march_equinox", 3, 20, 0, 0)),
+        ("03-20 00:00", Anchor("march_equinox", 3, 20, 0, 0)),
         (" 3-20T21:24 ", Anchor("march_equinox", 3, 20, 21, 24)),
     ],
 )
@@ -192,7 +192,7 @@ def test_parse_anchor_kind_and_errors():
     with pytest.raises(
         CalendarError,
         match=r"^--equinox: cannot read 'March 21'; expected "
-        r"'MM-DD HH:MM' or 'MM-DD'",
+        r"'MM-DD HH:MM', e.g. '03-21 12:00'",
     ):
         parse_anchor("March 21", source="--equinox")
     with pytest.raises(CalendarError, match=r"--equinox: '03-21 25:00': anchor hour"):

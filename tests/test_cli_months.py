@@ -133,10 +133,16 @@ def test_text_table_states_units_and_conventions(capsys):
             "--equinox: date 1582-10-10 00:00 does not exist in calendar standard",
         ),
         (
-            ["6ka", "--calendar", "standard", "--perihelion-date", "10-10", "--year", "1583"],
+            ["6ka", "--calendar", "standard", "--perihelion-date", "10-10 00:00", "--year",
+             "1583"],
             "--perihelion-date: date 1582-10-10 00:00 does not exist in calendar standard",
         ),
-        (["6ka", "--equinox", "03-21", "--perihelion-date", "01-03"], "not allowed with"),
+        (["6ka", "--equinox", "03-21 12:00", "--perihelion-date", "01-03 00:00"],
+         "not allowed with"),
+        # A date alone could mean 00:00 or 12:00 (the default): the time is required.
+        (["6ka", "--equinox", "03-21"], "--equinox: '03-21' has no time of day; write "
+         "'MM-DD HH:MM', e.g. '03-21 12:00'"),
+        (["6ka", "--perihelion-date", "01-03"], "--perihelion-date: '01-03' has no time of day"),
     ],
 )
 def test_errors_are_one_line_with_status_2(capsys, argv, message):

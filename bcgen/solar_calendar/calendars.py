@@ -316,8 +316,9 @@ def split_anchor_text(text: str, require_time: bool = False) -> tuple[int, int, 
     """Read the anchor grammar: ``"MM-DD HH:MM"`` (or ``"MM-DD"``, 00:00, unless ``require_time``).
 
     Returns ``(month, day, hour, minute)``, not yet checked for range, or None when the
-    text does not follow the grammar. A spec requires the time of day; the command line
-    does not.
+    text does not follow the grammar. Every user-facing reader requires the time of day
+    (:func:`parse_anchor`, the spec): a date alone could mean 00:00 or the protocols'
+    12:00.
 
     Examples
     --------
@@ -335,12 +336,15 @@ def split_anchor_text(text: str, require_time: bool = False) -> tuple[int, int, 
 
 
 def parse_anchor(text: str, kind: AnchorKind = "march_equinox", source: str = "anchor") -> Anchor:
-    """Read an anchor written ``"MM-DD HH:MM"`` or ``"MM-DD"`` (00:00).
+    """Read an anchor written ``"MM-DD HH:MM"``; the time of day is required.
+
+    A date alone is refused, naming the rule: ``"03-21"`` could mean 00:00 or 12:00
+    (the PMIP protocols' equinox time, bcgen's default), half a day apart.
 
     Parameters
     ----------
     text : str
-        For example ``"03-21 12:00"`` or ``"01-03"``.
+        For example ``"03-21 12:00"`` or ``"01-03 00:00"``.
     kind : {"march_equinox", "perihelion"}
         What happens at that time (see :class:`Anchor`).
     source : str
@@ -351,11 +355,16 @@ def parse_anchor(text: str, kind: AnchorKind = "march_equinox", source: str = "a
     CalendarError
         If the text is not of that form or a field is out of range.
     """
-    fields = split_anchor_text(text)
+    fields = split_anchor_text(text, require_time=True)
     if fields is None:
+        if split_anchor_text(text) is not None:
+            raise CalendarError(
+                f"{source}: {text!r} has no time of day; write {ANCHOR_FORMAT}, e.g. "
+                f"'{str(text).strip()} 12:00' (the PMIP protocols' time) or "
+                f"'{str(text).strip()} 00:00': the time is required"
+            )
         raise CalendarError(
-            f"{source}: cannot read {text!r}; expected {ANCHOR_FORMAT} or 'MM-DD', "
-            "e.g. '03-21 12:00'"
+            f"{source}: cannot read {text!r}; expected {ANCHOR_FORMAT}, e.g. '03-21 12:00'"
         )
     month, day, hour, minute = fields
     try:
