@@ -221,8 +221,8 @@ def test_error_table_and_worst_places(folder, spec):
     worst = comp.worst[0]
     assert worst.error_wm2 == pytest.approx(-0.01 * worst.reference_wm2, rel=1e-3)
     assert abs(worst.latitude_deg) == 90.0  # the largest monthly insolation is polar summer
-    assert {c.band for c in comp.cells} == {"90S-60S", "60S-30S", "30S-EQ", "EQ-30N",
-                                           "30N-60N", "60N-90N"}
+    assert {c.band for c in comp.cells} == {"90°S to 60°S", "60°S to 30°S", "30°S to Equator",
+                                           "Equator to 30°N", "30°N to 60°N", "60°N to 90°N"}
 
 
 # --- orbit tables -------------------------------------------------------------------------

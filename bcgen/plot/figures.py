@@ -29,6 +29,7 @@ import numpy as np
 
 from bcgen.errors import BcgenError
 from bcgen.insolation import insolation_at_true_longitude_wm2
+from bcgen.labels import latitude_label
 from bcgen.plot.sources import MonthLengths, MonthlyField, OrbitsThroughTime, SourceError
 
 MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
@@ -69,13 +70,6 @@ def require_matplotlib():
 
 
 # --- shared axes -------------------------------------------------------------------------
-def latitude_label(lat_deg: float) -> str:
-    """``65°N``, ``30°S``, ``Equator``."""
-    if lat_deg == 0:
-        return "Equator"
-    return f"{abs(lat_deg):g}°{'N' if lat_deg > 0 else 'S'}"
-
-
 def _months_cyclic(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Month positions 0.5, 1..12, 12.5 and values, closed across the turn of the year.
 

@@ -62,6 +62,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bcgen.labels import band_label, latitude_label
 from bcgen.validation.dates import MONTH_NAMES, days_in_words
 from bcgen.validation.readers import ModelOutput
 
@@ -78,13 +79,6 @@ MIN_NOISE_SAMPLES = 10
 NOISE_RELATIVE_SE = 1.4
 #: Standard errors of the noise estimate by which σ may exceed T (verdict rule C).
 NOISE_MARGIN_SE = 3.0
-
-
-def latitude_label(lat_deg: float) -> str:
-    """``60S``, ``EQ``, ``30N`` ..."""
-    if abs(lat_deg) < 1e-9:
-        return "EQ"
-    return f"{abs(lat_deg):g}{'N' if lat_deg > 0 else 'S'}"
 
 
 @dataclass(frozen=True)
@@ -227,8 +221,7 @@ def compare(output: ModelOutput, reference_wm2: np.ndarray,
     edges = np.asarray(band_edges_deg, dtype=float)
     lat = output.latitude_deg
     band_of = np.clip(np.searchsorted(edges, lat, side="right") - 1, 0, edges.size - 2)
-    labels = tuple(f"{latitude_label(lo)}-{latitude_label(hi)}"
-                   for lo, hi in zip(edges[:-1], edges[1:], strict=True))
+    labels = tuple(band_label(lo, hi) for lo, hi in zip(edges[:-1], edges[1:], strict=True))
     cells = []
     for month in range(1, 13):
         rows = output.month == month

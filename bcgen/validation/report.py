@@ -194,15 +194,16 @@ def to_text(result) -> str:
     if months:
         lines.append("")
         lines.append("max abs error (W m-2) per month and latitude band:")
-        lines.append("  " + f"{'band':>9}" + "".join(f"{MONTH_NAMES[m - 1][:3]:>7}"
-                                                      for m in months))
+        width = max(len(b) for b in comp.band_labels)
+        lines.append("  " + f"{'band':>{width}}" + "".join(f"{MONTH_NAMES[m - 1][:3]:>7}"
+                                                             for m in months))
         table = {(c.band, c.month): c.max_abs_error_wm2 for c in comp.cells}
         for band in reversed(comp.band_labels):
             if not any((band, m) in table for m in months):
                 continue
             cells = "".join(f"{table[(band, m)]:7.2f}" if (band, m) in table else f"{'-':>7}"
                             for m in months)
-            lines.append("  " + f"{band:>9}" + cells)
+            lines.append("  " + f"{band:>{width}}" + cells)
     lines.append("")
     if result.findings:
         lines.append("diagnosis (explanations first, best first; then partial fits):")
