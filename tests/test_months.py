@@ -21,7 +21,7 @@ CALENDARS = ("noleap", "all_leap", "360_day", "proleptic_gregorian", "standard",
 FIXED_LENGTH = ("noleap", "all_leap", "360_day")
 EPOCHS = (0.0, -100.0, -6000.0, -21000.0, -115000.0, -127000.0)
 SUM_TOL_DAYS = 1e-9  # rounding only
-LEAP_SUM_TOL_DAYS = 0.2  # see bcgen.solar_calendar.months docstring ("Year length")
+LEAP_ANY_ORBIT_TOL_DAYS = 1.0  # one orbital year's 366 days against the next one's 365
 
 orbits = st.builds(
     OrbitalElements,
@@ -80,9 +80,14 @@ def test_fixed_angle_equals_fixed_day_for_the_reference_orbit(orbit, name, ancho
 @settings(max_examples=150, deadline=None)
 def test_month_lengths_sum_to_the_year(orbit, reference, name, anchor, year):
     # Invariant (issue 3): the 12 months fill the year. Exactly for fixed-day months and for
-    # fixed-angle months in calendars without leap years; in leap-year calendars the orbital
+    # fixed-angle months in calendars without leap years. In leap-year calendars the orbital
     # year with 29 February is 366 days (leap-year rule), so one calendar year of fixed-angle
-    # months is within 0.2 day of it and consecutive years tile without gap (next test).
+    # months runs from a January start placed in one orbital year to one placed in the next:
+    # its length lies between the two orbital-year lengths (365 and 366 days), hence within
+    # 1 day of the calendar year for any orbit, reference and anchor drawn here (e up to 0.1,
+    # anchors on any date). The much tighter bound for realistic set-ups (Berger 1978 orbits,
+    # the 03-21 12:00 anchor) is checked in test_leap_year_sums_stated_in_the_docstring, and
+    # consecutive years tile without gap (next test).
     calendar = ModelCalendar(name, anchor)
     length = calendar.year_length_days(year)
     assert fixed_day_months(orbit, calendar, year).length_days.sum() == length
@@ -90,8 +95,8 @@ def test_month_lengths_sum_to_the_year(orbit, reference, name, anchor, year):
     assert np.all(table.length_days > 0)
     if name in FIXED_LENGTH:
         tol = SUM_TOL_DAYS
-    else:  # March-equinox anchor: within 0.2 day; perihelion anchor: months may move far
-        tol = LEAP_SUM_TOL_DAYS if anchor.kind == "march_equinox" else 1.0
+    else:  # between the lengths of two consecutive orbital years (see above)
+        tol = LEAP_ANY_ORBIT_TOL_DAYS
     assert abs(table.length_days.sum() - length) < tol
 
 
