@@ -107,7 +107,7 @@ def test_indexing_and_years_bp():
 
 
 def test_registry_lists_the_three_solutions():
-    assert set(SOLUTIONS) == {"berger1978", "table", "fixed"}
+    assert set(SOLUTIONS) == {"berger1978", "table", "fixed", "nbody"}
     with pytest.raises(OrbitError, match="unknown orbital solution 'laskar'; expected one of"):
         bcgen.solve(0.0, "laskar")
     with pytest.raises(OrbitError, match="'berger1978' does not take path"):

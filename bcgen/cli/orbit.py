@@ -50,8 +50,16 @@ conventions:
                                    (perihelion_longitude_deg + 180, mod 360)
   precession_index                 e * sin(perihelion_longitude)
 
+compare:
+  --compare prints, for each epoch, the elements from every solution that needs no
+  options of yours (berger1978, nbody) and from the chosen one, then each one's
+  difference from the chosen one and what it means for daily-mean insolation: the
+  largest difference over the year at 65N, 0 and 65S (W m-2, S0 = 1360.747).
+
 examples:
   bcgen orbit 1850CE 6ka 21ka 127ka
+  bcgen orbit 127ka 400ka 1Ma --solution nbody
+  bcgen orbit 127ka 400ka 1Ma --compare
   bcgen orbit 130ka..115ka/1ka --format csv > orbit.csv
   bcgen orbit 6ka --solution table --table my_orbits.csv
   bcgen orbit 6ka --solution fixed --eccentricity 0.018682 --obliquity-deg 24.105 \\
@@ -91,6 +99,19 @@ def register(subparsers) -> argparse.ArgumentParser:
         default="text",
         help="output format (default: text)",
     )
+    parser.add_argument(
+        "--compare",
+        action="store_true",
+        help="print every solution's elements, their differences from the chosen one and "
+        "their meaning in W m-2 (text or json)",
+    )
+    nbody = parser.add_argument_group("options of --solution nbody")
+    nbody.add_argument("--dynamical-ellipticity", type=float, metavar="F",
+                       help="the Earth's dynamical ellipticity as a multiple of today's "
+                       "(default 1)")
+    nbody.add_argument("--tidal-dissipation", type=float, metavar="F",
+                       help="tidal dissipation of the Earth-Moon system as a multiple of "
+                       "today's (default 1; 0 = none)")
     fixed = parser.add_argument_group("values for --solution fixed (all four required)")
     fixed.add_argument("--eccentricity", type=float, metavar="E")
     fixed.add_argument("--obliquity-deg", type=float, metavar="DEG")
@@ -138,6 +159,19 @@ def _solution_options(args: argparse.Namespace) -> dict:
             f"{', '.join(fixed_given)}: only used with --solution fixed "
             f"(the solution is {args.solution})"
         )
+    nbody_given = {
+        option: value
+        for option, value in (("--dynamical-ellipticity", args.dynamical_ellipticity),
+                              ("--tidal-dissipation", args.tidal_dissipation))
+        if value is not None
+    }
+    if nbody_given and args.solution != "nbody":
+        raise OrbitError(
+            f"{', '.join(nbody_given)}: only used with --solution nbody "
+            f"(the solution is {args.solution})"
+        )
+    if args.solution == "nbody":
+        return {option[2:].replace("-", "_"): value for option, value in nbody_given.items()}
     if args.solution == "table":
         if args.table is None:
             raise OrbitError("--solution table needs --table FILE (a CSV or NetCDF table)")
@@ -192,6 +226,64 @@ def format_text(records: list[dict]) -> str:
     return "\n".join(lines) + "\n"
 
 
+def format_comparison(labels: list[str], comparisons: list[dict]) -> str:
+    """Format :func:`bcgen.spread.compare` results as a table for people."""
+    lines = [
+        "# Earth's orbital elements from each solution, and each one's difference from the",
+        "# chosen one (angles in degrees; perihelion: heliocentric, from the moving March",
+        "# equinox). Insolation: largest difference over the year in daily-mean TOA",
+        "# insolation (W m-2), and where in the year (true longitude of the Sun).",
+    ]
+    width = max([len("epoch")] + [len(label) for label in labels])
+    name_width = 24
+    lines.append(
+        f"{'epoch':<{width}}  {'solution':<{name_width}}  {'eccentricity':>12}  "
+        f"{'obliquity':>9}  {'perihelion':>10}  {'precession index':>16}"
+    )
+    for label, comp in zip(labels, comparisons, strict=True):
+        for name, rec in comp["solutions"].items():
+            lines.append(
+                f"{label:<{width}}  {name:<{name_width}}  {rec['eccentricity']:>12.6f}  "
+                f"{rec['obliquity_deg']:>9.4f}  {rec['perihelion_longitude_deg']:>10.4f}  "
+                f"{rec['precession_index']:>16.6f}"
+            )
+        for name, diff in comp["differences"].items():
+            lines.append(
+                f"{label:<{width}}  {name:<{name_width}}  {diff['eccentricity']:>+12.6f}  "
+                f"{diff['obliquity_deg']:>+9.4f}  {diff['perihelion_longitude_deg']:>+10.4f}  "
+                f"{diff['precession_index']:>+16.6f}"
+            )
+            parts = [
+                f"{_latitude(q['latitude_deg'])} {q['max_abs_daily_wm2']:.1f} "
+                f"(at {q['at_true_longitude_deg']:.0f})"
+                for q in diff["insolation"]
+            ]
+            lines.append(f"{'':<{width}}  {'':<{name_width}}  insolation: {', '.join(parts)}")
+        for name, why in comp["not_compared"].items():
+            lines.append(f"{label:<{width}}  {name:<{name_width}}  not compared: {why}")
+    return "\n".join(lines) + "\n"
+
+
+def _latitude(lat: float) -> str:
+    return "0" if lat == 0 else f"{abs(lat):g}{'N' if lat > 0 else 'S'}"
+
+
+def _run_compare(args, options, labels, years) -> int:
+    from bcgen.spread import compare
+
+    if args.format == "csv":
+        raise OrbitError("--compare prints text or json; --format csv is not available with it")
+    comparisons = [compare(t, args.solution, options) for t in np.concatenate(years)]
+    if args.format == "json":
+        records = [{"epoch": label, "years_bp": -float(t), **comp}
+                   for label, t, comp in zip(labels, np.concatenate(years), comparisons,
+                                             strict=True)]
+        sys.stdout.write(json.dumps(records, indent=2) + "\n")
+    else:
+        sys.stdout.write(format_comparison(labels, comparisons))
+    return 0
+
+
 def run(args: argparse.Namespace) -> int:
     """Compute and print the orbital elements for ``args.epochs``."""
     options = _solution_options(args)
@@ -200,6 +292,8 @@ def run(args: argparse.Namespace) -> int:
     for text in args.epochs:
         years.append(parse_epochs(text))
         labels.extend(epoch_labels(text))
+    if args.compare:
+        return _run_compare(args, options, labels, years)
     try:
         elements = solve(np.concatenate(years), args.solution, **options)
     except OrbitError as exc:

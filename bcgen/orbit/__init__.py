@@ -6,6 +6,8 @@ solution       what it is
 ``berger1978`` Berger (1978) trigonometric series (the PMIP protocols' choice)
 ``table``      a user-supplied table, interpolated (see :mod:`bcgen.orbit.table`)
 ``fixed``      explicit values with a stated perihelion convention
+``nbody``      bcgen's own integration of the planets from the JPL DE421 state
+               with the precession equations (see :mod:`bcgen.orbit.nbody`)
 =============  ==============================================================
 """
 
@@ -14,7 +16,7 @@ from __future__ import annotations
 import inspect
 
 from bcgen.errors import OrbitError
-from bcgen.orbit import berger1978, fixed, table
+from bcgen.orbit import berger1978, fixed, nbody, table
 from bcgen.orbit.elements import (
     PERIHELION_CONVENTIONS,
     OrbitalElements,
@@ -23,7 +25,7 @@ from bcgen.orbit.elements import (
 )
 
 #: Registry of orbital solutions: name → module with ``solve``, ``NAME`` and ``REFERENCE``.
-SOLUTIONS = {module.NAME: module for module in (berger1978, table, fixed)}
+SOLUTIONS = {module.NAME: module for module in (berger1978, table, fixed, nbody)}
 
 
 def solve(years_from_1950, solution: str = "berger1978", **options) -> OrbitalElements:
@@ -37,7 +39,8 @@ def solve(years_from_1950, solution: str = "berger1978", **options) -> OrbitalEl
         A name from :data:`SOLUTIONS`.
     **options
         Passed to the solution (``path`` for ``table``; the values and their
-        ``perihelion_convention`` for ``fixed``).
+        ``perihelion_convention`` for ``fixed``; ``dynamical_ellipticity`` and
+        ``tidal_dissipation`` for ``nbody``).
 
     Returns
     -------

@@ -1,0 +1,297 @@
+r"""A modern orbital solution computed by bcgen: the planets integrated from DE421.
+
+The planets from the Sun to Neptune are integrated from the JPL DE421 state at
+J2000 with REBOUND and REBOUNDx (general relativity; the Earth–Moon barycentre
+as one body with the Earth–Moon quadrupole; see
+:mod:`bcgen.orbit.nbody_integrate`). The Earth's eccentricity and perihelion
+come from the integrated orbit; the obliquity and the moving equinox come from
+the precession equations of Laskar et al. (1993, 2004) driven by the integrated
+orbital plane, with today's precession constant and, unless set, today's tidal
+dissipation and dynamical ellipticity (:mod:`bcgen.orbit.precession`).
+
+The package carries the solution as a table, 2050 CE to 5 Myr BP every 100
+years (``bcgen/data/nbody/``), made by ``python -m bcgen.orbit.nbody_generate``
+from the same code; reading it needs only numpy. Between rows e and ε are
+interpolated linearly and ϖ through (e sin ϖ, e cos ϖ), as for a user's table.
+Further back, the integration goes on from the table's last state on first use
+(about 2 minutes per Myr on one core, with ``pip install 'bcgen[nbody]'``) and
+is kept in a cache on disk (``$BCGEN_CACHE_DIR``, default ``~/.cache/bcgen``).
+
+Validity: from 2050 CE back to 10 Myr BP. Beyond 10 Myr an
+:class:`~bcgen.errors.OutsideValidityWarning` is issued: the phase of the
+precession depends there on the poorly known tidal history (Laskar et al.
+2004, §10), and the orbit itself is chaotic, so that solutions diverge beyond
+about 50 Myr (Laskar et al. 2011); epochs beyond 50 Myr BP and after 2050 CE
+are refused.
+
+References
+----------
+Laskar, J., Joutel, F. & Boudin, F. (1993): Orbital, precessional, and
+insolation quantities for the Earth from -20 Myr to +10 Myr. A&A 270, 522-533.
+Laskar, J., Robutel, P., Joutel, F., Gastineau, M., Correia, A. C. M. &
+Levrard, B. (2004): A long-term numerical solution for the insolation
+quantities of the Earth. A&A 428, 261-285, doi:10.1051/0004-6361:20041335.
+Laskar, J., Fienga, A., Gastineau, M. & Manche, H. (2011): La2010: a new
+orbital solution for the long-term motion of the Earth. A&A 532, A89,
+doi:10.1051/0004-6361/201116836.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+import warnings
+from dataclasses import dataclass
+from functools import cache
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+
+from bcgen.epochs import format_epoch
+from bcgen.errors import OrbitError, OutsideValidityWarning
+from bcgen.orbit.elements import OrbitalElements
+
+NAME = "nbody"
+REFERENCE = (
+    "bcgen's integration of the planets from the JPL DE421 state (REBOUND WHFast with "
+    "REBOUNDx general relativity) with the precession equations of Laskar et al. (1993), "
+    "A&A 270, 522 and Laskar et al. (2004), A&A 428, 261, doi:10.1051/0004-6361:20041335"
+)
+#: Stated validity: epochs from this many years before 1950 CE up to the table's first row.
+VALID_PAST_YEARS = 10e6
+#: Epochs further back than this are refused (chaos; Laskar et al. 2011).
+LIMIT_PAST_YEARS = 50e6
+TABLE_FILE = "nbody_table.npz"
+
+_COLUMNS = ("eccentricity", "obliquity_deg", "e_sin_varpi", "e_cos_varpi")
+
+
+@dataclass(frozen=True)
+class Table:
+    """Rows of the solution on a uniform grid of epochs (years from 1950 CE)."""
+
+    first_epoch: float
+    step_years: float
+    columns: dict  # name -> 1-D float64 array (see _COLUMNS)
+
+    @property
+    def n_rows(self) -> int:
+        """Number of rows."""
+        return len(self.columns["eccentricity"])
+
+    @property
+    def last_epoch(self) -> float:
+        """Epoch of the last (oldest) row."""
+        return self.first_epoch + self.step_years * (self.n_rows - 1)
+
+    @property
+    def years_from_1950(self) -> np.ndarray:
+        """Epoch of every row."""
+        return self.first_epoch + self.step_years * np.arange(self.n_rows)
+
+
+def table_source() -> str:
+    """Return the table in use: ``$BCGEN_NBODY_TABLE`` if set, else the bundled one.
+
+    ``BCGEN_NBODY_TABLE`` names a table made by ``python -m
+    bcgen.orbit.nbody_generate`` (a longer one, say); the tests use it too.
+    """
+    return os.environ.get("BCGEN_NBODY_TABLE") or ""
+
+
+def raw_table() -> dict[str, np.ndarray]:
+    """All arrays of the table in use (see :mod:`bcgen.orbit.nbody_generate`)."""
+    return _raw(table_source())
+
+
+@cache
+def _raw(source: str) -> dict[str, np.ndarray]:
+    path = Path(source) if source else resources.files("bcgen.data") / "nbody" / TABLE_FILE
+    try:
+        with path.open("rb") as fh, np.load(fh) as data:
+            return {name: data[name] for name in data.files}
+    except (OSError, ValueError, KeyError) as exc:
+        raise OrbitError(f"{path}: cannot read the nbody table ({exc})") from None
+
+
+@cache
+def _table(source: str) -> Table:
+    raw = _raw(source)
+    return Table(float(raw["first_epoch_years_from_1950"]), float(raw["step_years"]),
+                 {name: np.ascontiguousarray(raw[name], dtype=float) for name in _COLUMNS})
+
+
+def cache_dir() -> Path:
+    """Folder of the on-the-fly integrations beyond the table."""
+    root = os.environ.get("BCGEN_CACHE_DIR") or Path.home() / ".cache" / "bcgen"
+    return Path(root)
+
+
+def interpolate(table: Table, years_from_1950) -> OrbitalElements:
+    """Elements at the epochs, linear between rows (ϖ through its components)."""
+    t = np.asarray(years_from_1950, dtype=float)
+    x = (t - table.first_epoch) * (1.0 / table.step_years)
+    i = np.clip(np.floor(x), 0, table.n_rows - 2).astype(np.intp)
+    w = x - i
+    cols = table.columns
+
+    def lerp(name):
+        v = cols[name]
+        lo = v[i]
+        return lo + w * (v[i + 1] - lo)
+
+    varpi_deg = np.degrees(np.arctan2(lerp("e_sin_varpi"), lerp("e_cos_varpi")))
+    return OrbitalElements(lerp("eccentricity"), lerp("obliquity_deg"), varpi_deg, t, NAME)
+
+
+def solve(years_from_1950, *, dynamical_ellipticity: float = 1.0,
+          tidal_dissipation: float = 1.0) -> OrbitalElements:
+    """Orbital elements of the ``nbody`` solution at the epochs.
+
+    Parameters
+    ----------
+    years_from_1950 : float or array_like
+        Epochs in years relative to 1950 CE (negative in the past), from
+        50 Myr BP to 2050 CE.
+    dynamical_ellipticity : float
+        The Earth's dynamical ellipticity as a multiple of today's (default 1).
+    tidal_dissipation : float
+        The tidal dissipation in the Earth–Moon system as a multiple of today's
+        (default 1; 0 holds the Moon's distance and the length of day at
+        today's values).
+
+    Returns
+    -------
+    OrbitalElements
+        e, ε and ϖ (from the moving March equinox) with the shape of the input.
+
+    Raises
+    ------
+    OrbitError
+        For epochs that are not finite, after 2050 CE or beyond 50 Myr BP, or
+        options out of range.
+
+    Warns
+    -----
+    OutsideValidityWarning
+        For epochs more than 10 Myr before 1950 CE.
+    """
+    t = np.asarray(years_from_1950, dtype=float)
+    if not np.all(np.isfinite(t)):
+        raise OrbitError("epochs must be finite numbers of years from 1950 CE; got NaN or inf")
+    for name, value in (("dynamical_ellipticity", dynamical_ellipticity),
+                        ("tidal_dissipation", tidal_dissipation)):
+        if not (np.isfinite(value) and 0.0 <= value <= 10.0 and
+                (value > 0 or name == "tidal_dissipation")):
+            raise OrbitError(f"{name} is a multiple of today's value, expected a number in "
+                             f"(0, 10] (1 = today's); got {value!r}")
+    source = table_source()
+    table = _table(source)
+    if t.size == 0:
+        return OrbitalElements(t, t, t, t, NAME)
+    newest, oldest = float(np.max(t)), float(np.min(t))
+    if newest > table.first_epoch:
+        raise OrbitError(
+            f"epoch {format_epoch(newest)} is after {format_epoch(table.first_epoch)}, the end "
+            "of the nbody solution (the DE421 span); use berger1978 for later epochs"
+        )
+    if -oldest > LIMIT_PAST_YEARS:
+        raise OrbitError(
+            f"epoch {format_epoch(oldest)} is beyond 50 Myr BP, where the chaotic motion of "
+            "the planets makes every orbital solution uncertain (Laskar et al. 2011)"
+        )
+    if -oldest > VALID_PAST_YEARS:
+        warnings.warn(
+            f"epoch {format_epoch(oldest)} is beyond 10 Myr BP, the stated validity of the "
+            "nbody solution (the precession there depends on the unknown tidal history)",
+            OutsideValidityWarning,
+            stacklevel=2,
+        )
+    if oldest < table.last_epoch:
+        table = _extended(source, _extension_rows(table, oldest))
+    if dynamical_ellipticity != 1.0 or tidal_dissipation != 1.0:
+        table = _with_precession(source, table.n_rows, dynamical_ellipticity,
+                                 tidal_dissipation)
+    return interpolate(table, t)
+
+
+# --- beyond the table: integration on the fly, cached on disk ---------------------------
+
+
+def _extension_path(source: str) -> Path:
+    raw = _raw(source)
+    key = hashlib.sha256(raw["end_state"].tobytes() + raw["end_spin"].tobytes()).hexdigest()
+    return cache_dir() / f"nbody_extension_{key[:16]}.npz"
+
+
+def _extension_rows(table: Table, oldest_years_from_1950: float) -> int:
+    behind = (table.last_epoch - oldest_years_from_1950) / -table.step_years
+    return int(np.ceil(behind - 1e-9)) + 1
+
+
+def _extended_vectors(source: str, n_rows: int) -> dict[str, np.ndarray]:
+    """At least ``n_rows`` integrated rows after the table's last one (cached on disk)."""
+    from bcgen.orbit import nbody_generate as gen
+    from bcgen.orbit import nbody_integrate as integ
+
+    raw = _raw(source)
+    path = _extension_path(source)
+    ext = {"ecc_vector": np.empty((0, 3), np.float32),
+           "orbit_normal": np.empty((0, 3), np.float32),
+           "next_state": raw["end_state"]}
+    if path.exists():
+        with np.load(path) as saved:
+            ext = {name: saved[name] for name in saved.files}
+    base = len(raw["eccentricity"])
+    while len(ext["ecc_vector"]) < n_rows:
+        lo = base + len(ext["ecc_vector"])
+        epochs = gen.row_epochs(lo + gen.CHUNK_ROWS)[lo:]
+        ecc, normal, end = integ.integrate_rows(integ.State.from_array(ext["next_state"]),
+                                                epochs)
+        ext = {"ecc_vector": np.concatenate([ext["ecc_vector"], ecc.astype(np.float32)]),
+               "orbit_normal": np.concatenate([ext["orbit_normal"],
+                                               normal.astype(np.float32)]),
+               "next_state": end.as_array()}
+        path.parent.mkdir(parents=True, exist_ok=True)
+        gen.save_atomic(path, ext)
+    return ext
+
+
+@cache
+def _extended(source: str, n_rows: int) -> Table:
+    from bcgen.orbit import nbody_generate as gen
+    from bcgen.orbit import precession
+
+    raw = _raw(source)
+    ext = _extended_vectors(source, n_rows)
+    table = _table(source)
+    last = table.last_epoch
+    epochs = last + table.step_years * np.arange(n_rows + 1)
+    normal = np.vstack([raw["orbit_normal"][-1:], ext["orbit_normal"][:n_rows]]).astype(float)
+    ecc_vec = np.vstack([raw["ecc_vector"][-1:], ext["ecc_vector"][:n_rows]]).astype(float)
+    spin = precession.spin_axis(epochs, normal, np.linalg.norm(ecc_vec, axis=-1), last,
+                                raw["end_spin"], eccentricity_j2000=gen.eccentricity_j2000(raw))
+    cols = gen.elements_columns(ecc_vec[1:], normal[1:], spin[1:])
+    return Table(table.first_epoch, table.step_years,
+                 {name: np.concatenate([table.columns[name], cols[name]]) for name in _COLUMNS})
+
+
+@cache
+def _with_precession(source: str, n_rows: int, dynamical_ellipticity: float,
+                     tidal_dissipation: float) -> Table:
+    """Solve the precession again for other options, over the table and its extension."""
+    from bcgen.orbit import nbody_generate as gen
+
+    raw = _raw(source)
+    ecc_vec, normal = raw["ecc_vector"], raw["orbit_normal"]
+    extra = n_rows - len(ecc_vec)
+    if extra > 0:
+        ext = _extended_vectors(source, extra)
+        ecc_vec = np.vstack([ecc_vec, ext["ecc_vector"][:extra]])
+        normal = np.vstack([normal, ext["orbit_normal"][:extra]])
+    spin = gen.solve_spin(ecc_vec, normal, dynamical_ellipticity=dynamical_ellipticity,
+                          tidal_dissipation=tidal_dissipation)
+    table = _table(source)
+    return Table(table.first_epoch, table.step_years,
+                 gen.elements_columns(ecc_vec, normal, spin))

@@ -1,0 +1,137 @@
+"""The spread between orbital solutions at an epoch, and what it means in W m-2.
+
+No orbital solution is exact: the Berger (1978) series is a 1978 fit, the
+``nbody`` solution has its own model limits. The difference between them at an
+epoch is a plain, honest measure of how well the orbit is known there.
+:func:`compare` gives each solution's elements and the differences of every
+other solution from the chosen one; :func:`insolation_spread` turns a
+difference into daily-mean TOA insolation at a few latitudes, through the
+calendar-free insolation at each true longitude of the Sun (Berger 1978).
+"""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+
+from bcgen.errors import OrbitError, OutsideValidityWarning
+from bcgen.insolation.daily import (
+    CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+    daily_mean_insolation_wm2,
+)
+from bcgen.orbit import OrbitalElements, solve
+
+#: Solutions compared by default: those that need no option of the user's.
+COMPARED_SOLUTIONS = ("berger1978", "nbody")
+#: Latitudes at which a difference is stated in W m-2 (Milankovitch's 65° N, the equator, 65° S).
+SPREAD_LATITUDES_DEG = (65.0, 0.0, -65.0)
+
+
+def element_difference(a: OrbitalElements, b: OrbitalElements) -> dict[str, np.ndarray]:
+    """Subtract b from a: e, ε (deg), ϖ (deg, wrapped to (−180, 180]) and e·sin ϖ."""
+    dvarpi = (a.perihelion_longitude_deg - b.perihelion_longitude_deg + 180.0) % 360.0 - 180.0
+    return {
+        "eccentricity": a.eccentricity - b.eccentricity,
+        "obliquity_deg": a.obliquity_deg - b.obliquity_deg,
+        "perihelion_longitude_deg": np.where(dvarpi == -180.0, 180.0, dvarpi),
+        "precession_index": a.precession_index - b.precession_index,
+    }
+
+
+def insolation_spread(a: OrbitalElements, b: OrbitalElements,
+                      latitudes_deg=SPREAD_LATITUDES_DEG,
+                      solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+                      n_longitudes: int = 360) -> dict[str, np.ndarray]:
+    """How far apart two orbits put the daily-mean insolation, at each latitude.
+
+    Parameters
+    ----------
+    a, b : OrbitalElements
+        Orbits of one epoch each (scalar elements).
+    latitudes_deg : sequence of float
+        Latitudes in degrees north.
+    solar_constant_wm2 : float
+        S0 used for both.
+    n_longitudes : int
+        True longitudes of the Sun sampled over the year.
+
+    Returns
+    -------
+    dict
+        ``max_abs_wm2``: the largest |Q_a − Q_b| over the year at each latitude;
+        ``at_true_longitude_deg``: where in the year it is; ``annual_mean_wm2``:
+        the difference of the annual means (Q weighted by time, dt ∝ r² dλ).
+    """
+    lat = np.asarray(latitudes_deg, dtype=float)[:, None]
+    lam = np.linspace(0.0, 2.0 * np.pi, n_longitudes, endpoint=False)[None, :]
+    qa = daily_mean_insolation_wm2(lat, lam, a, solar_constant_wm2)
+    qb = daily_mean_insolation_wm2(lat, lam, b, solar_constant_wm2)
+    diff = qa - qb
+    worst = np.argmax(np.abs(diff), axis=1)
+
+    def annual(q, orbit):  # time weight of each λ step: (r/a)² ∝ 1 / (a/r)²
+        rho2 = (1.0 - orbit.eccentricity * np.cos(lam - orbit.perihelion_longitude_rad)) ** 2
+        weight = 1.0 / rho2
+        return np.sum(q * weight, axis=1) / np.sum(weight, axis=1)
+
+    return {
+        "latitude_deg": lat[:, 0],
+        "max_abs_wm2": np.abs(diff[np.arange(lat.shape[0]), worst]),
+        "at_true_longitude_deg": np.degrees(lam[0, worst]),
+        "annual_mean_wm2": annual(qa, a) - annual(qb, b),
+    }
+
+
+def compare(years_from_1950: float, chosen: str = "berger1978",
+            chosen_options: dict | None = None,
+            others: tuple[str, ...] = COMPARED_SOLUTIONS,
+            solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2) -> dict:
+    """Elements of each solution at one epoch and the differences from the chosen one.
+
+    Returns a JSON-ready dict: ``chosen``, ``solutions`` (name → elements),
+    ``differences`` (one entry per other solution: ``"<other> - <chosen>"`` with
+    the element differences and their insolation meaning at
+    :data:`SPREAD_LATITUDES_DEG`), and ``not_compared`` (name → why, for a
+    solution that cannot give this epoch).
+    """
+    t = float(years_from_1950)
+    names = [chosen] + [name for name in others if name != chosen]
+    orbits: dict[str, OrbitalElements] = {}
+    not_compared: dict[str, str] = {}
+    for name in names:
+        options = (chosen_options or {}) if name == chosen else {}
+        if name == chosen:
+            orbits[name] = solve(t, name, **options)
+            continue
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", OutsideValidityWarning)
+                orbits[name] = solve(t, name, **options)
+        except OrbitError as exc:
+            not_compared[name] = str(exc)
+    base = orbits[chosen]
+    differences = {}
+    for name, orbit in orbits.items():
+        if name == chosen:
+            continue
+        diff = element_difference(orbit, base)
+        spread = insolation_spread(orbit, base, solar_constant_wm2=solar_constant_wm2)
+        differences[f"{name} - {chosen}"] = {
+            **{key: float(value) for key, value in diff.items()},
+            "insolation": [
+                {
+                    "latitude_deg": float(spread["latitude_deg"][i]),
+                    "max_abs_daily_wm2": float(spread["max_abs_wm2"][i]),
+                    "at_true_longitude_deg": float(spread["at_true_longitude_deg"][i]),
+                    "annual_mean_wm2": float(spread["annual_mean_wm2"][i]),
+                }
+                for i in range(len(spread["latitude_deg"]))
+            ],
+        }
+    return {
+        "chosen": chosen,
+        "solutions": {name: orbit.as_record() for name, orbit in orbits.items()},
+        "differences": differences,
+        "not_compared": not_compared,
+    }

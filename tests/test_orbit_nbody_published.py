@@ -1,0 +1,231 @@
+"""Published values and outside references for the ``nbody`` orbital solution.
+
+Every check names its source and its tolerance. The short-term checks integrate again from
+the DE421 state (a few seconds); the near-present and long-term checks read the bundled
+table, 2050 CE to 5 Myr BP.
+"""
+
+import warnings
+
+import erfa
+import numpy as np
+import pytest
+
+import bcgen
+from bcgen.orbit import berger1978, nbody, precession
+from bcgen.orbit import nbody_integrate as integ
+
+ARCSEC_PER_RAD = 180.0 * 3600.0 / np.pi
+
+# Tolerances (named, so that their reasons stay visible).
+DE421_ARCSEC = 2.0  # "a few arcseconds" over 1900-2050 (the issue's bound; measured 0.4″)
+# Osculating minus mean at J2000: the EMB's short-period terms. The largest are those of
+# Venus and Jupiter, each of order the planet's mass ratio times a few (2.4e-6 x few,
+# 9.5e-4 x (a/aJ)³ x few); in ϖ they are that divided by e. Bounds: 3e-5 in e, 0.1° in ϖ,
+# 2e-5 au in a, 0.02° in the mean longitude.
+OSCULATING_E = 3e-5
+OSCULATING_VARPI_DEG = 0.1
+OSCULATING_A_AU = 2e-5
+OSCULATING_LAMBDA_DEG = 0.02
+# 100-year means remove the short-period terms, so they sit closer to the mean elements.
+MEAN_E = 5e-6
+MEAN_VARPI_DEG = 0.02
+# The issue's near-present bounds against Berger (1978) and the IAU long-term model.
+BERGER_E = 0.0005
+BERGER_VARPI_DEG = 1.0
+LTP_OBLIQUITY_10KA_DEG = 0.02
+LTP_OBLIQUITY_100KA_DEG = 0.1
+SPECTRAL_PERIOD_REL = 0.01
+
+
+# --- short term: the integration against DE421 itself ----------------------------------------
+@pytest.fixture(scope="module")
+def j2000_state():
+    return integ.de421_state()
+
+
+def angular_error_arcsec(state):
+    mine = state.xv[integ.EMB_INDEX, :3] - state.xv[0, :3]
+    ref = integ.de421_heliocentric_emb(integ.J2000_JD_TDB + state.t_days)[0]
+    cos = mine @ ref / np.linalg.norm(mine) / np.linalg.norm(ref)
+    return np.arccos(min(cos, 1.0)) * ARCSEC_PER_RAD
+
+
+@pytest.mark.parametrize(("direction", "years"), [(-1, 100), (1, 50)], ids=["1900", "2050"])
+def test_emb_follows_de421_from_1900_to_2050(j2000_state, direction, years):
+    # Source: JPL DE421 (Folkner et al. 2009) through jplephem and the de421 package: the
+    # heliocentric EMB of the integration started from DE421's own J2000 state, every
+    # ~30 days out to 1900 and to 2050, within a few arcseconds of the ephemeris.
+    sim, _extras = integ.simulation(j2000_state)
+    sim.dt = direction * integ.TIME_STEP_DAYS
+    worst = 0.0
+    for target in np.arange(1, years * 365.25, 30.6) * direction:
+        sim.integrate(target, exact_finish_time=0)
+        worst = max(worst, angular_error_arcsec(integ.read_state(sim, j2000_state)))
+    assert abs(sim.t) > (years - 0.1) * 365.25
+    assert worst < DE421_ARCSEC
+
+
+# Mean elements of the Earth-Moon barycentre at J2000, referred to the J2000 ecliptic and
+# equinox: Simon, J. L., Bretagnon, P., Chapront, J., Chapront-Touzé, M., Francou, G. &
+# Laskar, J. (1994), A&A 282, 663-683, section 5.8 / Table 5.8.1 (values from memory:
+# a = 1.0000010178 au, e = 0.0167086342, ϖ = 102.93734808°, λ = 100.46645683°;
+# rates per thousand Julian years: e -0.0004203654, ϖ +11612.3529″).
+SIMON_A_AU = 1.0000010178
+SIMON_E = 0.0167086342
+SIMON_VARPI_DEG = 102.93734808
+SIMON_LAMBDA_DEG = 100.46645683
+
+
+def test_osculating_elements_at_j2000_against_simon_1994(j2000_state):
+    osc = integ.osculating_elements(j2000_state)
+    # The osculating elements differ from the mean ones by the short-period terms only.
+    assert abs(osc["eccentricity"] - SIMON_E) < OSCULATING_E
+    assert abs(osc["perihelion_longitude_deg"] - SIMON_VARPI_DEG) < OSCULATING_VARPI_DEG
+    assert abs(osc["semi_major_axis_au"] - SIMON_A_AU) < OSCULATING_A_AU
+    assert abs(osc["mean_longitude_deg"] - SIMON_LAMBDA_DEG) < OSCULATING_LAMBDA_DEG
+    # The J2000 ecliptic is the EMB's orbital plane at J2000 to within arcseconds.
+    assert osc["inclination_deg"] * 3600.0 < 1.0
+
+
+def test_hundred_year_mean_at_j2000_is_closer_to_simon_1994(j2000_state):
+    # Integrate the 100-year window centred on J2000 (half backward, half forward) and
+    # average as the table does: the short-period terms cancel, leaving mean elements.
+    half_back = integ.integrate_rows(j2000_state, [25.0])
+    half_fwd = integ.integrate_rows(j2000_state, [75.0])
+    ecc = 0.5 * (half_back[0][0] + half_fwd[0][0])
+    e = np.linalg.norm(ecc)
+    varpi = np.degrees(np.arctan2(ecc[1], ecc[0])) % 360.0
+    osc = integ.osculating_elements(j2000_state)
+    assert abs(e - SIMON_E) < MEAN_E
+    assert abs(varpi - SIMON_VARPI_DEG) < MEAN_VARPI_DEG
+    assert abs(e - SIMON_E) < abs(osc["eccentricity"] - SIMON_E)
+
+
+def test_precession_constants_against_pyerfa():
+    # Source: IAU 2006 precession (Capitaine et al. 2003) as implemented by ERFA (pyerfa
+    # p06e): the rate of lunisolar precession ψ_A at J2000 and the obliquity ε0.
+    dt = 0.01 * 36525.0
+    psi = [erfa.p06e(2451545.0, d)[1] for d in (-dt, dt)]
+    rate = (psi[1] - psi[0]) / (2 * dt / 365.25)  # rad per Julian year
+    assert rate == pytest.approx(precession.LUNISOLAR_PRECESSION_RATE, rel=1e-8)
+    assert erfa.p06e(2451545.0, 0.0)[0] == pytest.approx(precession.OBLIQUITY_J2000, rel=1e-9)
+
+
+# --- near present: Berger (1978) and the IAU long-term precession model -------------------------
+def table_epochs(years_bp_max):
+    return -np.arange(0.0, years_bp_max + 1.0, 100.0)
+
+
+def test_near_present_against_berger_1978():
+    # Source: Berger (1978), J. Atmos. Sci. 35, 2362 (the bundled series, itself checked
+    # against the PMIP4 protocol tables): e within 0.0005 and ϖ within 1° over 0-20 ka.
+    t = table_epochs(20_000)
+    mine, ref = nbody.solve(t), berger1978.solve(t)
+    assert np.max(np.abs(mine.eccentricity - ref.eccentricity)) < BERGER_E
+    dvarpi = (mine.perihelion_longitude_deg - ref.perihelion_longitude_deg + 180) % 360 - 180
+    assert np.max(np.abs(dvarpi)) < BERGER_VARPI_DEG
+
+
+@pytest.mark.parametrize(("years_bp", "tolerance"),
+                         [(10_000, LTP_OBLIQUITY_10KA_DEG), (100_000, LTP_OBLIQUITY_100KA_DEG)])
+def test_obliquity_against_iau_long_term_precession(years_bp, tolerance):
+    # Source: Vondrák, Capitaine & Wallace (2011), A&A 534, A22, the IAU long-term
+    # precession model, through pyerfa ltpecl/ltpequ (ecliptic and equator poles);
+    # obliquity = angle between the poles.
+    t = table_epochs(years_bp)[::5]
+    epj = 1950.0 + t
+    ltp = np.array([np.degrees(np.arccos(erfa.ltpecl(y) @ erfa.ltpequ(y))) for y in epj])
+    mine = nbody.solve(t).obliquity_deg
+    assert np.max(np.abs(mine - ltp)) < tolerance
+
+
+def test_1950_row_against_iau_2006():
+    # Source: IAU 2006 mean obliquity of date (pyerfa obl06) at 1950.0 and J2000: within 5″
+    # (the 100-year mean orbital plane against the IAU ecliptic).
+    mine = nbody.solve([0.0, 50.0])
+    obl = np.degrees([erfa.obl06(2433282.5, 0.0), erfa.obl06(2451545.0, 0.0)])
+    assert np.max(np.abs(mine.obliquity_deg - obl)) * 3600 < 5.0
+
+
+# --- long term: the main spectral periods over 0-5 Myr on the bundled table ------------------
+# Published periods (kyr): Berger & Loutre (1991), Quat. Sci. Rev. 10, 297-317, and Laskar
+# et al. (2004), A&A 428, 261, Tables 3-6 (from memory, as quoted in the issue).
+ECCENTRICITY_PERIODS_KYR = (405.0, 95.0, 99.0, 124.0, 131.0)
+PRECESSION_PERIODS_KYR = (23.7, 22.4, 19.0, 18.9)
+OBLIQUITY_PERIODS_KYR = (41.0,)
+
+
+def frequency_analysis(t_kyr, signal, n_terms, lo, hi):
+    """Frequencies (cycles/kyr) of the strongest quasi-periodic terms, strongest first.
+
+    A frequency analysis in the manner of Laskar's NAFF: Hann-windowed Fourier transform,
+    the peak refined by maximising |<f, exp(iνt)>|, the term fitted by least squares
+    together with the earlier ones and subtracted; repeated.
+    """
+    from scipy.optimize import minimize_scalar
+
+    t = t_kyr - t_kyr.mean()
+    window = 0.5 * (1 + np.cos(2 * np.pi * t / (t[-1] - t[0])))
+    resid = signal - signal.mean()
+    found = []
+    grid = np.linspace(lo, hi, 20000)
+    for _ in range(n_terms):
+        power = np.abs(np.exp(-2j * np.pi * np.outer(grid, t)) @ (resid * window))
+        k = int(np.argmax(power))
+        weighted = resid * window
+        best = minimize_scalar(
+            lambda nu, w=weighted: -abs(np.sum(w * np.exp(-2j * np.pi * nu * t))),
+            bounds=(grid[max(k - 1, 0)], grid[min(k + 1, len(grid) - 1)]), method="bounded")
+        found.append(best.x)
+        basis = np.column_stack([f(2 * np.pi * nu * t) for nu in found for f in (np.cos, np.sin)])
+        coef, *_ = np.linalg.lstsq(basis * window[:, None], (signal - signal.mean()) * window,
+                                   rcond=None)
+        resid = signal - signal.mean() - basis @ coef
+    return np.array(found)
+
+
+@pytest.fixture(scope="module")
+def five_myr():
+    t = -np.arange(0.0, 5_000_000.0 + 1.0, 500.0)  # every 500 years
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        orbit = nbody.solve(t)
+    return -t / 1000.0, orbit
+
+
+def assert_periods_found(found_freq, published_kyr):
+    # Each published period matches its own term, within 1 %.
+    periods = 1.0 / found_freq
+    used = set()
+    for period in published_kyr:
+        rel = np.abs(periods - period) / period
+        rel[list(used)] = np.inf
+        k = int(np.argmin(rel))
+        assert rel[k] < SPECTRAL_PERIOD_REL, (period, sorted(periods))
+        used.add(k)
+
+
+def test_eccentricity_periods(five_myr):
+    t, orbit = five_myr
+    found = frequency_analysis(t, orbit.eccentricity, 7, 1 / 600.0, 1 / 80.0)
+    assert_periods_found(found, ECCENTRICITY_PERIODS_KYR)
+
+
+def test_climatic_precession_periods(five_myr):
+    t, orbit = five_myr
+    found = frequency_analysis(t, orbit.precession_index, 6, 1 / 30.0, 1 / 15.0)
+    assert_periods_found(found, PRECESSION_PERIODS_KYR)
+
+
+def test_obliquity_period(five_myr):
+    t, orbit = five_myr
+    found = frequency_analysis(t, orbit.obliquity_deg, 3, 1 / 60.0, 1 / 25.0)
+    assert 1.0 / found[0] == pytest.approx(OBLIQUITY_PERIODS_KYR[0], rel=SPECTRAL_PERIOD_REL)
+
+
+def test_solve_through_the_public_api():
+    # The registry serves the solution wherever a solution is chosen.
+    orbit = bcgen.solve(-127_000.0, "nbody")
+    assert orbit.solution == "nbody"
+    assert 0.035 < float(orbit.eccentricity) < 0.045  # Berger (1978): 0.0394 at 127 ka
