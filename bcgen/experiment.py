@@ -183,8 +183,34 @@ class Experiment:
 
     @property
     def solar_constant_wm2(self) -> float:
-        """Total solar irradiance at 1 au, W m-2."""
+        """Total solar irradiance at 1 au, W m-2 (scaled to the epoch if the spec asks)."""
         return float(self.spec.solar_constant_wm2)
+
+    @property
+    def solar_constant_record(self) -> dict[str, object]:
+        """The solar constant, how it was obtained and its source (for manifests)."""
+        record: dict[str, object] = {"value_wm2": self.solar_constant_wm2,
+                                     "scaling": self.spec.solar_constant_scaling}
+        if self.spec.solar_constant_given_wm2 is not None:
+            from bcgen.solar_evolution import REFERENCE
+
+            record.update({"given_wm2": self.spec.solar_constant_given_wm2,
+                           "reference": REFERENCE})
+        return record
+
+    @cached_property
+    def orbit_spread(self) -> dict | None:
+        """Differences of the other orbital solutions from the chosen one at a time slice.
+
+        Each with its meaning in W m-2 (see :func:`bcgen.spread.spread_record`); None for
+        a transient run.
+        """
+        if self.spec.epoch is None:
+            return None
+        from bcgen.spread import spread_record
+
+        return spread_record(self.orbit, self.spec.years_from_1950,
+                             solar_constant_wm2=self.solar_constant_wm2)
 
     @property
     def greenhouse_gases(self) -> tuple:

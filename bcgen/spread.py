@@ -20,7 +20,7 @@ from bcgen.insolation.daily import (
     CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
     daily_mean_insolation_wm2,
 )
-from bcgen.orbit import OrbitalElements, solve
+from bcgen.orbit import OrbitalElements, nbody, solve
 
 #: Solutions compared by default: those that need no option of the user's.
 COMPARED_SOLUTIONS = ("berger1978", "nbody")
@@ -70,9 +70,9 @@ def insolation_spread(a: OrbitalElements, b: OrbitalElements,
     diff = qa - qb
     worst = np.argmax(np.abs(diff), axis=1)
 
-    def annual(q, orbit):  # time weight of each λ step: (r/a)² ∝ 1 / (a/r)²
-        rho2 = (1.0 - orbit.eccentricity * np.cos(lam - orbit.perihelion_longitude_rad)) ** 2
-        weight = 1.0 / rho2
+    def annual(q, orbit):  # time weight of each λ step: dt ∝ (r/a)² dλ (Kepler's 2nd law)
+        r_over_a = 1.0 / (1.0 - orbit.eccentricity * np.cos(lam - orbit.perihelion_longitude_rad))
+        weight = r_over_a**2  # up to a constant factor, which cancels
         return np.sum(q * weight, axis=1) / np.sum(weight, axis=1)
 
     return {
@@ -95,28 +95,38 @@ def compare(years_from_1950: float, chosen: str = "berger1978",
     :data:`SPREAD_LATITUDES_DEG`), and ``not_compared`` (name → why, for a
     solution that cannot give this epoch).
     """
-    t = float(years_from_1950)
-    names = [chosen] + [name for name in others if name != chosen]
-    orbits: dict[str, OrbitalElements] = {}
+    orbit = solve(float(years_from_1950), chosen, **(chosen_options or {}))
+    return spread_record(orbit, float(years_from_1950), others, solar_constant_wm2)
+
+
+def spread_record(orbit: OrbitalElements, years_from_1950: float,
+                  others: tuple[str, ...] = COMPARED_SOLUTIONS,
+                  solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2) -> dict:
+    """Like :func:`compare`, for elements already computed by the chosen solution."""
+    chosen = orbit.solution
+    orbits: dict[str, OrbitalElements] = {chosen: orbit}
     not_compared: dict[str, str] = {}
-    for name in names:
-        options = (chosen_options or {}) if name == chosen else {}
+    for name in others:
         if name == chosen:
-            orbits[name] = solve(t, name, **options)
+            continue
+        if name == "nbody" and nbody.needs_integration(years_from_1950):
+            not_compared[name] = (
+                "the epoch is beyond the bundled nbody table (5 Myr BP); integrate it once "
+                "with 'bcgen orbit EPOCH --solution nbody' (cached) to include it"
+            )
             continue
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore", OutsideValidityWarning)
-                orbits[name] = solve(t, name, **options)
+                orbits[name] = solve(years_from_1950, name)
         except OrbitError as exc:
             not_compared[name] = str(exc)
-    base = orbits[chosen]
     differences = {}
-    for name, orbit in orbits.items():
+    for name, other in orbits.items():
         if name == chosen:
             continue
-        diff = element_difference(orbit, base)
-        spread = insolation_spread(orbit, base, solar_constant_wm2=solar_constant_wm2)
+        diff = element_difference(other, orbit)
+        spread = insolation_spread(other, orbit, solar_constant_wm2=solar_constant_wm2)
         differences[f"{name} - {chosen}"] = {
             **{key: float(value) for key, value in diff.items()},
             "insolation": [
@@ -131,7 +141,7 @@ def compare(years_from_1950: float, chosen: str = "berger1978",
         }
     return {
         "chosen": chosen,
-        "solutions": {name: orbit.as_record() for name, orbit in orbits.items()},
+        "solutions": {name: o.as_record() for name, o in orbits.items()},
         "differences": differences,
         "not_compared": not_compared,
     }

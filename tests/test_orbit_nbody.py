@@ -223,3 +223,50 @@ def test_cli_option_errors(run_cli):
     assert status == 2 and "--compare prints text or json" in err
     status, _, err = run_cli(["orbit", "2100CE", "--solution", "nbody"])
     assert status == 2 and "use berger1978 for later epochs" in err
+
+
+# --- the spread between solutions in a build ---------------------------------------------------
+BUILD_SPEC = """\
+experiment:
+  name: lig_spread
+  description: invented scenario for the test
+epoch: 127ka
+orbit:
+  solution: berger1978
+products: [solar_constant]
+"""
+
+
+def test_a_berger_build_states_its_difference_from_the_modern_solution(tmp_path, run_cli):
+    import json
+
+    from bcgen.orbit import berger1978
+
+    spec = tmp_path / "s.yaml"
+    spec.write_text(BUILD_SPEC)
+    status, out, _ = run_cli(["build", spec, "-o", tmp_path / "out"])
+    assert status == 0
+    assert "orbit spread nbody - berger1978" in out
+    manifest = json.loads((tmp_path / "out" / "lig_spread_manifest.json").read_text())
+    diff = manifest["orbit_spread"]["differences"]["nbody - berger1978"]
+    t = -127_000.0
+    assert diff["eccentricity"] == pytest.approx(
+        float(nbody.solve(t).eccentricity - berger1978.solve(t).eccentricity), abs=1e-12)
+    assert [q["latitude_deg"] for q in diff["insolation"]] == [65.0, 0.0, -65.0]
+    assert all(q["max_abs_daily_wm2"] > 0 for q in diff["insolation"])
+
+
+def test_insolation_spread_against_the_polar_annual_mean():
+    # Analytic result: annual-mean insolation at a pole is S0 sin(ε) / (π √(1 − e²)),
+    # independent of ϖ (Berger, Loutre & Yin 2010, from memory; published-values §4.2).
+    from bcgen.orbit import OrbitalElements
+    from bcgen.spread import insolation_spread
+
+    a = OrbitalElements(0.04, 24.0, 275.0)
+    b = OrbitalElements(0.01, 22.5, 10.0)
+    s0 = 1360.747
+    spread = insolation_spread(a, b, latitudes_deg=(90.0,), solar_constant_wm2=s0,
+                               n_longitudes=3600)
+    expected = s0 / np.pi * (np.sin(np.radians(24.0)) / np.sqrt(1 - 0.04**2)
+                             - np.sin(np.radians(22.5)) / np.sqrt(1 - 0.01**2))
+    assert spread["annual_mean_wm2"][0] == pytest.approx(expected, abs=0.05)

@@ -40,3 +40,55 @@ def test_refusals():
         gough_solar_constant_wm2(1361.0, -5e9)
     with pytest.raises(InsolationError, match="positive number of W m-2"):
         gough_solar_constant_wm2(-1.0, -50e6)
+
+
+SPEC = """\
+experiment:
+  name: deep_sun
+  description: invented deep-time scenario for the test
+epoch: {epoch}
+orbit:
+  solution: fixed
+  eccentricity: 0.0167
+  obliquity_deg: 23.44
+  perihelion_deg: 102.0
+  perihelion_convention: perihelion_longitude
+solar_constant_wm2: 1361.0
+{scaling}products: [solar_constant]
+"""
+
+
+@pytest.mark.parametrize("age_years", sorted(HAND_WORKED_RATIO))
+def test_spec_option_scales_the_spec_s0_and_reports_its_source(tmp_path, run_cli, age_years):
+    import json
+
+    spec = tmp_path / "deep.yaml"
+    spec.write_text(SPEC.format(epoch=f"{age_years / 1e6:g}Ma",
+                                scaling="solar_constant_scaling: gough1981\n"))
+    status, out, _ = run_cli(["build", spec, "-o", tmp_path / "out"])
+    assert status == 0
+    manifest = json.loads((tmp_path / "out" / "deep_sun_manifest.json").read_text())
+    expected = 1361.0 * HAND_WORKED_RATIO[age_years]
+    assert manifest["solar_constant_wm2"] == pytest.approx(expected, abs=1361.0 * HAND_ROUNDING)
+    record = manifest["solar_constant"]
+    assert record["scaling"] == "gough1981" and record["given_wm2"] == 1361.0
+    assert "Gough" in record["reference"]
+    assert "scaled from 1361.0 W m-2" in out and "Solar Physics 74" in out
+
+
+def test_spec_without_the_option_keeps_s0(tmp_path, run_cli):
+    import json
+
+    spec = tmp_path / "deep.yaml"
+    spec.write_text(SPEC.format(epoch="94Ma", scaling=""))
+    assert run_cli(["build", spec, "-o", tmp_path / "out"])[0] == 0
+    manifest = json.loads((tmp_path / "out" / "deep_sun_manifest.json").read_text())
+    assert manifest["solar_constant_wm2"] == 1361.0
+    assert manifest["solar_constant"] == {"value_wm2": 1361.0, "scaling": "none"}
+
+
+def test_spec_option_refuses_unknown_scalings(tmp_path, run_cli):
+    spec = tmp_path / "deep.yaml"
+    spec.write_text(SPEC.format(epoch="94Ma", scaling="solar_constant_scaling: faint\n"))
+    status, _, err = run_cli(["build", spec, "-o", tmp_path / "out"])
+    assert status == 2 and "solar_constant_scaling" in err and "gough1981" in err

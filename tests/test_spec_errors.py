@@ -143,9 +143,9 @@ CASES = [
         "unknown_top_key",
         v("epoch: 6ka", "epoc: 6ka"),
         "bad.yaml:3:1: epoc: unknown key; expected one of experiment, epoch, transient, orbit, "
-        "solar_constant_wm2, greenhouse_gases, calendar, grid, insolation, products, "
-        "timestep_table, templates, attribute_templates, geography, output, attributes "
-        "(did you mean 'epoch'?)",
+        "solar_constant_wm2, solar_constant_scaling, greenhouse_gases, calendar, grid, "
+        "insolation, products, timestep_table, templates, attribute_templates, geography, "
+        "output, attributes (did you mean 'epoch'?)",
     ),
     (
         "unknown_calendar_key",

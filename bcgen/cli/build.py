@@ -77,6 +77,8 @@ def summarize(result) -> dict:
         "epoch": spec.epoch,
         "orbit": o.as_record(),
         "solar_constant_wm2": spec.solar_constant_wm2,
+        "solar_constant": ctx.solar_constant_record,
+        "orbit_spread": ctx.orbit_spread,
         "greenhouse_gases": {g.name: {"value": g.value, "units": g.units}
                              for g in spec.greenhouse_gases},
         "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_in_words},
@@ -86,6 +88,21 @@ def summarize(result) -> dict:
              "tolerance": c.tolerance, "agrees": c.agrees} for c in result.orbit_checks],
     })
     return summary
+
+
+def _spread_lines(spread: dict | None) -> list[str]:
+    """The spread between orbital solutions, one line per other solution."""
+    lines = []
+    for name, d in ((spread or {}).get("differences") or {}).items():
+        wm2 = ", ".join(f"{q['max_abs_daily_wm2']:.1f} at {q['latitude_deg']:+g}"
+                        for q in d["insolation"])
+        lines.append(f"  orbit spread {name}: e {d['eccentricity']:+.6f}, obliquity "
+                     f"{d['obliquity_deg']:+.4f} deg, perihelion "
+                     f"{d['perihelion_longitude_deg']:+.3f} deg; daily insolation differs by "
+                     f"up to {wm2} deg latitude (W m-2)")
+    for name, why in ((spread or {}).get("not_compared") or {}).items():
+        lines.append(f"  orbit spread: {name} not compared ({why})")
+    return lines
 
 
 def _count(n, noun: str) -> str:
@@ -115,6 +132,11 @@ def format_summary(s: dict) -> str:
             f"insolation: {s['global_annual_mean_insolation_wm2']:.4f} W m-2",
             f"  calendar: {s['calendar']['name']}, {s['calendar']['anchor']}",
         ]
+        scaling = s.get("solar_constant") or {}
+        if scaling.get("given_wm2") is not None:
+            lines.append(f"  solar constant scaled from {scaling['given_wm2']} W m-2 (today's "
+                         f"Sun) to the epoch: {scaling['reference']}")
+        lines += _spread_lines(s.get("orbit_spread"))
         if s["greenhouse_gases"]:
             gases = ", ".join(f"{k.upper()} {v['value']:g} {v['units']}"
                               for k, v in s["greenhouse_gases"].items())

@@ -219,6 +219,25 @@ def solve(years_from_1950, *, dynamical_ellipticity: float = 1.0,
 # --- beyond the table: integration on the fly, cached on disk ---------------------------
 
 
+def needs_integration(years_from_1950) -> bool:
+    """Whether :func:`solve` would integrate for these epochs (beyond the table and cache)."""
+    t = np.asarray(years_from_1950, dtype=float)
+    if t.size == 0:
+        return False
+    source = table_source()
+    table = _table(source)
+    oldest = float(np.min(t))
+    if oldest >= table.last_epoch or -oldest > LIMIT_PAST_YEARS:
+        return False
+    path = _extension_path(source)
+    if not path.exists():
+        return True
+    with np.load(path) as saved:
+        cached = len(saved["ecc_vector"])
+    return cached < _extension_rows(table, oldest)
+
+
+
 def _extension_path(source: str) -> Path:
     raw = _raw(source)
     key = hashlib.sha256(raw["end_state"].tobytes() + raw["end_spin"].tobytes()).hexdigest()

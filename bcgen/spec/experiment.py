@@ -76,7 +76,13 @@ class ExperimentSpec:
     orbit, calendar, insolation, output : section dataclasses
         With their defaults when the spec leaves them out.
     solar_constant_wm2 : float
-        Total solar irradiance at 1 au, W m-2.
+        Total solar irradiance at 1 au, W m-2, at the epoch: the value given, or with
+        ``solar_constant_scaling: gough1981`` that value scaled to the epoch (a
+        transient run: its start epoch) by :func:`bcgen.solar_evolution.gough_solar_constant_wm2`.
+    solar_constant_scaling : str
+        ``none`` or ``gough1981`` (:data:`bcgen.spec.schema.SOLAR_CONSTANT_SCALINGS`).
+    solar_constant_given_wm2 : float or None
+        The value the spec gave (today's Sun) when it was scaled; set on creation.
     greenhouse_gases : tuple of GasSpec
         In the order of the spec.
     grid, timestep_table : section dataclasses or None
@@ -101,6 +107,8 @@ class ExperimentSpec:
     transient: TransientSpec | None = None
     orbit: OrbitSpec = field(default_factory=OrbitSpec)
     solar_constant_wm2: float = S.DEFAULT_SOLAR_CONSTANT_WM2
+    solar_constant_scaling: str = "none"
+    solar_constant_given_wm2: float | None = None
     greenhouse_gases: tuple[GasSpec, ...] = ()
     calendar: CalendarSpec = field(default_factory=CalendarSpec)
     grid: GridSpec | None = None
@@ -133,6 +141,7 @@ class ExperimentSpec:
             what="an irradiance in W m-2",
         )
         _warn_if_implausible("solar_constant_wm2", self.solar_constant_wm2, "W m-2")
+        self._scale_solar_constant()
         for gas in self.greenhouse_gases:
             if gas.name in PLAUSIBLE_RANGES:
                 factor, unit = {"co2": (1e6, "ppm")}.get(gas.name, (1e9, "ppb"))
@@ -153,6 +162,25 @@ class ExperimentSpec:
                         f"day {day} is past the end "
                         f"of the {self.calendar.name} year ({length} days)",
                     )
+
+    def _scale_solar_constant(self) -> None:
+        check_choice("solar_constant_scaling", self.solar_constant_scaling,
+                     S.SOLAR_CONSTANT_SCALINGS, "solar constant scaling")
+        if self.solar_constant_scaling == "none":
+            return
+        from bcgen.solar_evolution import gough_solar_constant_wm2
+
+        given = self.solar_constant_given_wm2
+        if given is None:  # (a copy made with dataclasses.replace keeps the given value)
+            given = self.solar_constant_wm2
+        epoch = (parse_epoch(self.epoch) if self.epoch is not None
+                 else self.transient.start_years_from_1950)
+        try:
+            scaled = gough_solar_constant_wm2(given, epoch)
+        except BcgenError as exc:
+            raise FieldError("solar_constant_scaling", str(exc)) from None
+        object.__setattr__(self, "solar_constant_given_wm2", float(given))
+        object.__setattr__(self, "solar_constant_wm2", float(scaled))
 
     # --- checks ------------------------------------------------------------------------------
     def _check_kind_of_run(self) -> None:

@@ -366,6 +366,7 @@ def _build(values: Mapping, reader: _Reader, path: Path | None, text: str) -> Ex
         transient=TransientSpec(**values["transient"]) if "transient" in values else None,
         orbit=OrbitSpec(**orbit),
         solar_constant_wm2=float(values.get("solar_constant_wm2", S.DEFAULT_SOLAR_CONSTANT_WM2)),
+        solar_constant_scaling=values.get("solar_constant_scaling", "none"),
         greenhouse_gases=gases,
         calendar=CalendarSpec(**values.get("calendar", {})),
         grid=grid,

@@ -164,6 +164,8 @@ GASES = {
 }
 #: Ways to interpolate a greenhouse-gas table between its ages.
 GAS_INTERPOLATIONS = ("linear", "nearest")
+#: How ``solar_constant_wm2`` is scaled to the epoch (``none``: used as given).
+SOLAR_CONSTANT_SCALINGS = ("none", "gough1981")
 #: Global attributes that bcgen writes itself and a spec may not set.
 RESERVED_ATTRIBUTES = (
     "Conventions",
@@ -372,8 +374,9 @@ SCHEMA: Mapping[str, Key] = _map(
         keys=_map(
             solution=Key(
                 "choice",
-                "berger1978 (the series of Berger 1978), table (interpolated "
-                "from `table`) or fixed (explicit values)",
+                "berger1978 (the series of Berger 1978), nbody (bcgen's integration "
+                "of the planets from DE421), table (interpolated from `table`) or fixed "
+                "(explicit values)",
                 default=DEFAULT_SOLUTION,
                 choices=tuple(SOLUTIONS),
                 noun="orbital solution",
@@ -415,6 +418,15 @@ SCHEMA: Mapping[str, Key] = _map(
         minimum=0,
         maximum=5000,
         exclusive_minimum=True,
+    ),
+    solar_constant_scaling=Key(
+        "choice",
+        "gough1981 scales solar_constant_wm2 (today's Sun) to the epoch for the Sun's "
+        "evolution, S0 / (1 + 0.4 age / 4.57 Gyr) (Gough 1981, Solar Physics 74, 21; a "
+        "transient run takes its start epoch); none uses it as given",
+        default="none",
+        choices=SOLAR_CONSTANT_SCALINGS,
+        noun="solar constant scaling",
     ),
     greenhouse_gases=Key(
         "mapping",

@@ -143,6 +143,8 @@ def _write_manifest(path: Path, ctx: BuildContext, result: BuildResult, force: b
         "created": ctx.created.strftime("%Y-%m-%dT%H:%M:%SZ"),
         "orbit": o.as_record(),
         "solar_constant_wm2": ctx.spec.solar_constant_wm2,
+        "solar_constant": ctx.solar_constant_record,
+        "orbit_spread": ctx.orbit_spread,
         "calendar": {"name": ctx.calendar.name, "anchor": ctx.anchor_in_words},
         "files": result.files,
     }
