@@ -91,7 +91,7 @@ def summarize(result) -> dict:
 
 
 def _spread_lines(spread: dict | None) -> list[str]:
-    """The spread between orbital solutions, one line per other solution."""
+    """Format the spread between orbital solutions, one line per other solution."""
     lines = []
     for name, d in ((spread or {}).get("differences") or {}).items():
         wm2 = ", ".join(f"{q['max_abs_daily_wm2']:.1f} at {q['latitude_deg']:+g}"
