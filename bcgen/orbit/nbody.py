@@ -14,7 +14,7 @@ years (``bcgen/data/nbody/``), made by ``python -m bcgen.orbit.nbody_generate``
 from the same code; reading it needs only numpy. Between rows e and ε are
 interpolated linearly and ϖ through (e sin ϖ, e cos ϖ), as for a user's table.
 Further back, the integration goes on from the table's last state on first use
-(about 2 minutes per Myr on one core, with ``pip install 'bcgen[nbody]'``) and
+(about 3 minutes of CPU per Myr, with ``pip install 'bcgen[nbody]'``) and
 is kept in a cache on disk (``$BCGEN_CACHE_DIR``, default ``~/.cache/bcgen``).
 
 Validity: from 2050 CE back to 10 Myr BP. Beyond 10 Myr an

@@ -17,8 +17,9 @@ Model
   reduced mass at the Moon's distance, that is J2 = μ′(1 + 3/2 e_M²)(1 − 3/2
   sin² i_M)/2 with μ′ = m_E m_M/(m_E + m_M)² and radius a_M, about the pole of
   the J2000 ecliptic (REBOUNDx ``gravitational_harmonics``). Without it the
-  point-mass EMB drifts 16″ from DE421 in 100 years and its perihelion turns
-  about 0.08″/yr too slowly (twice the relativistic advance); with it the drift
+  point-mass EMB drifts 15″ from DE421 in 100 years (with the full relativistic
+  equations), and its perihelion would turn slower by an estimated 0.08″/yr
+  (about (3/2) J2 (a_M/a)² n, twice the relativistic advance); with it the drift
   is 0.4″ (see the tests). The Moon's large effect on the Earth's spin (two
   thirds of the lunisolar precession) is in :mod:`bcgen.orbit.precession`.
 - General relativity: the post-Newtonian force of the Sun on each planet of
