@@ -90,17 +90,15 @@ def test_generate_resumes_from_its_checkpoint(tmp_path, monkeypatch):
 
 # --- beyond the table: on the fly, cached on disk ----------------------------------------------
 def truncated_table(tmp_path, n_rows=501):
-    """The bundled table cut after its first chunk, as if it ended at 50 ka."""
+    """The bundled table cut after its first chunk, as if the run had stopped at 49.9 ka."""
     raw = nbody.raw_table()
-    cut = {name: raw[name] for name in raw}
-    for name in ("eccentricity", "obliquity_deg", "e_sin_varpi", "e_cos_varpi", "ecc_vector",
-                 "orbit_normal"):
-        cut[name] = raw[name][:n_rows]
-    cut["chunk_first_row"], cut["chunk_state"] = raw["chunk_first_row"][:1], raw["chunk_state"][:1]
-    cut["chunk_spin"] = raw["chunk_spin"][:1]
-    cut["end_state"], cut["end_spin"] = raw["chunk_state"][1], raw["chunk_spin"][1]
+    cut = {name: raw[name] for name in ("first_epoch_years_from_1950", "step_years",
+                                        "time_step_days", "samples_per_row", "software")}
+    cut.update(ecc_vector=raw["ecc_vector"][:n_rows], orbit_normal=raw["orbit_normal"][:n_rows],
+               chunk_first_row=raw["chunk_first_row"][:1], chunk_state=raw["chunk_state"][:1],
+               end_state=raw["chunk_state"][1])  # chunk 1 starts where row 500 ends
     path = tmp_path / "cut.npz"
-    nbody_generate.save_atomic(path, cut)
+    nbody_generate.save_atomic(path, nbody_generate.with_elements(cut))
     return path
 
 
@@ -174,7 +172,8 @@ def test_limits_and_warnings():
 def test_beyond_the_stated_validity_warns(monkeypatch):
     # Beyond 10 Myr the integration would take minutes; a stand-in extension shows the warning.
     table = nbody._table(nbody.table_source())
-    monkeypatch.setattr(nbody, "_extended", lambda source, n: table)
+    stand_in = nbody.Table(table.first_epoch, 3 * table.step_years, table.columns)  # 15 Myr
+    monkeypatch.setattr(nbody, "_extended", lambda source, n: stand_in)
     with pytest.warns(OutsideValidityWarning, match="beyond 10 Myr BP"):
         nbody.solve(-10.5e6)
 
