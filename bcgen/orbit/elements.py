@@ -97,9 +97,13 @@ def convert_perihelion(
 def wrap_angle(angle, full_turn: float = 360.0) -> np.ndarray:
     """Reduce angles to [0, full_turn), also for tiny negative inputs.
 
-    ``np.mod(-1e-17, 360.0)`` rounds to 360.0; this returns 0.0 instead.
+    ``np.mod(-1e-17, 360.0)`` rounds to 360.0; this returns 0.0 instead. Angles already
+    in range are returned as a copy without the (slow) floating-point modulo.
     """
-    out = np.mod(angle, full_turn)
+    values = np.asarray(angle, dtype=float)
+    if np.all((values >= 0.0) & (values < full_turn)):
+        return values.copy()
+    out = np.mod(values, full_turn)
     return np.where(out >= full_turn, 0.0, out)
 
 

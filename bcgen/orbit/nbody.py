@@ -132,17 +132,21 @@ def interpolate(table: Table, years_from_1950) -> OrbitalElements:
     """Elements at the epochs, linear between rows (ϖ through its components)."""
     t = np.asarray(years_from_1950, dtype=float)
     x = (t - table.first_epoch) * (1.0 / table.step_years)
-    i = np.clip(np.floor(x), 0, table.n_rows - 2).astype(np.intp)
-    w = x - i
+    i = x.astype(np.intp)  # truncation: the row before t (x >= 0 inside the table)
+    np.clip(i, 0, table.n_rows - 2, out=i)
+    x -= i  # the weight of the next row
     cols = table.columns
 
     def lerp(name):
         v = cols[name]
-        lo = v[i]
-        return lo + w * (v[i + 1] - lo)
+        lo = np.take(v, i)
+        lo += x * (np.take(v[1:], i) - lo)
+        return lo
 
+    e, eps = lerp("eccentricity"), lerp("obliquity_deg")
     varpi_deg = np.degrees(np.arctan2(lerp("e_sin_varpi"), lerp("e_cos_varpi")))
-    return OrbitalElements(lerp("eccentricity"), lerp("obliquity_deg"), varpi_deg, t, NAME)
+    varpi_deg += np.where(varpi_deg < 0.0, 360.0, 0.0)  # into [0, 360) before validation
+    return OrbitalElements(e, eps, varpi_deg, t, NAME)
 
 
 def solve(years_from_1950, *, dynamical_ellipticity: float = 1.0,
