@@ -131,7 +131,7 @@ def cache_dir() -> Path:
 def interpolate(table: Table, years_from_1950) -> OrbitalElements:
     """Elements at the epochs, linear between rows (ϖ through its components)."""
     t = np.asarray(years_from_1950, dtype=float)
-    x = (t - table.first_epoch) * (1.0 / table.step_years)
+    x = np.asarray((t - table.first_epoch) * (1.0 / table.step_years))  # (0-d too)
     i = x.astype(np.intp)  # truncation: the row before t (x >= 0 inside the table)
     np.clip(i, 0, table.n_rows - 2, out=i)
     x -= i  # the weight of the next row
