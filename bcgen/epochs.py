@@ -11,7 +11,7 @@ form               example                        years from 1950 CE
 kilo-years BP      ``6ka``, ``6 ka BP``           -6000
 mega-years BP      ``3.2Ma``                      -3 200 000
 years BP           ``21000 BP``, ``500 yr BP``    -21000, -500
-years CE / AD      ``1850CE``, ``1850 AD``        -100
+years CE / AD      ``1850CE``, ``1850.5 AD``      -100, -99.5
 years BCE / BC     ``4050 BCE``                   -5999
 =================  =============================  ====================
 
@@ -20,7 +20,8 @@ as a bare number (1850 CE? 1850 BP?), and is refused as an epoch; with ``BP``
 (``500 yr BP``) it is an age. Epochs beyond :data:`MAX_EPOCH_YEARS` (10⁹
 years, about a quarter of the age of the Earth) from 1950 CE are refused.
 
-CE/BCE years follow historical reckoning, which has no year 0: 1 BCE is
+CE years may be decimal years (``2000.5CE`` is the middle of 2000 CE); BCE years are
+whole. CE/BCE years follow historical reckoning, which has no year 0: 1 BCE is
 followed by 1 CE, so ``N BCE`` is the astronomical year ``1 - N`` and lies
 ``N + 1949`` years before 1950 CE (``4050 BCE`` = 5999 BP; 6000 BP is 4051 BCE).
 
@@ -110,10 +111,12 @@ def parse_epoch(text: str) -> float:
         if value < 0:
             raise _fail(text, "an age before present cannot be negative; write a CE year instead")
         years = -value * _DURATION_SCALE.get(unit, 1.0) + 0.0  # + 0.0: no -0.0
-    elif value != int(value) or value < 1:
-        raise _fail(text, "CE and BCE years are whole numbers from 1 (there is no year 0)")
     elif unit in ("ce", "ad"):
-        years = value - 1950.0
+        if value < 1:
+            raise _fail(text, "CE years start at 1 (there is no year 0)")
+        years = value - 1950.0  # a decimal year (2000.5CE) is a fraction of a year
+    elif value != int(value) or value < 1:
+        raise _fail(text, "BCE years are whole numbers from 1 (there is no year 0)")
     else:
         # BCE / BC: historical N BCE is astronomical year 1 - N.
         years = (1.0 - value) - 1950.0
@@ -177,21 +180,59 @@ def format_epoch(years_from_1950: float, style: EpochStyle = "auto") -> str:
     Returns
     -------
     str
-        A string that :func:`parse_epoch` reads back to the same value (except
-        for fractional years after 1950 CE, written like ``2000.5CE``).
+        A string that :func:`parse_epoch` reads back to the same value (a decimal
+        CE year such as ``2000.5CE`` for fractional years after 1950 CE).
+
+    Raises
+    ------
+    EpochError
+        For a value that is not a finite number of years within
+        :data:`MAX_EPOCH_YEARS` of 1950 CE.
     """
-    t = float(years_from_1950)
+    t = _epoch_number(years_from_1950)
     whole = t == round(t)
     if style == "auto":
         style = "ka" if t <= 0 and t % 1000 == 0 else "ce" if whole and t > -1950 else "bp"
     if t > 0 or (style == "ce" and whole):
         if not whole:
-            return f"{t + 1950:.12g}CE"
+            return _decimal_ce(t)
         year = int(round(t)) + 1950  # astronomical numbering: year 0 is 1 BCE
         return f"{year}CE" if year >= 1 else f"{1 - year} BCE"
     if style == "ka":
-        return f"{-t / 1000 + 0.0:.12g}ka"
-    return f"{-t + 0.0:.12g} BP"
+        return _shortest(-t / 1000 + 0.0, lambda v: -v * 1000.0 + 0.0, t) + "ka"
+    return _shortest(-t + 0.0, lambda v: -v + 0.0, t) + " BP"
+
+
+def _epoch_number(years_from_1950) -> float:
+    if isinstance(years_from_1950, (str, bytes, bool)) or years_from_1950 is None:
+        raise EpochError(f"an epoch in years from 1950 CE must be a number; got "
+                         f"{years_from_1950!r} (parse text with parse_epoch)")
+    try:
+        t = float(years_from_1950)
+    except (TypeError, ValueError):
+        raise EpochError(f"an epoch in years from 1950 CE must be a number; got "
+                         f"{years_from_1950!r}") from None
+    if not abs(t) <= MAX_EPOCH_YEARS:
+        raise EpochError(f"an epoch must be a finite number of years within "
+                         f"{MAX_EPOCH_YEARS:,.0f} of 1950 CE; got {t:g}")
+    return t + 0.0
+
+
+def _shortest(value: float, back, target: float) -> str:
+    """Write ``value`` in 12 digits if that reads back to ``target``, else exactly."""
+    text = f"{value:.12g}"
+    return text if back(float(text)) == target else repr(value)
+
+
+def _decimal_ce(t: float) -> str:
+    """Write ``t`` as a decimal CE year that :func:`parse_epoch` reads back to ``t``."""
+    year = t + 1950.0
+    for candidate in (year, *np.nextafter(year, [np.inf, -np.inf]),
+                      *np.nextafter(np.nextafter(year, [np.inf, -np.inf]), [np.inf, -np.inf])):
+        for text in (f"{float(candidate):.12g}", repr(float(candidate))):
+            if float(text) - 1950.0 == t:
+                return f"{text}CE"
+    return f"{year!r}CE"  # within one unit in the last place (cannot be made exact)
 
 
 def epoch_labels(text: str) -> list[str]:

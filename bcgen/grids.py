@@ -397,14 +397,12 @@ def grid_from_file(path, lat_name: str | None = None, lon_name: str | None = Non
         lon = _find_axis(
             ds, path, "longitude", LONGITUDE_UNITS, lon_name, "lon_name", required=False
         )
-        lat_v = np.asarray(ds[lat].values, dtype=float)
-        lat_b = _file_bounds(ds, lat)
+        lat_v, lat_b = _axis_in_degrees(ds, path, lat, "latitude")
         if lon is None:
             if lat_v.ndim != 1:
                 raise GridError(f"grid file {path}: 2-D latitude {lat!r} needs a longitude")
             return _checked(path, lambda: _from_1d_lat(lat_v, lat_b, (ds[lat].dims[0],)))
-        lon_v = np.asarray(ds[lon].values, dtype=float)
-        lon_b = _file_bounds(ds, lon)
+        lon_v, lon_b = _axis_in_degrees(ds, path, lon, "longitude")
         name = f"from file {os.path.basename(path)} ({lat}, {lon})"
         if lat_v.ndim == 1 and lon_v.ndim == 1:
             if ds[lat].dims == ds[lon].dims:
@@ -616,6 +614,27 @@ def _find_axis(ds, path, standard_name, units_set, explicit, option, required=Tr
 
 
 _UNITS = {"latitude": "degrees_north", "longitude": "degrees_east"}
+
+
+def _axis_in_degrees(ds, path, name: str, kind: str):
+    """Values and bounds of a latitude or longitude axis, in degrees from their CF units.
+
+    The units are read from the file and converted (:func:`bcgen.units.angle_to_degrees`);
+    bounds share their coordinate's units (CF 1.11 §7.1). An axis without values is refused.
+    """
+    from bcgen.units import angle_to_degrees
+
+    where = f"grid file {path}: {kind} {name!r}"
+    if ds[name].size == 0:
+        raise GridError(f"{where} has no values (a dimension of length 0); expected at least "
+                        "one latitude")
+    units = ds[name].attrs.get("units")
+    values = angle_to_degrees(ds[name].values, units, where=where, kind=kind, error=GridError)
+    bounds = _file_bounds(ds, name)
+    if bounds is not None:
+        bounds = angle_to_degrees(bounds, units, where=f"{where} bounds", kind=kind,
+                                  error=GridError)
+    return values, bounds
 
 
 def _file_bounds(ds, name: str) -> np.ndarray | None:

@@ -487,7 +487,7 @@ def test_bundled_template_names_are_the_shipped_ones():
     ("line", "key"),
     [
         ("solar_constant_wm2: 1.361", "solar_constant_wm2"),  # kW m-2 instead of W m-2
-        ("greenhouse_gases: {co2: {value: 280, units: ppb}}", "greenhouse_gases.co2"),  # ppb
+        ("greenhouse_gases: {co2: {value: 50, units: ppm}}", "greenhouse_gases.co2"),  # low
         ("greenhouse_gases: {ch4: {value: 0.7, units: ppm}}", None),  # 700 ppb: plausible
     ],
 )

@@ -3,10 +3,10 @@
 from __future__ import annotations
 
 import argparse
-import json
 import shlex
 import sys
 
+from bcgen.cli.common import json_text
 from bcgen.errors import CheckFailed
 
 EXAMPLE = """\
@@ -52,7 +52,7 @@ def run(args: argparse.Namespace) -> int:
     result = build(spec, args.output_dir, force=args.force, command=command)
     summary = summarize(result)
     if args.format == "json":
-        print(json.dumps(summary, indent=2))
+        print(json_text(summary))
     elif args.quiet < 1:
         print(format_summary(summary))
     if not result.agrees_with_expected:

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import argparse
+import json
+import math
 
 from bcgen.epochs import EPOCH_FORMS, parse_epoch
 from bcgen.errors import CalendarError, EpochError
@@ -118,3 +120,25 @@ def describe_orbit(orbit: OrbitalElements) -> str:
         f"equinox; the Sun's true longitude at perihelion is "
         f"{float(orbit.sun_longitude_at_perihelion_deg):.4f} deg)"
     )
+
+
+def _finite_or_null(value):
+    """Replace NaN and infinities by None (JSON null), recursively."""
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    if isinstance(value, dict):
+        return {k: _finite_or_null(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_finite_or_null(v) for v in value]
+    if hasattr(value, "item") and hasattr(value, "dtype"):  # a numpy scalar
+        return _finite_or_null(value.item())
+    return value
+
+
+def json_text(obj) -> str:
+    """Return ``obj`` as JSON text that any JSON reader accepts (RFC 8259).
+
+    Python's ``json`` writes NaN and infinities as ``NaN``/``Infinity``, which are not
+    JSON; a value that is missing (NaN) is written as ``null`` instead.
+    """
+    return json.dumps(_finite_or_null(obj), indent=2, allow_nan=False)

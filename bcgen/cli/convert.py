@@ -10,9 +10,9 @@ from __future__ import annotations
 
 import argparse
 import contextlib
-import json
 import sys
 
+from bcgen.cli.common import json_text
 from bcgen.errors import BcgenError, CalendarError, OrbitError
 from bcgen.orbit.elements import PERIHELION_CONVENTIONS
 
@@ -179,9 +179,15 @@ def run(args) -> int:
     """Open, convert and write."""
     from bcgen.convert.api import to_fixed_angle_months, to_fixed_day_months
     from bcgen.convert.io import open_inputs, write_output
+    from bcgen.io.paths import refuse_outputs_among_inputs
 
-    if not 0.0 < args.min_valid_fraction <= 1.0:
-        raise BcgenError(f"--min-valid-fraction must be in (0, 1]; got {args.min_valid_fraction}")
+    refuse_outputs_among_inputs(
+        [(f"-o {args.output}", args.output)],
+        [(f"input {p}", p) for p in args.inputs]
+        + ([(f"--spec {args.spec}", args.spec)] if args.spec else []))
+    from bcgen.arguments import fraction
+
+    fraction(args.min_valid_fraction, "--min-valid-fraction")
     cyclic = {"auto": None, "climatology": True, "series": False}[args.cycle]
     if args.to == "fixed-angle":
         orbit, reference, anchor, calendar = _orbit_and_calendar(args)
@@ -217,7 +223,7 @@ def run(args) -> int:
              if dim in v.dims and k != out[dim].attrs.get("bounds")
              and k != out[dim].attrs.get("climatology")]
     if args.format == "json":
-        print(json.dumps(_report(args, path, out, dim, names), indent=2))
+        print(json_text(_report(args, path, out, dim, names)))
     elif not args.quiet:
         print(f"wrote {path}: {out.sizes[dim]} {args.to} months of {', '.join(names)} "
               f"({out.attrs.get('month_conversion_method')})")

@@ -11,11 +11,9 @@ daily method used.
 from __future__ import annotations
 
 import argparse
-import json
 import textwrap
 
-import numpy as np
-
+from bcgen import arguments
 from bcgen.cli.common import (
     EPOCH_SOLUTION,
     EPOCH_SOLUTION_HELP,
@@ -25,6 +23,7 @@ from bcgen.cli.common import (
     calendar_from_args,
     check_model_year,
     describe_orbit,
+    json_text,
     orbit_for_epoch,
 )
 from bcgen.insolation import (
@@ -119,15 +118,9 @@ def compute(args) -> tuple[dict, OrbitalElements, ModelCalendar]:
             "--daily-method applies to --months fixed-day only (fixed-angle months are exact "
             "time means)"
         )
-    if not np.isfinite(args.solar_constant) or args.solar_constant <= 0:
-        raise InsolationError(
-            f"--solar-constant: expected a positive number of W m-2; got {args.solar_constant:g}"
-        )
-    latitudes = np.asarray(args.lat, dtype=float)
-    outside = ~(np.abs(latitudes) <= 90)  # NaN compares False, so it counts as outside
-    if np.any(outside):
-        bad = ", ".join(f"{v:g}" for v in latitudes[outside])
-        raise InsolationError(f"--lat: latitudes must be in [-90, 90] degrees north; got {bad}")
+    # The API's checks, under the options' names (bcgen.arguments: one rule for both).
+    arguments.solar_constant_wm2(args.solar_constant, "--solar-constant")
+    latitudes = arguments.latitudes_deg(args.lat, "--lat")
     calendar = calendar_from_args(args)
     check_model_year(calendar, args)
     orbit = orbit_for_epoch(args.epoch, "EPOCH", "insolation")
@@ -199,7 +192,7 @@ def run(args) -> int:
     """Compute and print the monthly means."""
     record, orbit, calendar = compute(args)
     if args.format == "json":
-        print(json.dumps(record, indent=2))
+        print(json_text(record))
         return 0
     calendar_line = (f"{calendar.describe()}; model year {args.year} "
                      f"({calendar.year_length_days(args.year):g} days), anchor at day "

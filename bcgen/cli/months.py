@@ -8,7 +8,6 @@ of the month and the calendar's fixed-day month for comparison.
 from __future__ import annotations
 
 import argparse
-import json
 import textwrap
 
 from bcgen.cli.common import (
@@ -19,6 +18,7 @@ from bcgen.cli.common import (
     calendar_from_args,
     check_model_year,
     describe_orbit,
+    json_text,
     orbit_for_epoch,
 )
 from bcgen.solar_calendar.months import MonthTable, fixed_angle_months
@@ -111,7 +111,7 @@ def run(args) -> int:
     reference = orbit_for_epoch(args.reference, "--reference", "months")
     table = fixed_angle_months(orbit, calendar, reference=reference, year=args.year)
     if args.format == "json":
-        print(json.dumps(table.to_records(), indent=2))
+        print(json_text(table.to_records()))
         return 0
     epoch = float(orbit.years_from_1950) if orbit.years_from_1950 is not None else 0.0
     ref_epoch = float(reference.years_from_1950) if reference.years_from_1950 is not None else 0.0

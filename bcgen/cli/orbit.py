@@ -8,12 +8,12 @@ from __future__ import annotations
 
 import argparse
 import csv
-import json
 import sys
 import textwrap
 
 import numpy as np
 
+from bcgen.cli.common import json_text
 from bcgen.epochs import ACCEPTED_FORMS, epoch_labels, parse_epochs
 from bcgen.errors import OrbitError
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS, OrbitalElements, solve
@@ -302,7 +302,7 @@ def run(args: argparse.Namespace) -> int:
         raise OrbitError(name_fixed_option(str(exc))) from None
     records = rows(labels, elements)
     if args.format == "json":
-        sys.stdout.write(json.dumps(records, indent=2) + "\n")
+        sys.stdout.write(json_text(records) + "\n")
     elif args.format == "csv":
         writer = csv.DictWriter(sys.stdout, fieldnames=COLUMNS, lineterminator="\n")
         writer.writeheader()

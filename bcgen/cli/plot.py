@@ -219,6 +219,12 @@ def run(args: argparse.Namespace) -> int:
     require_matplotlib()
     check_dpi(args.dpi)
     path = check_output(args.output or default_output(args), args.force)
+    from bcgen.io.paths import refuse_outputs_among_inputs
+
+    refuse_outputs_among_inputs([(f"-o {path}", path)],
+                                [(f"{what} {s}", s) for what, s in (("SOURCE", args.source),
+                                                                   ("--reference", args.reference))
+                                 if s and Path(s).exists()])
     figure, description = make_figure(args)
     save_figure(figure, path, force=args.force, dpi=args.dpi)
     if args.format == "json":

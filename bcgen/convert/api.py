@@ -394,6 +394,9 @@ def _ascii(text: str) -> str:
 
 def _convert(ds, axis: TimeAxis, start, end, month, year, *, method, min_valid_fraction,
              attrs, out_cyclic_years) -> xr.Dataset:
+    from bcgen.arguments import fraction
+
+    min_valid_fraction = fraction(min_valid_fraction, "min_valid_fraction")
     dim = axis.dim
     if method not in METHODS:
         raise ConversionError(f"unknown method {method!r}; expected one of {', '.join(METHODS)}")

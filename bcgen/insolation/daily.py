@@ -36,6 +36,7 @@ from typing import Literal
 
 import numpy as np
 
+from bcgen import arguments
 from bcgen.errors import InsolationError
 from bcgen.insolation.quadrature import mapped_gauss_legendre
 from bcgen.orbit.elements import OrbitalElements
@@ -72,25 +73,16 @@ DAY_AVERAGE_NODES = 8
 # --- validation ------------------------------------------------------------------------
 def check_latitude_deg(latitude_deg, name: str = "latitude_deg") -> np.ndarray:
     """Return latitudes as a float array, refusing values outside [-90, 90] degrees."""
-    lat = np.asarray(latitude_deg, dtype=float)
-    if not np.all(np.isfinite(lat)) or np.any(np.abs(lat) > 90.0):
-        bad = lat[~(np.isfinite(lat) & (np.abs(lat) <= 90.0))].ravel()[:3]
-        raise InsolationError(
-            f"{name}: latitudes must be in [-90, 90] degrees north; got "
-            + ", ".join(f"{v:g}" for v in bad)
-        )
-    return lat
+    return arguments.latitudes_deg(latitude_deg, name)
 
 
-def check_solar_constant(solar_constant_wm2) -> np.ndarray:
-    """Return the solar constant as a float array, refusing non-finite or non-positive values."""
-    s0 = np.asarray(solar_constant_wm2, dtype=float)
-    if not np.all(np.isfinite(s0)) or np.any(s0 <= 0):
-        raise InsolationError(
-            f"solar_constant_wm2: the solar constant must be a positive number of W m-2 "
-            f"(CMIP6 piControl: {CMIP6_PICONTROL_SOLAR_CONSTANT_WM2}); got {s0.ravel()[:3]}"
-        )
-    return s0
+def check_solar_constant(solar_constant_wm2, name: str = "solar_constant_wm2") -> np.ndarray:
+    """Return the solar constant as a float array (see :func:`bcgen.arguments.solar_constant_wm2`).
+
+    Refuses non-finite and non-positive values and values above
+    :data:`bcgen.arguments.MAX_SOLAR_CONSTANT_WM2`.
+    """
+    return arguments.solar_constant_wm2(solar_constant_wm2, name)
 
 
 def check_method(method: str) -> str:
@@ -478,10 +470,15 @@ def instantaneous_insolation(
     numpy.ndarray
         W m-2, the numpy broadcast of ``t_days``, the position and the orbit.
     """
-    lat = np.deg2rad(check_latitude_deg(latitude_deg))
-    lon = np.deg2rad(np.asarray(longitude_deg, dtype=float))
+    lat_deg = check_latitude_deg(latitude_deg)
+    lon_deg = arguments.finite_array(longitude_deg, "longitude_deg",
+                                     what="longitudes in degrees east")
     s0 = check_solar_constant(solar_constant_wm2)
-    t = np.asarray(t_days, dtype=float)
+    t = arguments.finite_array(t_days, "t_days", what="model times in days")
+    arguments.broadcast_shapes([("t_days", t), ("latitude_deg", lat_deg),
+                                ("longitude_deg", lon_deg),
+                                ("orbit", np.empty(np.shape(orbit.eccentricity)))])
+    lat, lon = np.deg2rad(lat_deg), np.deg2rad(lon_deg)
     lam = SolarYear(orbit, calendar, year=year).true_longitude_rad(t)
     sin_dec = sin_declination(lam, orbit.obliquity_rad)
     cos_dec = np.sqrt(1.0 - sin_dec * sin_dec)

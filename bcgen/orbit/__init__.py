@@ -65,6 +65,10 @@ def solve(years_from_1950, solution: str = "berger1978", **options) -> OrbitalEl
             f"orbital solution {solution!r} does not take {', '.join(unknown)}; "
             f"it takes {', '.join(accepted) or 'no options'}"
         )
+    if years_from_1950 is not None:
+        from bcgen.arguments import epochs_years
+
+        epochs_years(years_from_1950, error=OrbitError)  # numbers; finite; within 1e9 years
     return module.solve(years_from_1950, **options)
 
 

@@ -138,10 +138,13 @@ class OrbitalElements:
     solution: str = "fixed"
 
     def __post_init__(self) -> None:
-        e = np.asarray(self.eccentricity, dtype=float)
-        eps = np.asarray(self.obliquity_deg, dtype=float)
-        varpi = np.asarray(self.perihelion_longitude_deg, dtype=float)
-        t = None if self.years_from_1950 is None else np.asarray(self.years_from_1950, float)
+        from bcgen import arguments
+
+        e, eps, varpi = (
+            arguments.real_array(getattr(self, name), name, OrbitError, "numbers")
+            for name in ("eccentricity", "obliquity_deg", "perihelion_longitude_deg"))
+        t = None if self.years_from_1950 is None else arguments.epochs_years(
+            self.years_from_1950)
         shapes = [a.shape for a in (e, eps, varpi, t) if a is not None]
         try:
             shape = np.broadcast_shapes(*shapes)

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from bcgen import arguments
 from bcgen.errors import OrbitError
 from bcgen.orbit.elements import PERIHELION_CONVENTIONS, OrbitalElements, convert_perihelion
 
@@ -22,6 +23,7 @@ def solve(
     obliquity_deg: float | None = None,
     perihelion_deg: float | None = None,
     perihelion_convention: str | None = None,
+    idealized: bool = False,
 ) -> OrbitalElements:
     """Orbital elements from explicit values, broadcast to the epochs if any are given.
 
@@ -37,6 +39,9 @@ def solve(
         Longitude of perihelion in degrees, in ``perihelion_convention``.
     perihelion_convention : str
         One of :data:`~bcgen.orbit.elements.PERIHELION_CONVENTIONS` (required).
+    idealized : bool
+        A deliberately non-Earth orbit: an obliquity that looks like radians is let
+        through (:func:`bcgen.arguments.obliquity_deg`).
 
     Raises
     ------
@@ -60,6 +65,7 @@ def solve(
             f"the perihelion convention must be stated as one of "
             f"{', '.join(PERIHELION_CONVENTIONS)}; got {perihelion_convention!r}"
         )
+    obliquity_deg = arguments.obliquity_deg(obliquity_deg, idealized=idealized)
     varpi = convert_perihelion(perihelion_deg, perihelion_convention, "perihelion_longitude")
     t = None if years_from_1950 is None else np.asarray(years_from_1950, dtype=float)
     return OrbitalElements(eccentricity, obliquity_deg, varpi, t, NAME)

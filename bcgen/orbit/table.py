@@ -30,6 +30,7 @@ from pathlib import Path
 
 import numpy as np
 
+from bcgen import arguments
 from bcgen.epochs import format_epoch
 from bcgen.errors import InputFileError, OrbitError
 from bcgen.orbit.elements import OrbitalElements, convert_perihelion
@@ -127,6 +128,10 @@ def load(path) -> OrbitalElements:
     obliquity = cols[oname][order]
     if OBLIQUITY_COLUMNS[oname] == "rad":
         obliquity = np.rad2deg(obliquity)
+    try:  # the rule of every route: a "degree" that looks like radians is refused
+        arguments.obliquity_deg(obliquity, f"column {oname}")
+    except OrbitError as exc:
+        raise InputFileError(f"{path}: {exc}") from None
     conv, unit = PERIHELION_COLUMNS[pname]
     try:
         varpi = convert_perihelion(cols[pname][order], conv, "perihelion_longitude", unit, "deg")

@@ -25,6 +25,7 @@ from types import MappingProxyType
 
 import numpy as np
 
+from bcgen.arguments import gas_mole_fraction
 from bcgen.epochs import format_epoch, parse_epoch
 from bcgen.errors import BcgenError, ImplausibleValueWarning
 from bcgen.orbit import OrbitalElements
@@ -145,6 +146,12 @@ class ExperimentSpec:
         for gas in self.greenhouse_gases:
             if gas.name in PLAUSIBLE_RANGES:
                 factor, unit = {"co2": (1e6, "ppm")}.get(gas.name, (1e9, "ppb"))
+                try:  # far outside: an error (the rule of every route); outside: a warning
+                    gas_mole_fraction(gas.name, gas.mole_fraction,
+                                      f"greenhouse_gases.{gas.name}", gas.units)
+                except BcgenError as exc:
+                    raise FieldError(f"greenhouse_gases.{gas.name}",
+                                     str(exc).split(": ", 1)[1]) from None
                 _warn_if_implausible(f"greenhouse_gases.{gas.name}", gas.mole_fraction * factor,
                                      unit, gas.name)
         self._check_gases()

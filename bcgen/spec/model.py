@@ -264,6 +264,7 @@ class OrbitSpec:
                 obliquity_deg=self.obliquity_deg,
                 perihelion_deg=self.perihelion_deg,
                 perihelion_convention=self.perihelion_convention,
+                idealized=self.idealized,
             )
         if self.solution == "table":
             return solve_orbit(years_from_1950, "table", path=self.table)

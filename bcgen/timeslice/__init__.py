@@ -27,6 +27,7 @@ from bcgen.errors import OutputError
 from bcgen.experiment import BuildResult, manifest_name
 from bcgen.io import prepare_output_folder, sha256_of, write_netcdf, write_text_atomic
 from bcgen.io.lock import FolderLock
+from bcgen.io.paths import refuse_outputs_among_inputs, spec_inputs
 from bcgen.io.staging import make_stage, replace_all, sweep_stale_temporaries
 from bcgen.spec import ExperimentSpec
 from bcgen.timeslice.context import BuildContext
@@ -47,6 +48,8 @@ def build_time_slice(spec: ExperimentSpec, output_dir=None, *, force: bool = Fal
     outputs = make_outputs(ctx)
     manifest_path = directory / manifest_name(spec)
     names = [o.file_name for o in outputs] + [manifest_path.name]
+    refuse_outputs_among_inputs([(str(directory / n), directory / n) for n in names],
+                                spec_inputs(spec))
     result = BuildResult(directory, context=ctx)
     if spec.orbit.expected is not None:
         result.orbit_checks = tuple(spec.orbit.expected.compare(ctx.orbit))

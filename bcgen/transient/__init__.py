@@ -52,6 +52,7 @@ from bcgen.errors import OutputError, SpecError
 from bcgen.experiment import BuildResult, manifest_name
 from bcgen.io import SeriesFile, prepare_output_folder, sha256_of, write_failure
 from bcgen.io.lock import FolderLock
+from bcgen.io.paths import refuse_outputs_among_inputs, spec_inputs
 from bcgen.io.staging import sweep_stale_temporaries
 from bcgen.spec import ExperimentSpec
 from bcgen.transient.gases import GasTable, load_gas_table
@@ -201,6 +202,9 @@ def _build_locked(spec, directory: Path, force: bool, command, progress):
         ctx.prepare(gases=True)  # read and check the table before anything is written
     jobs = plan_files(spec)
     manifest_path = directory / manifest_name(spec)
+    refuse_outputs_among_inputs(
+        [(str(directory / n), directory / n) for n in [j.file_name for j in jobs]
+         + [manifest_path.name]], spec_inputs(spec))
     old = records_by_file(read_manifest(manifest_path, force=force))
     todo = {
         j.file_name: decide(

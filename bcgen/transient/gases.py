@@ -41,22 +41,23 @@ from typing import Literal
 
 import numpy as np
 
+from bcgen.arguments import gas_mole_fraction
 from bcgen.epochs import format_epoch
-from bcgen.errors import InputFileError
+from bcgen.errors import BcgenError, InputFileError
 from bcgen.orbit.table import TIME_COLUMNS
 from bcgen.spec import schema as S
 from bcgen.textfile import content_lines
+from bcgen.units import convert
 
 GasInterpolation = Literal["linear", "nearest"]
 
-#: Units a gas column may carry, and their factor to a mole fraction (mol mol-1).
-COLUMN_UNITS = {"ppm": 1e-6, "ppb": 1e-9, "ppt": 1e-12}
+#: Units a gas column may carry (UDUNITS-2 names; converted by cf-units, bcgen.units).
+COLUMN_UNITS = ("ppm", "ppb", "ppt")
 
 #: Units written for each gas (the same rule as the time-slice product): CO2 in 1e-6,
 #: CH4 and N2O in 1e-9, every other gas in 1e-12 (UDUNITS-2 dimensionless factors).
 OUTPUT_UNITS = {"co2": "1e-6", "ch4": "1e-9", "n2o": "1e-9"}
 DEFAULT_OUTPUT_UNITS = "1e-12"
-_UNIT_FACTOR = {"1e-6": 1e-6, "1e-9": 1e-9, "1e-12": 1e-12}
 
 #: What each interpolation method does, in words (written into the output metadata).
 INTERPOLATION_METHODS: dict[str, str] = {
@@ -155,8 +156,9 @@ class GasTable:
         out = {}
         for gas, column in self.values.items():
             picked = np.interp(t, ages, column) if method == "linear" else column[row]
-            scale = COLUMN_UNITS[self.units[gas]] / _UNIT_FACTOR[output_units(gas)]
-            out[gas] = picked * scale
+            out[gas] = convert(picked, self.units[gas], output_units(gas),
+                               where=f"{self.path}: {gas}_{self.units[gas]}",
+                               error=InputFileError)
         return out
 
 
@@ -230,4 +232,11 @@ def load_gas_table(path) -> GasTable:
         raise InputFileError(f"{path}:{b}: the age of this row repeats that of line {a}")
     values = {gas: data[order, i] for gas, (i, _) in gases.items()}
     units = {gas: unit for gas, (_, unit) in gases.items()}
+    for gas, column in values.items():  # the spec's plausibility rule, for every route
+        try:
+            gas_mole_fraction(gas, convert(column, units[gas], "1", where=str(path),
+                                           error=InputFileError),
+                              f"column {gas}_{units[gas]}", units[gas])
+        except BcgenError as exc:
+            raise InputFileError(f"{path}: {exc}") from None
     return GasTable(path, t_sorted, values, units)

@@ -1,0 +1,205 @@
+"""One validation layer for the command line and the Python API.
+
+Each function checks one kind of argument and returns it as bcgen uses it, or raises a
+:class:`~bcgen.errors.BcgenError` subclass whose one-line message names the argument
+(``--solar-constant`` on the command line, ``solar_constant_wm2`` in the API) and says
+what is expected. The commands and the public functions call the same checker with
+their own name for the argument, so a value is judged by the same rule whatever its
+route in (the spec's keys take their limits from here too).
+
+No checker lets through a value that would turn finite input into inf or NaN further
+on: numbers must be finite and within stated limits, and text where a number is
+expected is refused rather than converted.
+"""
+
+from __future__ import annotations
+
+import numbers
+from collections.abc import Sequence
+
+import numpy as np
+
+from bcgen.errors import BcgenError, EpochError, InsolationError, OrbitError
+
+#: Largest solar constant accepted, W m-2 (the spec's limit; about 3.7 times today's 1361).
+#: Up to it, every insolation bcgen computes stays a finite float64.
+MAX_SOLAR_CONSTANT_WM2 = 5000.0
+
+#: Largest distance of an epoch from 1950 CE, years (as :data:`bcgen.epochs.MAX_EPOCH_YEARS`).
+MAX_EPOCH_YEARS = 1e9
+
+#: An obliquity given in degrees but above 0 and at most this is taken for radians (π/2
+#: rounded up): no deliberate experiment tilts the Earth by less than 1.6 degrees without
+#: saying so (``idealized: true`` in a spec).
+RADIAN_LIKE_OBLIQUITY_MAX = 1.5708
+
+
+def _describe(value) -> str:
+    if isinstance(value, str):
+        return f"the string {str(value)!r}"
+    return repr(value)
+
+
+def real_array(value, name: str, error: type[BcgenError], what: str) -> np.ndarray:
+    """Return ``value`` as a float array of real numbers (inf and NaN let through); refuse text."""
+    if isinstance(value, (str, bytes)):
+        raise error(f"{name}: expected {what}, got {_describe(value)}")
+    try:
+        arr = np.asarray(value)
+    except (TypeError, ValueError):
+        raise error(f"{name}: expected {what}, got {_describe(value)}") from None
+    if arr.dtype.kind not in "iuf" or arr.dtype == bool:
+        if arr.dtype == object:
+            try:
+                if all(isinstance(v, numbers.Real) and not isinstance(v, bool)
+                       for v in arr.ravel()):
+                    arr = arr.astype(float)
+            except (TypeError, ValueError):
+                pass
+        if arr.dtype.kind not in "iuf":
+            first = next((v for v in arr.ravel() if not isinstance(v, numbers.Real)
+                          or isinstance(v, bool)), arr.ravel()[0] if arr.size else value)
+            raise error(f"{name}: expected {what}, got {_describe(first)}")
+    return arr.astype(float)
+
+
+def numbers_array(value, name: str, error: type[BcgenError] = BcgenError,
+                  what: str = "numbers") -> np.ndarray:
+    """Return ``value`` as a float array; refuse text, booleans and non-finite numbers."""
+    arr = real_array(value, name, error, what)
+    if not np.all(np.isfinite(arr)):
+        bad = arr[~np.isfinite(arr)].ravel()[0]
+        raise error(f"{name}: expected finite {what}, got {bad:g}")
+    return arr
+
+
+def number(value, name: str, error: type[BcgenError] = BcgenError,
+           what: str = "a number") -> float:
+    """Return one finite number; refuse text, booleans, arrays of several values and inf/NaN."""
+    arr = numbers_array(value, name, error, what)
+    if arr.size != 1:
+        raise error(f"{name}: expected {what}, got {arr.size} values")
+    return float(arr.reshape(()))
+
+
+def solar_constant_wm2(value, name: str = "solar_constant_wm2") -> np.ndarray:
+    """Check a solar constant: positive, finite, at most :data:`MAX_SOLAR_CONSTANT_WM2` W m-2."""
+    s0 = real_array(value, name, InsolationError, "a positive number of W m-2")
+    bad = s0[~np.isfinite(s0) | (s0 <= 0)]
+    if bad.size:
+        raise InsolationError(f"{name}: expected a positive number of W m-2; got "
+                              f"{bad.ravel()[0]:g}")
+    big = s0[s0 > MAX_SOLAR_CONSTANT_WM2]
+    if big.size:
+        raise InsolationError(
+            f"{name}: expected a positive number of W m-2 no larger than "
+            f"{MAX_SOLAR_CONSTANT_WM2:g} (today's is about 1361); got {big.ravel()[0]:g}")
+    return s0
+
+
+def latitudes_deg(value, name: str = "latitude_deg") -> np.ndarray:
+    """Check latitudes: finite numbers in [-90, 90] degrees north."""
+    lat = real_array(value, name, InsolationError, "latitudes in degrees north")
+    bad = lat[~(np.abs(lat) <= 90.0)]
+    if bad.size:
+        raise InsolationError(
+            f"{name}: latitudes must be in [-90, 90] degrees north; got "
+            + ", ".join(f"{v:g}" for v in bad.ravel()[:3]))
+    return lat
+
+
+def finite_array(value, name: str, error: type[BcgenError] = InsolationError,
+                 what: str = "finite numbers") -> np.ndarray:
+    """Check an array of finite numbers (times, longitudes)."""
+    return numbers_array(value, name, error, what)
+
+
+def epochs_years(value, name: str = "years_from_1950",
+                 error: type[BcgenError] = EpochError) -> np.ndarray:
+    """Check epochs given as numbers of years from 1950 CE (not text; finite; within 1e9)."""
+    if isinstance(value, str):
+        raise error(f"{name}: expected years from 1950 CE as numbers, got "
+                    f"{_describe(value)}; read epoch text with bcgen.parse_epoch({value!r})")
+    years = real_array(value, name, error, "years from 1950 CE as numbers")
+    if not np.all(np.isfinite(years)):
+        raise error(f"{name}: epochs must be finite numbers of years from 1950 CE; got "
+                    f"{years[~np.isfinite(years)].ravel()[0]:g}")
+    bad = years[np.abs(years) > MAX_EPOCH_YEARS]
+    if bad.size:
+        raise error(f"{name}: epochs must lie within {MAX_EPOCH_YEARS:,.0f} years of "
+                    f"1950 CE; got {bad.ravel()[0]:g}")
+    return years
+
+
+def fraction(value, name: str) -> float:
+    """Check a fraction in (0, 1]."""
+    f = number(value, name, BcgenError, "a fraction in (0, 1]")
+    if not 0.0 < f <= 1.0:
+        raise BcgenError(f"{name}: expected a fraction in (0, 1]; got {f:g}")
+    return f
+
+
+def broadcast_shapes(arrays: Sequence[tuple[str, np.ndarray]],
+                     error: type[BcgenError] = InsolationError) -> tuple[int, ...]:
+    """Refuse arguments whose shapes do not broadcast together, naming them and their shapes."""
+    try:
+        return np.broadcast_shapes(*(np.shape(a) for _, a in arrays))
+    except ValueError:
+        text = ", ".join(f"{n} {tuple(np.shape(a))}" for n, a in arrays)
+        raise error(f"arguments of shapes that do not broadcast together: {text}; give "
+                    "arrays of the same shape (or scalars)") from None
+
+
+def obliquity_deg(value, name: str | None = None, *, idealized: bool = False) -> np.ndarray:
+    """Check an obliquity in degrees, refusing a value that looks like radians.
+
+    An obliquity above 0 and at most :data:`RADIAN_LIKE_OBLIQUITY_MAX` is refused
+    (unless ``idealized``) whatever its route (spec, table column, option, API),
+    naming the value in degrees it would be if it were radians.
+    """
+    eps = numbers_array(value, name or "obliquity_deg", OrbitError, "an obliquity in degrees")
+    if not idealized:
+        like = eps[(eps > 0) & (eps <= RADIAN_LIKE_OBLIQUITY_MAX)]
+        if like.size:
+            v = float(like.ravel()[0])
+            prefix = f"{name}: " if name else ""
+            raise OrbitError(
+                f"{prefix}obliquity {v:g} degrees looks like radians ({np.degrees(v):.2f} "
+                "degrees); give degrees (or a column or option named _rad)")
+    return eps
+
+
+#: Units of the plausible range of each gas (as the spec's ``PLAUSIBLE_RANGES``).
+_GAS_RANGE_UNITS = {"co2": ("ppm", 1e-6), "ch4": ("ppb", 1e-9), "n2o": ("ppb", 1e-9)}
+#: Units a gas value is commonly (mis)given in, for naming the likely one.
+_GAS_UNITS = {"mol mol-1": 1.0, "ppm": 1e-6, "ppb": 1e-9, "ppt": 1e-12}
+
+
+def gas_mole_fraction(gas: str, mole_fraction, name: str, unit_text: str):
+    """Refuse a gas value a hundredfold or more outside its plausible range, naming the likely unit.
+
+    The range is the spec's (``bcgen.spec.experiment.PLAUSIBLE_RANGES``; a value outside
+    it but within a factor 100 only warns there). ``mole_fraction`` is in mol mol-1;
+    ``unit_text`` is the unit the value was given in (for the message).
+    """
+    from bcgen.spec.experiment import PLAUSIBLE_RANGES
+
+    if gas not in _GAS_RANGE_UNITS:
+        return
+    lo, hi = PLAUSIBLE_RANGES[gas]
+    unit, factor = _GAS_RANGE_UNITS[gas]
+    values = np.atleast_1d(np.asarray(mole_fraction, dtype=float)) / factor
+    bad = values[(values < lo / 100) | (values > hi * 100)]
+    if not bad.size:
+        return
+    v = float(bad[0])
+    given = v * factor / _unit_factor(unit_text)
+    likely = [u for u, f in _GAS_UNITS.items() if lo <= given * f / factor <= hi]
+    hint = f"; it looks like a value in {likely[0]}" if likely else ""
+    raise BcgenError(f"{name}: {given:g} {unit_text} is far outside {lo:g}-{hi:g} {unit}, "
+                     f"the range for the Earth{hint}; check the value and its units")
+
+
+def _unit_factor(unit_text: str) -> float:
+    return _GAS_UNITS.get(unit_text, {"1e-6": 1e-6, "1e-9": 1e-9, "1e-12": 1e-12}.get(
+        unit_text, 1.0))
