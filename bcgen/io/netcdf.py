@@ -19,6 +19,7 @@ from bcgen.errors import OutputError
 from bcgen.io.atomic import create_temporary, move_into_place, remove_quietly
 from bcgen.io.backend import NetCDFBackend, current_backend
 from bcgen.io.diagnose import CHUNK_TARGET_BYTES, write_failure
+from bcgen.io.signals import held_signals
 
 ChunkLayout = Literal["records", "series"]
 
@@ -238,13 +239,19 @@ def _write_in_thread(backend: NetCDFBackend, dataset, tmp: Path, encoding: dict)
             pool.shutdown(wait=True, cancel_futures=True)
 
     thread = threading.Thread(target=work, name="bcgen-netcdf-write", daemon=True)
-    thread.start()
     try:
+        # Starting a thread waits for it to run, and an interrupt can land in that wait: held
+        # until the thread is known to have started, it then lands in the loop below. (Had
+        # it escaped from start(), the write would go on in the background while the file
+        # was deleted and the interpreter shut down under it: a crash after the clean message.)
+        with held_signals():
+            thread.start()
         while thread.is_alive():
             thread.join(0.05)
     except KeyboardInterrupt:
         abort.set()
-        _join_through_interrupts(thread)
+        if thread.ident is not None:
+            _join_through_interrupts(thread)
         raise
     if failure:
         raise failure[0]

@@ -29,6 +29,8 @@ from collections.abc import Iterator, Sequence
 
 import numpy as np
 
+from bcgen.io.signals import held_signals
+
 #: Chunks that may wait, computed, for the writer.
 QUEUE_SIZE = 1
 _POLL_S = 0.1
@@ -104,7 +106,8 @@ class ChunkProducer:
         self._thread = threading.Thread(
             target=self._run, name="bcgen-transient-compute", daemon=True
         )
-        self._thread.start()
+        with held_signals():  # an interrupt lands after the start, in the loop below
+            self._thread.start()
         while True:
             try:
                 message = self._queue.get(timeout=_POLL_S)
@@ -127,8 +130,12 @@ class ChunkProducer:
                 self._queue.get_nowait()
             except queue.Empty:
                 break
-        if self._thread is not None:
-            self._thread.join()
+        if self._thread is not None and self._thread.ident is not None:
+            while self._thread.is_alive():  # even through a second Ctrl-C
+                try:
+                    self._thread.join(_POLL_S)
+                except KeyboardInterrupt:
+                    continue
 
     def __enter__(self) -> ChunkProducer:
         return self
