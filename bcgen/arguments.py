@@ -203,3 +203,30 @@ def gas_mole_fraction(gas: str, mole_fraction, name: str, unit_text: str):
 def _unit_factor(unit_text: str) -> float:
     return _GAS_UNITS.get(unit_text, {"1e-6": 1e-6, "1e-9": 1e-9, "1e-12": 1e-12}.get(
         unit_text, 1.0))
+
+
+#: Longest experiment name: it starts every file name, which the file system limits to 255
+#: bytes (POSIX NAME_MAX on common file systems), and the products add up to about 60.
+MAX_EXPERIMENT_NAME = 100
+
+
+def experiment_name(name, key: str = "experiment.name") -> str:
+    """Check an experiment name: safe as the start of a file name in any folder.
+
+    Letters, digits, ``_``, ``.`` and ``-``; starting with a letter or digit (so never
+    ``.``, ``..``, a hidden name or one that reads as an option); at most
+    :data:`MAX_EXPERIMENT_NAME` characters.
+    """
+    import re
+
+    if not isinstance(name, str) or not re.fullmatch(r"[A-Za-z0-9_.-]+", name):
+        raise BcgenError(f"{key}: {name!r} is not a usable name; expected letters, digits, "
+                         "'_', '.' and '-' only (it goes into file names)")
+    if not name[0].isalnum():
+        raise BcgenError(f"{key}: {name!r} is not a usable name; it must start with a letter "
+                         "or digit (a name starting with '.', '-' or '_' makes hidden files, "
+                         "reads as an option or names a folder)")
+    if len(name) > MAX_EXPERIMENT_NAME:
+        raise BcgenError(f"{key}: the name has {len(name)} characters; the limit is "
+                         f"{MAX_EXPERIMENT_NAME} (it starts every file name)")
+    return name

@@ -140,6 +140,32 @@ def parse_duration(text: str) -> float:
     return years
 
 
+#: Most epochs a range may hold (a 40-million-year range by 1-year steps fits).
+MAX_RANGE_EPOCHS = 50_000_000
+
+
+def _range_parts(text: str) -> tuple[float, float, float, int]:
+    """Start, end, step (years) and number of epochs of a range ``START..END/STEP``."""
+    span, _, step_text = text.partition("/")
+    if not step_text:
+        raise _fail(text, "a range needs a step, as in '130ka..115ka/1ka'")
+    start_text, _, end_text = span.partition("..")
+    start, end, step = parse_epoch(start_text), parse_epoch(end_text), parse_duration(step_text)
+    n = int(np.floor(abs(end - start) / step + 1e-9)) + 1
+    if n > MAX_RANGE_EPOCHS:
+        raise _fail(text, f"the range has {n} epochs; the limit is {MAX_RANGE_EPOCHS:,}")
+    direction = 1.0 if end >= start else -1.0
+    return start, end, direction * step, n
+
+
+def count_epochs(text: str) -> int:
+    """Count the epochs of an epoch or a range, without making them."""
+    if not isinstance(text, str) or ".." not in text:
+        parse_epoch(text)
+        return 1
+    return _range_parts(text)[3]
+
+
 def parse_epochs(text: str) -> np.ndarray:
     """Parse an epoch or a range ``START..END/STEP`` into an array of years from 1950 CE.
 
@@ -148,16 +174,24 @@ def parse_epochs(text: str) -> np.ndarray:
     """
     if not isinstance(text, str) or ".." not in text:
         return np.array([parse_epoch(text)])
-    span, _, step_text = text.partition("/")
-    if not step_text:
-        raise _fail(text, "a range needs a step, as in '130ka..115ka/1ka'")
-    start_text, _, end_text = span.partition("..")
-    start, end, step = parse_epoch(start_text), parse_epoch(end_text), parse_duration(step_text)
-    n = int(np.floor(abs(end - start) / step + 1e-9))
-    if n > 50_000_000:
-        raise _fail(text, f"the range has {n + 1} epochs; the limit is 50,000,000")
-    direction = 1.0 if end >= start else -1.0
-    return start + direction * step * np.arange(n + 1)
+    start, _, step, n = _range_parts(text)
+    return start + step * np.arange(n)
+
+
+def iter_epochs(text: str, chunk: int = 100_000):
+    """Yield ``(years_from_1950, labels)`` of an epoch or a range, ``chunk`` epochs at a time.
+
+    The same epochs and labels as :func:`parse_epochs` and :func:`epoch_labels`, in
+    pieces, so that a range of tens of millions of epochs takes constant memory.
+    """
+    if not isinstance(text, str) or ".." not in text:
+        yield np.array([parse_epoch(text)]), [text]
+        return
+    start, _, step, n = _range_parts(text)
+    style = _range_style(text)
+    for lo in range(0, n, chunk):
+        years = start + step * np.arange(lo, min(lo + chunk, n))
+        yield years, [format_epoch(t, style) for t in years]
 
 
 EpochStyle = Literal["auto", "ka", "bp", "ce"]
@@ -245,13 +279,18 @@ def epoch_labels(text: str) -> list[str]:
     years = parse_epochs(text)
     if ".." not in text:
         return [text]
+    style = _range_style(text)
+    return [format_epoch(t, style) for t in years]
+
+
+def _range_style(text: str) -> EpochStyle:
+    """Return the style of a range's labels: that of its start."""
     start = _EPOCH_RE.match(text.partition("..")[0])
     unit = (start["unit"] or "").lower() if start else ""
-    style: EpochStyle = (
+    return (
         "ka"
         if unit in ("ka", "kyr", "ma", "myr")
         else "ce"
         if unit in ("ce", "ad", "bce", "bc")
         else "bp"
     )
-    return [format_epoch(t, style) for t in years]

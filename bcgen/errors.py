@@ -67,3 +67,7 @@ class DeprecatedCalendarNameWarning(BcgenWarning):
 
 class ImplausibleValueWarning(BcgenWarning):
     """A value far outside the range expected for the Earth, probably in the wrong unit."""
+
+
+class TooLargeError(BcgenError):
+    """A request whose memory or output would exceed a stated limit (refused before any work)."""

@@ -10,11 +10,12 @@ import argparse
 import csv
 import sys
 import textwrap
+import warnings
 
 import numpy as np
 
 from bcgen.cli.common import json_text
-from bcgen.epochs import ACCEPTED_FORMS, epoch_labels, parse_epochs
+from bcgen.epochs import ACCEPTED_FORMS, count_epochs, epoch_labels, iter_epochs, parse_epochs
 from bcgen.errors import OrbitError
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS, OrbitalElements, solve
 
@@ -278,35 +279,62 @@ def _run_compare(args, options, labels, years) -> int:
         records = [{"epoch": label, "years_bp": -float(t), **comp}
                    for label, t, comp in zip(labels, np.concatenate(years), comparisons,
                                              strict=True)]
-        sys.stdout.write(json.dumps(records, indent=2) + "\n")
+        sys.stdout.write(json_text(records) + "\n")
     else:
         sys.stdout.write(format_comparison(labels, comparisons))
     return 0
+#: Epochs computed and printed at a time: the memory stays that of one chunk however long
+#: the range (``0ka..40000ka/1yr`` is 40 million epochs).
+CHUNK_EPOCHS = 100_000
 
 
 def run(args: argparse.Namespace) -> int:
-    """Compute and print the orbital elements for ``args.epochs``."""
+    """Compute and print the orbital elements for ``args.epochs``, a chunk of epochs at a time."""
     options = _solution_options(args)
-    labels: list[str] = []
-    years: list[np.ndarray] = []
-    for text in args.epochs:
-        years.append(parse_epochs(text))
-        labels.extend(epoch_labels(text))
     if args.compare:
+        labels: list[str] = []
+        years: list[np.ndarray] = []
+        for text in args.epochs:
+            years.append(parse_epochs(text))
+            labels.extend(epoch_labels(text))
         return _run_compare(args, options, labels, years)
-    try:
-        elements = solve(np.concatenate(years), args.solution, **options)
-    except OrbitError as exc:
-        if args.solution != "fixed":
-            raise
-        raise OrbitError(name_fixed_option(str(exc))) from None
-    records = rows(labels, elements)
+    total = sum(count_epochs(text) for text in args.epochs)  # every epoch checked up front
+    chunks = (chunk for text in args.epochs for chunk in iter_epochs(text, CHUNK_EPOCHS))
+    if total <= CHUNK_EPOCHS:  # one piece: the layout of the text table fits every label
+        labels, years = [], []
+        for y, lab in chunks:
+            years.append(y)
+            labels.extend(lab)
+        chunks = iter([(np.concatenate(years), labels)])
+    out = sys.stdout
+    first = True
+    warned: set[type] = set()
+    for years, labels in chunks:
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            try:
+                elements = solve(years, args.solution, **options)
+            except OrbitError as exc:
+                if args.solution != "fixed":
+                    raise
+                raise OrbitError(name_fixed_option(str(exc))) from None
+        for w in caught:  # one warning of each kind for the whole range, not one per chunk
+            if w.category not in warned:
+                warned.add(w.category)
+                warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+        records = rows(labels, elements)
+        if args.format == "json":
+            body = json_text(records)[2:-2]  # the records without the list's brackets
+            out.write(("[\n" if first else ",\n") + body)
+        elif args.format == "csv":
+            writer = csv.DictWriter(out, fieldnames=COLUMNS, lineterminator="\n")
+            if first:
+                writer.writeheader()
+            writer.writerows(records)
+        else:
+            text = format_text(records)
+            out.write(text if first else text.split("\n", 6)[6])  # the header once
+        first = False
     if args.format == "json":
-        sys.stdout.write(json_text(records) + "\n")
-    elif args.format == "csv":
-        writer = csv.DictWriter(sys.stdout, fieldnames=COLUMNS, lineterminator="\n")
-        writer.writeheader()
-        writer.writerows(records)
-    else:
-        sys.stdout.write(format_text(records))
+        out.write("\n]\n" if not first else "[]\n")
     return 0

@@ -70,3 +70,18 @@ def spec_inputs(spec) -> list[tuple[str, Path]]:
     named += [(f"{ref.key} {ref.label}", ref.path)
               for ref in (*spec.templates, *spec.attribute_templates) if ref.path is not None]
     return [(f"{label} {path}", Path(path)) for label, path in named if path is not None]
+
+
+def check_file_names(directory, names: Iterable[str]) -> None:
+    """Refuse file names longer than the file system holds (NAME_MAX bytes), before any write."""
+    directory = Path(directory)
+    probe = directory if directory.is_dir() else Path(".")
+    try:
+        name_max = os.pathconf(probe, "PC_NAME_MAX")
+    except (OSError, ValueError, AttributeError):  # pragma: no cover - not POSIX
+        name_max = 255
+    for name in names:
+        if len(os.fsencode(name)) > name_max:
+            raise OutputError(f"file name {name[:40]}... has {len(os.fsencode(name))} bytes; "
+                              f"the file system's limit is {name_max}: shorten the experiment "
+                              "name or output.file_pattern")

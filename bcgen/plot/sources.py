@@ -30,7 +30,7 @@ from typing import Literal
 import numpy as np
 
 from bcgen.cf.reader import bounds_variable, find_coordinates, time_unit_days
-from bcgen.epochs import epoch_labels, parse_epoch, parse_epochs
+from bcgen.epochs import count_epochs, epoch_labels, parse_epoch, parse_epochs
 from bcgen.errors import BcgenError, EpochError, InputFileError
 from bcgen.insolation import CMIP6_PICONTROL_SOLAR_CONSTANT_WM2, monthly_insolation
 from bcgen.orbit import OrbitalElements, solve
@@ -72,7 +72,7 @@ def source_kind(source: str) -> SourceKind:
     if suffix in FILE_SUFFIXES:
         return "file"
     try:
-        parse_epochs(text)
+        count_epochs(text)  # checks the text without making the epochs
     except EpochError:
         raise SourceError(
             f"source {text!r} is not an epoch (6ka, 1850CE), a range (800ka..0ka/1ka), a spec "
@@ -587,10 +587,23 @@ class OrbitsThroughTime:
         return -np.asarray(self.orbit.years_from_1950, dtype=float) / 1000.0
 
 
+#: Most epochs an orbit figure takes, and the memory each needs (float64 elements,
+#: insolation and plotting arrays, measured order of magnitude).
+MAX_PLOT_EPOCHS = 1_000_000
+BYTES_PER_PLOT_EPOCH = 400
+
+
 def orbit_series(source: str) -> OrbitsThroughTime:
     """Orbital elements through time from a range of epochs or a transient spec."""
     kind = source_kind(source)
     if kind == "range":
+        n = count_epochs(source)
+        if n > MAX_PLOT_EPOCHS:  # refused before anything is computed (bounded memory)
+            raise SourceError(
+                f"source {source} has {n:,} epochs, which would need about "
+                f"{n * BYTES_PER_PLOT_EPOCH / 1e9:.1f} GB to plot; the limit is "
+                f"{MAX_PLOT_EPOCHS:,} epochs (a figure shows far fewer points): use a "
+                f"larger step, or 'bcgen orbit {source} --format csv' for every epoch")
         years = parse_epochs(source)
         labels = epoch_labels(source)
         step = source.partition("/")[2].strip()

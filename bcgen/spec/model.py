@@ -9,7 +9,6 @@ sections together live in :class:`bcgen.spec.experiment.ExperimentSpec`.
 from __future__ import annotations
 
 import math
-import re
 import warnings
 from dataclasses import dataclass
 from pathlib import Path
@@ -48,12 +47,12 @@ class ExperimentInfo:
     description: str = ""
 
     def __post_init__(self) -> None:
-        if not isinstance(self.name, str) or not re.fullmatch(r"[A-Za-z0-9_.-]+", self.name):
-            raise FieldError(
-                "experiment.name",
-                f"{self.name!r} is not a usable name; expected "
-                "letters, digits, '_', '.' and '-' only (it goes into file names)",
-            )
+        from bcgen.arguments import experiment_name
+
+        try:
+            experiment_name(self.name)
+        except BcgenError as exc:
+            raise FieldError("experiment.name", str(exc).split(": ", 1)[1]) from None
 
 
 @dataclass(frozen=True)

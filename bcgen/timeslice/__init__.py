@@ -27,8 +27,9 @@ from bcgen.errors import OutputError
 from bcgen.experiment import BuildResult, manifest_name
 from bcgen.io import prepare_output_folder, sha256_of, write_netcdf, write_text_atomic
 from bcgen.io.lock import FolderLock
-from bcgen.io.paths import refuse_outputs_among_inputs, spec_inputs
+from bcgen.io.paths import check_file_names, refuse_outputs_among_inputs, spec_inputs
 from bcgen.io.staging import make_stage, replace_all, sweep_stale_temporaries
+from bcgen.sizes import check_timeslice
 from bcgen.spec import ExperimentSpec
 from bcgen.timeslice.context import BuildContext
 from bcgen.timeslice.products import PRODUCT_MAKERS, Output, make_outputs
@@ -44,10 +45,12 @@ def build_time_slice(spec: ExperimentSpec, output_dir=None, *, force: bool = Fal
     spec here and a transient spec to :func:`bcgen.transient.build_transient`.
     """
     directory = Path(output_dir if output_dir is not None else spec.output.directory)
+    check_timeslice(spec)  # what cannot fit in memory is refused before any work
     ctx = BuildContext(spec, command=command)
     outputs = make_outputs(ctx)
     manifest_path = directory / manifest_name(spec)
     names = [o.file_name for o in outputs] + [manifest_path.name]
+    check_file_names(directory, names)
     refuse_outputs_among_inputs([(str(directory / n), directory / n) for n in names],
                                 spec_inputs(spec))
     result = BuildResult(directory, context=ctx)

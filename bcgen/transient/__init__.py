@@ -52,8 +52,9 @@ from bcgen.errors import OutputError, SpecError
 from bcgen.experiment import BuildResult, manifest_name
 from bcgen.io import SeriesFile, prepare_output_folder, sha256_of, write_failure
 from bcgen.io.lock import FolderLock
-from bcgen.io.paths import refuse_outputs_among_inputs, spec_inputs
+from bcgen.io.paths import check_file_names, refuse_outputs_among_inputs, spec_inputs
 from bcgen.io.staging import sweep_stale_temporaries
+from bcgen.sizes import check_transient_step
 from bcgen.spec import ExperimentSpec
 from bcgen.transient.gases import GasTable, load_gas_table
 from bcgen.transient.manifest import decide, read_manifest, records_by_file, write_manifest
@@ -178,6 +179,7 @@ def build_transient(
     if spec.transient is None:
         raise SpecError("build_transient needs a spec with a 'transient' section")
     directory = Path(output_dir if output_dir is not None else spec.output.directory)
+    check_transient_step(spec)
     created = not directory.exists()
     prepare_output_folder(directory)
     try:
@@ -202,6 +204,7 @@ def _build_locked(spec, directory: Path, force: bool, command, progress):
         ctx.prepare(gases=True)  # read and check the table before anything is written
     jobs = plan_files(spec)
     manifest_path = directory / manifest_name(spec)
+    check_file_names(directory, [j.file_name for j in jobs])
     refuse_outputs_among_inputs(
         [(str(directory / n), directory / n) for n in [j.file_name for j in jobs]
          + [manifest_path.name]], spec_inputs(spec))
