@@ -57,7 +57,7 @@ from bcgen.io.staging import sweep_stale_temporaries
 from bcgen.sizes import check_transient_step
 from bcgen.spec import ExperimentSpec
 from bcgen.transient.gases import GasTable, load_gas_table
-from bcgen.transient.manifest import decide, read_manifest, records_by_file, write_manifest
+from bcgen.transient.manifest import ManifestWriter, decide, read_manifest, records_by_file
 from bcgen.transient.pipeline import ChunkProducer
 from bcgen.transient.progress import Progress
 from bcgen.transient.series import SERIES, RunContext, Series
@@ -237,6 +237,7 @@ def _build_locked(spec, directory: Path, force: bool, command, progress):
                 del message
     finally:
         writer.discard()
+        writer.manifest.close()  # every completed file recorded, the journal folded in
         bar.close()
     result.files = [
         {**records[j.file_name], "status": "skipped" if todo[j.file_name] == "skip" else "written"}
@@ -285,6 +286,7 @@ class _FileWriter:
             bar,
         )
         self.shares = shares or {}
+        self.manifest = ManifestWriter(manifest_path, header, records)
         self.sf: SeriesFile | None = None
         self.step = 0
 
@@ -372,7 +374,7 @@ class _FileWriter:
         }
         # The record goes into the manifest before the file goes into place: an interruption
         # between the two leaves a record without its file, which a re-run builds again.
-        write_manifest(self.manifest_path, self.header, [*self.records.values(), record])
+        self.manifest.add(record)
         sf.publish(force=True)
         self.records[job.file_name] = record
         self.sf = None

@@ -1,8 +1,13 @@
 """The manifest of a transient run: what each file holds, and whether a re-run may skip it.
 
 The manifest (``<experiment>_manifest.json`` in the output folder, the name a
-time-slice build uses too) is rewritten, atomically, after each completed file,
-so it always describes the files on disk. For each file it records:
+time-slice build uses too) describes the files on disk at every moment, at a cost
+linear in the number of files (:class:`ManifestWriter`): the record of each completed
+file is appended to a journal beside it (``.<experiment>_manifest.json.journal``, one
+JSON line per file), and the manifest itself is rewritten, atomically, after the 1st,
+2nd, 4th, 8th ... file and when the run ends (or is interrupted), when the journal is
+removed. A run killed outright leaves manifest and journal, which the next run reads
+together (:func:`read_manifest`). For each file it records:
 
 - ``file``, ``product``, ``description``, ``bytes``, ``sha256``, ``variables``;
 - ``first_model_year``, ``last_model_year``, the epochs of both
@@ -27,12 +32,14 @@ simply builds again.
 from __future__ import annotations
 
 import json
+import os
 from collections.abc import Iterable
 from pathlib import Path
 from typing import Literal
 
 from bcgen.errors import OutputError
-from bcgen.io import sha256_of, write_text_atomic
+from bcgen.io import remove_quietly, sha256_of, write_failure, write_text_atomic
+from bcgen.io.signals import held_signals
 
 #: Value of the manifest's ``kind`` key for a transient run.
 KIND = "transient"
@@ -40,18 +47,42 @@ KIND = "transient"
 Decision = Literal["skip", "build"]
 
 
+def journal_path(path: Path) -> Path:
+    """Return the journal of the manifest ``path`` (records not yet in the manifest)."""
+    return path.with_name(f".{path.name}.journal")
+
+
+def _read_journal(path: Path) -> list[dict]:
+    """Read the records of a journal; a last line cut short by a kill is left out."""
+    journal = journal_path(path)
+    if not journal.exists():
+        return []
+    records = []
+    for line in journal.read_text(encoding="utf-8").splitlines():
+        try:
+            record = json.loads(line)
+        except ValueError:
+            continue
+        if isinstance(record, dict):
+            records.append(record)
+    return records
+
+
 def read_manifest(path: Path, *, force: bool) -> dict | None:
-    """Read an existing manifest (None if there is none).
+    """Read an existing manifest with its journal (None if there is neither).
 
     A manifest that cannot be read, or that belongs to a time-slice build, is
     an error without ``force`` and ignored with it.
     """
+    journal = _read_journal(path) if path.parent.is_dir() else []
     if not path.exists():
-        return None
+        return {"kind": KIND, "files": journal} if journal else None
     try:
         data = json.loads(path.read_text(encoding="utf-8"))
         if not isinstance(data, dict) or not isinstance(data.get("files", []), list):
             raise ValueError("not a bcgen manifest")
+        if journal:
+            data["files"] = [*data.get("files", []), *journal]
     except (OSError, UnicodeDecodeError, ValueError) as exc:
         if force:
             return None
@@ -73,10 +104,12 @@ def records_by_file(manifest: dict | None) -> dict[str, dict]:
     """Return the file records of a manifest, by file name."""
     if not manifest:
         return {}
+    # A hand-edited record of the wrong shape is no record: its file is rebuilt (or refused).
     return {
         r["file"]: r
         for r in manifest.get("files", [])
         if isinstance(r, dict) and isinstance(r.get("file"), str)
+        and isinstance(r.get("parameters"), dict) and isinstance(r.get("sha256"), str)
     }
 
 
@@ -123,3 +156,53 @@ def write_manifest(path: Path, header: dict, records: Iterable[dict]) -> Path:
     manifest["kind"] = KIND
     manifest["files"] = list(records)
     return write_text_atomic(path, json.dumps(manifest, indent=2) + "\n", force=True)
+
+
+class ManifestWriter:
+    """Keep a transient run's manifest in step with its files at a linear total cost.
+
+    Parameters
+    ----------
+    path : pathlib.Path
+        The manifest.
+    header : dict
+        Its keys other than ``files``.
+    records : dict
+        File name → record of the files already complete (kept, in this order).
+    """
+
+    def __init__(self, path: Path, header: dict, records: dict) -> None:
+        self.path, self.header = path, header
+        self.records = dict(records)
+        self.journal = journal_path(path)
+        self.added = 0
+        self._next_rewrite = 1
+
+    def add(self, record: dict) -> None:
+        """Record a completed file: one line appended to the journal (and a rewrite at 2^k)."""
+        self.records[record["file"]] = record
+        self.added += 1
+        if self.added >= self._next_rewrite:
+            self._next_rewrite *= 2
+            self.write()
+            return
+        line = json.dumps(record, separators=(",", ":")) + "\n"
+        try:
+            with open(self.journal, "a", encoding="utf-8") as fh:
+                fh.write(line)
+                fh.flush()
+                os.fsync(fh.fileno())
+        except OSError as exc:
+            raise OutputError(write_failure(self.journal, exc)) from None
+
+    def write(self) -> Path:
+        """Rewrite the manifest with every record, then remove the journal."""
+        with held_signals():
+            write_manifest(self.path, self.header, self.records.values())
+            remove_quietly(self.journal)
+        return self.path
+
+    def close(self) -> None:
+        """Write the manifest if a file was recorded since the last rewrite."""
+        if self.journal.exists() or (self.added and not self.path.exists()):
+            self.write()
