@@ -259,7 +259,8 @@ def test_grid_from_file_by_standard_name_with_file_bounds(tmp_path):
                 lat,
                 {"standard_name": "latitude", "units": "degrees_north", "bounds": "yb"},
             ),
-            "x": ("x", [0.0, 90.0, 180.0, 270.0], {"standard_name": "longitude", "units": "degrees_east"}),
+            "x": ("x", [0.0, 90.0, 180.0, 270.0],
+                  {"standard_name": "longitude", "units": "degrees_east"}),
         },
     )
     g = grid_from_file(_write(ds, tmp_path / "m.nc"))

@@ -132,7 +132,8 @@ def test_errors_name_what_is_wrong():
     orbit = fixed(0.0167, 23.44, 102.0)
     with pytest.raises(InsolationError, match=r"latitude_deg: latitudes must be in \[-90, 90\]"):
         daily_mean_insolation_wm2(91.0, 0.0, orbit)
-    with pytest.raises(InsolationError, match="solar_constant_wm2: expected a positive number of W m-2"):
+    with pytest.raises(InsolationError,
+                       match="solar_constant_wm2: expected a positive number of W m-2"):
         daily_mean_insolation_wm2(0.0, 0.0, orbit, -1.0)
     with pytest.raises(InsolationError, match="method: unknown daily method 'noon'"):
         daily_insolation(orbit, "noleap", 0.0, method="noon")

@@ -132,9 +132,16 @@ def open_inputs(paths: Sequence[os.PathLike | str], *, chunk_bytes: int = CHUNK_
         dim = find_time_dim(xr.decode_cf(first.isel({d: slice(0, 1) for d in first.dims})),
                             str(ordered[0]))
         n_time = 0
+        names = _time_variables(first, dim)
         for path in ordered:
             with xr.open_dataset(path, decode_times=False) as other:
-                n_time += other.sizes[dim]
+                n_time += other.sizes.get(dim, 0)
+                theirs = _time_variables(other, dim)
+                if theirs != names:
+                    raise InputFileError(
+                        f"{path}: holds the variables {', '.join(sorted(theirs)) or 'none'} "
+                        f"but {ordered[0]} holds {', '.join(sorted(names)) or 'none'}; the "
+                        "files of one conversion must hold the same variables")
         probe = first.isel({dim: slice(0, 1)}).isel({dim: np.zeros(n_time, dtype=int)})
         chunks = conversion_chunks(probe, dim, chunk_bytes)
     try:
@@ -147,6 +154,13 @@ def open_inputs(paths: Sequence[os.PathLike | str], *, chunk_bytes: int = CHUNK_
         raise InputFileError(f"{label}: cannot join the files along time "
                              f"({' '.join(str(exc).split())})") from None
     return ds.chunk({dim: -1}), label
+
+
+def _time_variables(ds: xr.Dataset, dim: str) -> set[str]:
+    """Names of the data variables along ``dim``, bounds left out."""
+    linked = {str(v.attrs[k]) for v in ds.variables.values() for k in ("bounds", "climatology")
+              if k in v.attrs}
+    return {str(n) for n, v in ds.data_vars.items() if dim in v.dims and n not in linked}
 
 
 def output_encoding(ds: xr.Dataset) -> dict[str, dict]:

@@ -154,7 +154,11 @@ def _roll_back(stage, directory, aside, moved_in, moved_aside) -> str:
             os.rename(aside / name, directory / name)
         except OSError:
             failed.append(name)
-    if failed:
-        return (f"could not restore {', '.join(failed)} (the old files are in "
-                f"{aside})")
+    if failed:  # keep what could not go back where the user will find it, never deleted
+        kept = directory / f".bcgen-old-{os.getpid()}.{uuid.uuid4().hex[:12]}"
+        try:
+            os.rename(aside, kept)
+        except OSError:
+            kept = aside
+        return f"could not restore {', '.join(failed)}: the old files are in {kept}"
     return ""
