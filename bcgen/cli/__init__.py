@@ -44,23 +44,39 @@ class Terminated(KeyboardInterrupt):
     """SIGTERM arrived: raised in the main thread so that Ctrl-C's clean-up runs too."""
 
 
-def _raise_terminated(signum, frame) -> None:
-    # Once is enough: a second SIGTERM must not interrupt the clean-up of the first.
+def _stop_once(signum, frame) -> None:
+    """Raise ``KeyboardInterrupt`` (SIGINT) or :class:`Terminated` (SIGTERM), once.
+
+    Once is enough: from then on both signals are ignored, so that a second one (an
+    impatient Ctrl-C, a scheduler's repeated SIGTERM) cannot interrupt the clean-up that
+    the first one started (deleting temporary files, releasing the folder's lock).
+    """
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
     signal.signal(signal.SIGTERM, signal.SIG_IGN)
-    raise Terminated
+    raise Terminated if signum == signal.SIGTERM else KeyboardInterrupt
 
 
 @contextlib.contextmanager
 def _sigterm_as_interrupt():
-    """Turn SIGTERM into :class:`Terminated` for the duration of one command."""
+    """Turn SIGINT and SIGTERM into one clean stop for the duration of one command.
+
+    SIGINT keeps its meaning when the shell had it ignored (a job started with ``&`` or
+    ``nohup``): only a SIGINT handled by Python's default handler is taken over.
+    """
     if threading.current_thread() is not threading.main_thread():
         yield  # signal handlers can only be set from the main thread
         return
-    previous = signal.signal(signal.SIGTERM, _raise_terminated)
+    previous_int = signal.getsignal(signal.SIGINT)
+    if previous_int is signal.default_int_handler:
+        signal.signal(signal.SIGINT, _stop_once)
+    previous = signal.signal(signal.SIGTERM, _stop_once)
     try:
         yield
     finally:
-        signal.signal(signal.SIGTERM, previous)
+        stopped = signal.getsignal(signal.SIGTERM) == signal.SIG_IGN
+        if not (stopped and _CONSOLE):  # the console script exits next: stay deaf till then
+            signal.signal(signal.SIGTERM, previous)
+            signal.signal(signal.SIGINT, previous_int)
 
 
 def _interrupted(exc: KeyboardInterrupt) -> int:
@@ -115,6 +131,19 @@ def _add_common_options(parser: argparse.ArgumentParser, prefix: str) -> None:
                        help="print more: the time taken, on stderr")
     group.add_argument("--debug", dest=f"{prefix}debug", action="store_true",
                        help="show a traceback instead of the one-line error")
+
+
+#: True when running as the ``bcgen`` console script (:func:`console_main`), which exits
+#: right after :func:`main`: after a stop, signals then stay ignored until the process has
+#: ended, so that a second Ctrl-C cannot land in the interpreter's own shutdown.
+_CONSOLE = False
+
+
+def console_main() -> None:
+    """Entry point of the ``bcgen`` console script: run :func:`main` and exit with its status."""
+    global _CONSOLE
+    _CONSOLE = True
+    sys.exit(main())
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -175,4 +204,4 @@ def _show_warning(message, category, filename, lineno, file=None, line=None) -> 
 
 
 if __name__ == "__main__":  # pragma: no cover
-    sys.exit(main())
+    console_main()

@@ -28,6 +28,7 @@ from bcgen.experiment import BuildResult, manifest_name
 from bcgen.io import prepare_output_folder, sha256_of, write_netcdf, write_text_atomic
 from bcgen.io.lock import FolderLock
 from bcgen.io.paths import check_file_names, refuse_outputs_among_inputs, spec_inputs
+from bcgen.io.signals import held_signals
 from bcgen.io.staging import make_stage, replace_all, sweep_stale_temporaries
 from bcgen.sizes import check_timeslice
 from bcgen.spec import ExperimentSpec
@@ -87,12 +88,13 @@ def build_time_slice(spec: ExperimentSpec, output_dir=None, *, force: bool = Fal
     except OSError as exc:
         raise OutputError(f"cannot write in {directory}: {exc.strerror or exc}") from None
     finally:
-        if stage is not None:
-            shutil.rmtree(stage, ignore_errors=True)
-        if lock is not None:
-            lock.release()
-        if created and directory.is_dir() and not any(directory.iterdir()):
-            directory.rmdir()
+        with held_signals():  # a second interrupt waits until the clean-up is done
+            if stage is not None:
+                shutil.rmtree(stage, ignore_errors=True)
+            if lock is not None:
+                lock.release()
+            if created and directory.is_dir() and not any(directory.iterdir()):
+                directory.rmdir()
     result.manifest = manifest_path
     return result
 

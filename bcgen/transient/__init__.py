@@ -53,6 +53,7 @@ from bcgen.experiment import BuildResult, manifest_name
 from bcgen.io import SeriesFile, prepare_output_folder, sha256_of, write_failure
 from bcgen.io.lock import FolderLock
 from bcgen.io.paths import check_file_names, refuse_outputs_among_inputs, spec_inputs
+from bcgen.io.signals import held_signals
 from bcgen.io.staging import sweep_stale_temporaries
 from bcgen.sizes import check_transient_step
 from bcgen.spec import ExperimentSpec
@@ -182,12 +183,15 @@ def build_transient(
     check_transient_step(spec)
     created = not directory.exists()
     prepare_output_folder(directory)
+    lock = FolderLock(directory)
     try:
-        with FolderLock(directory):
-            return _build_locked(spec, directory, force, command, progress)
+        lock.acquire()
+        return _build_locked(spec, directory, force, command, progress)
     finally:
-        if created and directory.is_dir() and not any(directory.iterdir()):
-            directory.rmdir()
+        with held_signals():
+            lock.release()
+            if created and directory.is_dir() and not any(directory.iterdir()):
+                directory.rmdir()
 
 
 def _build_locked(spec, directory: Path, force: bool, command, progress):
@@ -236,9 +240,10 @@ def _build_locked(spec, directory: Path, force: bool, command, progress):
                 writer.handle(message)
                 del message
     finally:
-        writer.discard()
-        writer.manifest.close()  # every completed file recorded, the journal folded in
-        bar.close()
+        with held_signals():  # a second interrupt waits until the clean-up is done
+            writer.discard()
+            writer.manifest.close()  # every completed file recorded, the journal folded in
+            bar.close()
     result.files = [
         {**records[j.file_name], "status": "skipped" if todo[j.file_name] == "skip" else "written"}
         for j in jobs

@@ -1,0 +1,113 @@
+"""One validation layer: the Python API refuses what the command line refuses, in its words.
+
+Each case calls a public function with a bad argument and expects a
+:class:`bcgen.errors.BcgenError` subclass (never a plain ValueError, TypeError or
+OverflowError) whose message names the argument; where the command line has the same
+rule, the two messages differ only in the argument's name (``--solar-constant`` versus
+``solar_constant_wm2``). ``format_epoch`` is checked to give only text that
+``parse_epoch`` reads back (the epoch grammar documented in :mod:`bcgen.epochs`).
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+
+import numpy as np
+import pytest
+import xarray as xr
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+import bcgen
+from bcgen.errors import BcgenError
+
+ORBIT = bcgen.solve(-6000.0)  # Berger (1978) orbit of 6 ka
+
+
+CASES = [
+    ("solve-epoch-text", lambda: bcgen.solve("6ka"),
+     r"^years_from_1950: expected years from 1950 CE as numbers, got the string '6ka'"),
+    ("solve-epoch-nan", lambda: bcgen.solve(float("nan")),
+     r"^years_from_1950: epochs must be finite numbers of years from 1950 CE; got nan$"),
+    ("solve-epoch-inf", lambda: bcgen.solve([0.0, math.inf]),
+     r"^years_from_1950: epochs must be finite .*; got inf$"),
+    ("solve-epoch-huge", lambda: bcgen.solve(1e300),
+     r"^years_from_1950: epochs must lie within 1,000,000,000 years of 1950 CE"),
+    ("elements-text", lambda: bcgen.OrbitalElements("0.0167", 23.44, 102.0),
+     r"^eccentricity: expected numbers, got the string '0\.0167'$"),
+    ("elements-shapes", lambda: bcgen.OrbitalElements([0.01, 0.02], [23.0, 24.0, 25.0], 0.0),
+     r"^orbital elements and epochs have incompatible shapes"),
+    ("daily-latitude-text", lambda: bcgen.daily_insolation(ORBIT, "noleap", "65"),
+     r"^latitude_deg: expected latitudes in degrees north, got the string '65'$"),
+    ("daily-solar-constant-overflow",
+     lambda: bcgen.daily_insolation(ORBIT, "noleap", 65.0, solar_constant_wm2=1e308),
+     r"^solar_constant_wm2: expected a positive number of W m-2 no larger than 5000"),
+    ("monthly-solar-constant-inf",
+     lambda: bcgen.monthly_insolation(ORBIT, "noleap", [65.0], solar_constant_wm2=math.inf),
+     r"^solar_constant_wm2: expected a positive number of W m-2; got inf$"),
+    ("annual-latitude-text", lambda: bcgen.annual_mean_insolation_wm2(ORBIT, "x"),
+     r"^latitude_deg: expected latitudes in degrees north, got the string 'x'$"),
+    ("instantaneous-shapes",
+     lambda: bcgen.instantaneous_insolation(ORBIT, "noleap", np.arange(3.0), np.zeros(2),
+                                            np.zeros(4)),
+     r"^arguments of shapes that do not broadcast together: t_days \(3,\), latitude_deg "
+     r"\(2,\), longitude_deg \(4,\)"),
+    ("instantaneous-time-inf",
+     lambda: bcgen.instantaneous_insolation(ORBIT, "noleap", math.inf, 10.0, 0.0),
+     r"^t_days: expected finite model times in days, got inf$"),
+    ("fixed-obliquity-radians",
+     lambda: bcgen.solve(None, "fixed", eccentricity=0.0187, obliquity_deg=0.4207,
+                         perihelion_deg=0.87, perihelion_convention="perihelion_longitude"),
+     r"^obliquity 0\.4207 degrees looks like radians \(24\.10 degrees\)"),
+    ("format-epoch-text", lambda: bcgen.format_epoch("6ka"),
+     r"^an epoch in years from 1950 CE must be a number; got '6ka'"),
+    ("format-epoch-inf", lambda: bcgen.format_epoch(math.inf),
+     r"^an epoch must be a finite number of years within 1,000,000,000 of 1950 CE; got inf$"),
+    ("format-epoch-nan", lambda: bcgen.format_epoch(math.nan),
+     r"^an epoch must be a finite number of years .*; got nan$"),
+]
+
+
+@pytest.mark.parametrize(("case", "call", "pattern"), CASES, ids=[c[0] for c in CASES])
+def test_the_api_refuses_with_a_bcgen_error(case, call, pattern):
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        with pytest.raises(BcgenError, match=pattern):
+            call()
+
+
+def test_min_valid_fraction_above_one_is_refused_by_the_api(tmp_path):
+    # The command line refuses --min-valid-fraction 2 with the same words (the corpus).
+    edges = np.array([0, 31, 59, 90, 120, 151, 181, 212, 243, 273, 304, 334, 365.0])
+    ds = xr.Dataset(
+        {"tas": (("time",), np.full(12, 280.0)),
+         "time_bnds": (("time", "bnds"), np.stack([edges[:-1], edges[1:]], axis=1))},
+        coords={"time": ("time", 0.5 * (edges[:-1] + edges[1:]),
+                         {"units": "days since 0001-01-01", "calendar": "noleap",
+                          "bounds": "time_bnds"})})
+    ds = xr.decode_cf(ds, decode_times=xr.coders.CFDatetimeCoder(use_cftime=True))
+    with pytest.raises(BcgenError, match=r"^min_valid_fraction: expected a fraction in "
+                       r"\(0, 1\]; got 2$"):
+        bcgen.to_fixed_angle_months(ds, ORBIT, min_valid_fraction=2)
+
+
+def test_cli_and_api_say_the_same(run_cli):
+    status, _, err = run_cli(["insolation", "6ka", "--lat", "65", "--solar-constant", "1e308"])
+    with pytest.raises(BcgenError) as info:
+        bcgen.daily_insolation(ORBIT, "noleap", 65.0, solar_constant_wm2=1e308)
+    assert status == 2
+    assert err.strip().replace("--solar-constant", "solar_constant_wm2") == \
+        f"bcgen: error: {info.value}"
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.floats(-1e9, 1e9, allow_nan=False))
+def test_format_epoch_reads_back(years):
+    # Exact for every epoch up to 1950 CE; after it a decimal CE year carries the value to
+    # the float spacing near 1950 (2.3e-13 years), which is the grammar's resolution there.
+    back = bcgen.parse_epoch(bcgen.format_epoch(years))
+    if years <= 0 or years == round(years):
+        assert back == years
+    else:
+        assert abs(back - years) <= 4.6e-13
