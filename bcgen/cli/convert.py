@@ -267,10 +267,12 @@ def _run_transient(args, orbit, reference, anchor, calendar, cyclic) -> int:
         dim = find_time_dim(ds, label)
         ordered, counts = _files_in_time_order(args.inputs, dim)
         targets = [folder / path.name for path in ordered]
-        for path, target in zip(ordered, targets, strict=True):
-            if target.resolve() == path.resolve():
-                raise OutputError(f"{target}: the output would replace its input; choose "
-                                  "another folder with -o")
+        from bcgen.io.paths import refuse_outputs_among_inputs
+
+        refuse_outputs_among_inputs([(str(t), t) for t in targets],
+                                    [(f"input {p}", p) for p in ordered]
+                                    + [(f"--spec {args.spec}", args.spec)])
+        for target in targets:
             if target.exists() and not args.force:
                 raise OutputError(f"{target} exists; use --force to replace it")
         years = np.array([d.year for d in ds[dim].values])
@@ -282,8 +284,7 @@ def _run_transient(args, orbit, reference, anchor, calendar, cyclic) -> int:
     names = [str(k) for k, v in written[0][1].data_vars.items()
              if dim in v.dims and k != written[0][1][dim].attrs.get("bounds")]
     if args.format == "json":
-        print(json.dumps([_report(args, path, out, dim, names) for path, out in written],
-                         indent=2))
+        print(json_text([_report(args, path, out, dim, names) for path, out in written]))
     elif not args.quiet:
         for path, out in written:
             print(f"wrote {path}: {out.sizes[dim]} {args.to} months of {', '.join(names)} "
