@@ -73,8 +73,10 @@ def _sigterm_as_interrupt():
     try:
         yield
     finally:
-        stopped = signal.getsignal(signal.SIGTERM) == signal.SIG_IGN
-        if not (stopped and _CONSOLE):  # the console script exits next: stay deaf till then
+        if _CONSOLE:  # the process exits next: its work is done or cleaned up, stay deaf
+            signal.signal(signal.SIGTERM, signal.SIG_IGN)
+            signal.signal(signal.SIGINT, signal.SIG_IGN)
+        else:
             signal.signal(signal.SIGTERM, previous)
             signal.signal(signal.SIGINT, previous_int)
 
@@ -134,8 +136,9 @@ def _add_common_options(parser: argparse.ArgumentParser, prefix: str) -> None:
 
 
 #: True when running as the ``bcgen`` console script (:func:`console_main`), which exits
-#: right after :func:`main`: after a stop, signals then stay ignored until the process has
-#: ended, so that a second Ctrl-C cannot land in the interpreter's own shutdown.
+#: right after :func:`main`: once the command has finished (or cleaned up after a stop),
+#: signals stay ignored until the process has ended, so that a late Ctrl-C cannot land in
+#: the interpreter's own shutdown (a traceback, or death by the signal).
 _CONSOLE = False
 
 

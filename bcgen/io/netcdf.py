@@ -175,6 +175,9 @@ def write_netcdf(
     if path.exists() and not force:
         raise OutputError(f"{path} already exists; use --force to overwrite it")
     enc = default_encoding(dataset, encoding, chunking=chunking)
+    from bcgen.io.staging import sweep_stale_temporaries
+
+    sweep_stale_temporaries(folder, [path.name])  # those of a killed earlier write, if any
     tmp: Path | None = None
     try:
         tmp = create_temporary(path)
