@@ -1,7 +1,6 @@
 """Allow ``python -m bcgen``."""
 
-import sys
 
-from bcgen.cli import main
+from bcgen.cli import console_main
 
-sys.exit(main())
+console_main()
