@@ -169,7 +169,17 @@ def obliquity_deg(value, name: str | None = None, *, idealized: bool = False) ->
     return eps
 
 
-#: Units of the plausible range of each gas (as the spec's ``PLAUSIBLE_RANGES``).
+#: Ranges outside which a value is probably in the wrong unit (a warning in a spec; a
+#: hundredfold outside, an error on every route): S0 from a faint young Sun (about 70 % of
+#: today's 1361 W m-2) to well above today's; gases over the Phanerozoic with a wide
+#: margin, CO2 in ppm, CH4 and N2O in ppb. Common practice, values from memory.
+PLAUSIBLE_RANGES = {
+    "solar_constant_wm2": (900.0, 1500.0),
+    "co2": (100.0, 10000.0),
+    "ch4": (100.0, 20000.0),
+    "n2o": (50.0, 2000.0),
+}
+#: Units of the plausible range of each gas.
 _GAS_RANGE_UNITS = {"co2": ("ppm", 1e-6), "ch4": ("ppb", 1e-9), "n2o": ("ppb", 1e-9)}
 #: Units a gas value is commonly (mis)given in, for naming the likely one.
 _GAS_UNITS = {"mol mol-1": 1.0, "ppm": 1e-6, "ppb": 1e-9, "ppt": 1e-12}
@@ -178,12 +188,10 @@ _GAS_UNITS = {"mol mol-1": 1.0, "ppm": 1e-6, "ppb": 1e-9, "ppt": 1e-12}
 def gas_mole_fraction(gas: str, mole_fraction, name: str, unit_text: str):
     """Refuse a gas value a hundredfold or more outside its plausible range, naming the likely unit.
 
-    The range is the spec's (``bcgen.spec.experiment.PLAUSIBLE_RANGES``; a value outside
-    it but within a factor 100 only warns there). ``mole_fraction`` is in mol mol-1;
-    ``unit_text`` is the unit the value was given in (for the message).
+    The range is :data:`PLAUSIBLE_RANGES` (a value outside it but within a factor 100
+    only warns in a spec). ``mole_fraction`` is in mol mol-1; ``unit_text`` is the unit
+    the value was given in (for the message).
     """
-    from bcgen.spec.experiment import PLAUSIBLE_RANGES
-
     if gas not in _GAS_RANGE_UNITS:
         return
     lo, hi = PLAUSIBLE_RANGES[gas]

@@ -25,7 +25,7 @@ from types import MappingProxyType
 
 import numpy as np
 
-from bcgen.arguments import gas_mole_fraction
+from bcgen.arguments import PLAUSIBLE_RANGES, gas_mole_fraction
 from bcgen.epochs import format_epoch, parse_epoch
 from bcgen.errors import BcgenError, ImplausibleValueWarning
 from bcgen.orbit import OrbitalElements
@@ -37,16 +37,6 @@ from bcgen.spec.grid import GridSpec
 from bcgen.spec.model import CalendarSpec, ExperimentInfo, GasSpec, InsolationSpec, OrbitSpec
 from bcgen.spec.output import OutputSpec, TemplateRef, TimestepTableSpec, check_file_pattern
 from bcgen.spec.transient import TransientSpec
-
-#: Ranges outside which a value is probably in the wrong unit (a warning, not an error):
-#: S0 from a faint young Sun (about 70 % of today's 1361 W m-2) to well above today's;
-#: gases over the Phanerozoic with a wide margin. Common practice, values from memory.
-PLAUSIBLE_RANGES = {
-    "solar_constant_wm2": (900.0, 1500.0),
-    "co2": (100.0, 10000.0),
-    "ch4": (100.0, 20000.0),
-    "n2o": (50.0, 2000.0),
-}
 
 
 def _warn_if_implausible(key: str, value: float, unit: str, name: str | None = None) -> None:
