@@ -146,7 +146,16 @@ def console_main() -> None:
     """Entry point of the ``bcgen`` console script: run :func:`main` and exit with its status."""
     global _CONSOLE
     _CONSOLE = True
-    sys.exit(main())
+    status = main()
+    if status in (130, 128 + signal.SIGTERM):
+        # Interrupted: everything was cleaned up before the message was printed. Leave at
+        # once, without the interpreter's shutdown, which would tear down the netCDF/HDF5
+        # library under objects the interrupted frames still hold (a crash, SIGSEGV, after
+        # the clean message).
+        sys.stdout.flush()
+        sys.stderr.flush()
+        os._exit(status)
+    sys.exit(status)
 
 
 def main(argv: list[str] | None = None) -> int:
