@@ -191,6 +191,27 @@ def _snap(c: np.ndarray, b: np.ndarray, *, span: float, poles: bool):
     return c, b
 
 
+def read_land_mask(path, variable: str, *, key: str = "") -> LatLonField:
+    """Read a reconstruction's land mask: a land area fraction (0 to 1) or a binary 0/1 mask.
+
+    Raises
+    ------
+    InputFileError
+        As :func:`read_field`, or a value lies outside 0 to 1 (one line naming the file
+        and the variable).
+    """
+    field = read_field(path, variable, kind="fraction", key=key)
+    v = field.values
+    bad = (v < 0) | (v > 1)
+    if bad.any():
+        where = f"{key}: " if key else ""
+        raise InputFileError(
+            f"{where}{os.fspath(path)}: variable {variable!r} has {int(bad.sum())} values "
+            f"outside 0 to 1 (from {float(v.min()):g} to {float(v.max()):g}); a land mask "
+            "must be a land area fraction (0 to 1) or binary (0 sea, 1 land)")
+    return field
+
+
 def read_length(path, variable: str, *, key: str = "") -> float:
     """Read a single length (a variable with one value, e.g. a sea-level change) in metres."""
     import cf_units

@@ -97,7 +97,9 @@ def _centres(edges):
 
 
 def land_sea(relief_m: np.ndarray, area_m2: np.ndarray, lat_edges: np.ndarray,
-             lon_edges: np.ndarray, settings: MaskSettings | None = None) -> LandSea:
+             lon_edges: np.ndarray, settings: MaskSettings | None = None, *,
+             force_land: np.ndarray | None = None,
+             force_ocean: np.ndarray | None = None) -> LandSea:
     """Ocean mask, depths and water bodies from the cell-mean relief above sea level.
 
     Parameters
@@ -109,11 +111,20 @@ def land_sea(relief_m: np.ndarray, area_m2: np.ndarray, lat_edges: np.ndarray,
     lat_edges, lon_edges : numpy.ndarray
         Cell edges in degrees (for strait rules and the report).
     settings : MaskSettings
+    force_land, force_ocean : numpy.ndarray of bool, optional
+        Cells whose land/sea decision is set before the strait rules and the cleanup
+        (a reconstruction's own land mask, :mod:`bcgen.geography.pipeline`); a forced
+        ocean cell standing above sea level starts at depth 0 and meets the minimum-depth
+        rule like any shallow cell.
     """
     settings = settings or MaskSettings()
     lat_c, lon_c = _centres(lat_edges), _centres(lon_edges)
     water = relief_m < 0
-    depth = np.where(water, -relief_m, 0.0)
+    if force_ocean is not None:
+        water |= force_ocean
+    if force_land is not None:
+        water &= ~force_land
+    depth = np.where(water, np.maximum(-relief_m, 0.0), 0.0)
     _, raw_bodies = ocean_and_basins(water, area_m2, settings.connectivity)
     isolated = _bodies(raw_bodies, area_m2, depth, lat_c, lon_c)
 

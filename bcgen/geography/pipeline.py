@@ -14,6 +14,20 @@ doi:10.5194/cp-12-663-2016, for the mid-Pliocene):
 where :math:`\mathcal{R}` is conservative regridding onto the present relief's grid
 and :math:`\Delta SL` the sea-level change (negative in a glacial), so that
 :math:`z_{paleo}` is the height above the paleo sea level.
+
+A reconstruction's own land mask (a land area fraction or a binary mask, at the epoch
+and optionally at 0 ka) is used by one policy, applied on the model grid before the
+strait rules and the connectivity cleanup. Its conservatively regridded fraction is
+
+.. math:: f_{rec} = f_{model,0} + \mathcal{R}(m_{rec}(t)) - \mathcal{R}(m_{rec}(0)),
+
+the model's present land fraction plus the reconstruction's change in land fraction
+(the anomaly method applied to the mask). A cell is land by the reconstruction where
+:math:`f_{rec} \ge 0.5`. With both masks, the reconstruction decides only in cells where
+its land fraction changes (:math:`|\mathcal{R}(m_{rec}(t)) - \mathcal{R}(m_{rec}(0))| >
+10^{-6}`) and the relief's decision disagrees; elsewhere the relief decides. With the
+epoch mask alone, :math:`f_{rec} = \mathcal{R}(m_{rec}(t))` and the reconstruction decides
+in every cell where the two disagree. The change report counts the cells so switched.
 """
 
 from __future__ import annotations
@@ -25,7 +39,7 @@ import numpy as np
 from bcgen.errors import GridError
 from bcgen.geography.constants import EARTH_RADIUS_M
 from bcgen.geography.fields import LatLonField
-from bcgen.geography.fractions import Fractions, consistent_fractions
+from bcgen.geography.fractions import LAND_THRESHOLD, Fractions, consistent_fractions
 from bcgen.geography.landsea import LandSea, MaskSettings, land_sea
 from bcgen.geography.mask import world_ocean_mask
 from bcgen.geography.regrid import ConservativeRegridder
@@ -48,6 +62,9 @@ class GeographyInputs:
         Land-ice area fraction at the epoch (used instead of ``ice_thickness > 0``).
     sea_level_change_m : float
         Sea level at the epoch minus today's, m (e.g. -120 for the last glacial maximum).
+    land_mask_epoch, land_mask_present : LatLonField, optional
+        The reconstruction's own land mask (fraction 0 to 1, or binary) at the epoch and
+        at 0 ka; see the module docstring for how it is used.
     """
 
     present: LatLonField
@@ -56,6 +73,8 @@ class GeographyInputs:
     ice_thickness: LatLonField | None = None
     ice_fraction: LatLonField | None = None
     sea_level_change_m: float = 0.0
+    land_mask_epoch: LatLonField | None = None
+    land_mask_present: LatLonField | None = None
 
 
 @dataclass
@@ -77,6 +96,8 @@ class Geography:
     ice_volume_m3: float
     inputs: GeographyInputs
     settings: MaskSettings
+    mask_cells_made_land: int = 0    # by the reconstruction's land mask, before the cleanup
+    mask_cells_made_ocean: int = 0
 
     @property
     def surface_altitude_m(self) -> np.ndarray:
@@ -101,6 +122,43 @@ def paleo_relief_fine(inputs: GeographyInputs) -> np.ndarray:
     out += z
     out -= float(dsl)
     return out
+
+
+def reconstruction_mask_decision(inputs: GeographyInputs, grid: Grid,
+                                 land_fraction_present: np.ndarray,
+                                 relief_land: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Cells the reconstruction's land mask makes land and makes ocean (module docstring).
+
+    Parameters
+    ----------
+    inputs : GeographyInputs
+    grid : bcgen.grids.Grid
+        The model grid.
+    land_fraction_present : numpy.ndarray
+        The model's present land area fraction on the model grid.
+    relief_land : numpy.ndarray of bool
+        The relief's land decision at the epoch (cell-mean relief at or above sea level).
+
+    Returns
+    -------
+    force_land, force_ocean : numpy.ndarray of bool
+        Both all False without a reconstruction mask.
+    """
+    none = np.zeros(relief_land.shape, bool)
+    epoch = inputs.land_mask_epoch
+    if epoch is None:
+        return none, none.copy()
+    f_epoch = ConservativeRegridder.from_grids(epoch.grid, grid).mean(epoch.values)
+    zero = inputs.land_mask_present
+    if zero is None:
+        decides = np.ones(relief_land.shape, bool)
+        f_rec = f_epoch
+    else:
+        change = f_epoch - ConservativeRegridder.from_grids(zero.grid, grid).mean(zero.values)
+        decides = np.abs(change) > 1e-6
+        f_rec = land_fraction_present + change
+    rec_land = f_rec >= LAND_THRESHOLD
+    return decides & rec_land & ~relief_land, decides & ~rec_land & relief_land
 
 
 def make_geography(inputs: GeographyInputs, grid: Grid,
@@ -142,8 +200,11 @@ def make_geography(inputs: GeographyInputs, grid: Grid,
     land1_fine = to_model.fraction(~ocean1_fine)
     del ocean1_fine
 
+    force_land, force_ocean = reconstruction_mask_decision(inputs, grid, land0_fine,
+                                                           relief1 >= 0)
     state0 = land_sea(relief0, area, lat_edges, lon_edges, settings)
-    state1 = land_sea(relief1, area, lat_edges, lon_edges, settings)
+    state1 = land_sea(relief1, area, lat_edges, lon_edges, settings,
+                      force_land=force_land, force_ocean=force_ocean)
 
     ice_th, ice_frac, vol_src, vol = None, None, 0.0, 0.0
     if inputs.ice_thickness is not None:
@@ -159,4 +220,5 @@ def make_geography(inputs: GeographyInputs, grid: Grid,
     fr0 = consistent_fractions(land0_fine, state0.ocean, area)
     fr1 = consistent_fractions(land1_fine, state1.ocean, area, ice_frac)
     return Geography(grid, area, relief0, relief1, state0, state1, land0_fine, land1_fine,
-                     fr0, fr1, ice_th, vol_src, vol, inputs, settings)
+                     fr0, fr1, ice_th, vol_src, vol, inputs, settings,
+                     int(force_land.sum()), int(force_ocean.sum()))

@@ -76,7 +76,8 @@ def change_report(geo: Geography, *, mean_salinity: float | None = None,
         "grid": geo.grid.name,
         "inputs": {k: getattr(geo.inputs, k).source for k in
                    ("present", "reconstruction_epoch", "reconstruction_present",
-                    "ice_thickness", "ice_fraction") if getattr(geo.inputs, k) is not None},
+                    "ice_thickness", "ice_fraction", "land_mask_epoch", "land_mask_present")
+                   if getattr(geo.inputs, k) is not None},
         "sea_level_change_m": dsl,
         "rules": {"connectivity": geo.settings.connectivity,
                   "basins_below_sea_level": geo.settings.basins,
@@ -87,6 +88,13 @@ def change_report(geo: Geography, *, mean_salinity: float | None = None,
         "cells": {"ocean_to_land": int(to_land.sum()), "land_to_ocean": int(to_ocean.sum()),
                   "ocean_to_land_area_km2": round(float(a[to_land].sum()) / 1e6, 1),
                   "land_to_ocean_area_km2": round(float(a[to_ocean].sum()) / 1e6, 1)},
+        "reconstruction_land_mask": None if geo.inputs.land_mask_epoch is None else {
+            "policy": "the reconstruction's change in land fraction (epoch minus 0 ka) added "
+                      "to the model's present land fraction decides where its mask changes"
+                      if geo.inputs.land_mask_present is not None else
+                      "the reconstruction's land fraction at the epoch decides every cell",
+            "cells_made_land": geo.mask_cells_made_land,
+            "cells_made_ocean": geo.mask_cells_made_ocean},
         "seas_lost": _groups(to_land, geo),
         "water_bodies_cut_off": {
             "present": [b.as_dict() for b in p0.isolated],
@@ -158,7 +166,13 @@ def report_text(r: dict) -> str:
     c = r["cells"]
     lines += [f"cells ocean -> land: {c['ocean_to_land']} ({c['ocean_to_land_area_km2']:,.0f} km2)",
               f"cells land -> ocean: {c['land_to_ocean']} ({c['land_to_ocean_area_km2']:,.0f} km2)",
-              "", "seas lost (present-day ocean that is no longer ocean), largest first:"]
+              ""]
+    m = r.get("reconstruction_land_mask")
+    if m:
+        lines += [f"reconstruction land mask ({m['policy']}; before the cleanup): "
+                  f"{m['cells_made_land']} cells made land, {m['cells_made_ocean']} made ocean",
+                  ""]
+    lines += ["seas lost (present-day ocean that is no longer ocean), largest first:"]
     if not r["seas_lost"]:
         lines.append("  none")
     for g in r["seas_lost"][:TEXT_ROWS]:

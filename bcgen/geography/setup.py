@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 
 from bcgen.errors import InputFileError
-from bcgen.geography.fields import LatLonField, read_field, read_length
+from bcgen.geography.fields import LatLonField, read_field, read_land_mask, read_length
 from bcgen.geography.landsea import MaskSettings
 from bcgen.geography.pipeline import GeographyInputs
 from bcgen.geography.salinity import mean_salinity_from_file
@@ -59,6 +59,11 @@ def resolve_geography(geo_spec) -> GeographySetup:
         if epoch.values.shape != zero.values.shape:
             raise InputFileError(f"geography.reconstruction: {epoch.source} and {zero.source} "
                                  "must be on the same grid")
+    masks = [None, None]
+    for i, ref in enumerate((getattr(g, "land_mask_epoch", None),
+                             getattr(g, "land_mask_present", None))):
+        if ref is not None:
+            masks[i] = read_land_mask(ref.file, ref.variable, key="geography.reconstruction")
     thickness = fraction = None
     if g.ice is not None:
         if g.ice_kind == "thickness":
@@ -71,7 +76,7 @@ def resolve_geography(geo_spec) -> GeographySetup:
     if g.sea_level is not None:
         sea_level = read_length(g.sea_level.file, g.sea_level.variable,
                                 key="geography.reconstruction.sea_level_variable")
-    inputs = GeographyInputs(present, epoch, zero, thickness, fraction, sea_level)
+    inputs = GeographyInputs(present, epoch, zero, thickness, fraction, sea_level, *masks)
     rules = tuple(StraitRule(s.name, s.action, s.path_deg, s.box_deg, s.width_cells, s.depth_m)
                   for s in g.straits)
     settings = MaskSettings(g.connectivity, g.basins, g.min_depth_m, g.shallow_cells, rules)

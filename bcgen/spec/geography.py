@@ -8,6 +8,7 @@ and computes. Rules checked here (the schema checks types and vocabularies):
 - every file exists;
 - a strait rule has either a ``path`` or a ``box``; strait names are unique; an
   ``open`` rule needs a ``depth_m`` of at least ``min_depth_m``;
+- ``reconstruction.present_land_variable`` needs ``epoch_land_variable``;
 - ``mean_salinity`` and ``salinity`` are alternatives, and so are
   ``sea_level_change_m`` and ``reconstruction.sea_level_variable``.
 """
@@ -49,6 +50,8 @@ class GeographySpec:
     bathymetry: FieldRef | None = None
     reconstruction_epoch: FieldRef | None = None
     reconstruction_present: FieldRef | None = None
+    land_mask_epoch: FieldRef | None = None
+    land_mask_present: FieldRef | None = None
     ice: FieldRef | None = None
     ice_kind: str = "thickness"
     sea_level_change_m: float = 0.0
@@ -85,6 +88,13 @@ class GeographySpec:
                                   "reconstruction file")
             kw["reconstruction_epoch"] = FieldRef(rfile, rec["epoch_variable"])
             kw["reconstruction_present"] = FieldRef(rfile, rec["present_variable"])
+            if "present_land_variable" in rec and "epoch_land_variable" not in rec:
+                raise FieldError("geography.reconstruction.present_land_variable",
+                                 "needs epoch_land_variable (the land mask at the epoch)")
+            if "epoch_land_variable" in rec:
+                kw["land_mask_epoch"] = FieldRef(rfile, rec["epoch_land_variable"])
+            if "present_land_variable" in rec:
+                kw["land_mask_present"] = FieldRef(rfile, rec["present_land_variable"])
             if "sea_level_variable" in rec:
                 if "sea_level_change_m" in v:
                     raise FieldError("geography.reconstruction.sea_level_variable",

@@ -618,6 +618,10 @@ SCHEMA: Mapping[str, Key] = _map(
                                        required=True),
                     present_variable=Key("string", "surface at 0 ka (length units)",
                                          required=True),
+                    epoch_land_variable=Key("string", "the reconstruction's own land mask at "
+                                            "the epoch (land area fraction 0 to 1, or binary)"),
+                    present_land_variable=Key("string", "its land mask at 0 ka; needs "
+                                              "epoch_land_variable"),
                     sea_level_variable=Key("string", "a variable holding the sea-level change "
                                            "of the epoch (one value, length units), instead "
                                            "of sea_level_change_m"),
