@@ -15,11 +15,18 @@ expected is refused rather than converted.
 from __future__ import annotations
 
 import numbers
+import warnings
 from collections.abc import Sequence
 
 import numpy as np
 
-from bcgen.errors import BcgenError, EpochError, InsolationError, OrbitError
+from bcgen.errors import (
+    BcgenError,
+    EpochError,
+    ImplausibleValueWarning,
+    InsolationError,
+    OrbitError,
+)
 
 #: Largest solar constant accepted, W m-2 (the spec's limit; about 3.7 times today's 1361).
 #: Up to it, every insolation bcgen computes stays a finite float64.
@@ -94,6 +101,7 @@ def solar_constant_wm2(value, name: str = "solar_constant_wm2") -> np.ndarray:
         raise InsolationError(
             f"{name}: expected a positive number of W m-2 no larger than "
             f"{MAX_SOLAR_CONSTANT_WM2:g} (today's is about 1361); got {big.ravel()[0]:g}")
+    warn_if_implausible(name, s0, "W m-2", "solar_constant_wm2")
     return s0
 
 
@@ -238,3 +246,23 @@ def experiment_name(name, key: str = "experiment.name") -> str:
         raise BcgenError(f"{key}: the name has {len(name)} characters; the limit is "
                          f"{MAX_EXPERIMENT_NAME} (it starts every file name)")
     return name
+
+
+def warn_if_implausible(name: str, value, unit: str, range_key: str | None = None) -> None:
+    """Warn (:class:`~bcgen.errors.ImplausibleValueWarning`) for a value outside its range.
+
+    The range is :data:`PLAUSIBLE_RANGES` ``[range_key or name]``; the message names the
+    argument, the first value outside and the range, so the spec, the options and the API
+    give the same text for the same value. The warning is attributed to this function so
+    that repeats of one message are shown once.
+    """
+    lo, hi = PLAUSIBLE_RANGES[range_key or name]
+    values = np.atleast_1d(np.asarray(value, dtype=float))
+    outside = values[(values < lo) | (values > hi)]
+    if outside.size:
+        warnings.warn(
+            f"{name}: {float(outside[0]):g} {unit} is outside {lo:g}-{hi:g} {unit}, the range "
+            "expected for the Earth; check the value and its units",
+            ImplausibleValueWarning,
+            stacklevel=1,
+        )

@@ -111,3 +111,27 @@ def test_format_epoch_reads_back(years):
         assert back == years
     else:
         assert abs(back - years) <= 2 * np.spacing(years + 1950.0)
+
+
+@pytest.mark.parametrize("s0", ["800", "1600"])
+def test_cli_spec_and_api_warn_alike_of_an_implausible_solar_constant(run_cli, s0):
+    # 900-1500 W m-2: the plausible range of bcgen.arguments.PLAUSIBLE_RANGES (common
+    # practice); outside it every route warns once, in the same words.
+    status, _, err = run_cli(["insolation", "6ka", "--lat", "65", "--solar-constant", s0])
+    with pytest.warns(bcgen.errors.ImplausibleValueWarning) as record:
+        bcgen.monthly_insolation(ORBIT, "noleap", [65.0], solar_constant_wm2=float(s0))
+    api = {str(w.message) for w in record}
+    assert status == 0
+    lines = [line for line in err.splitlines() if "outside 900-1500" in line]
+    assert len(lines) == 1, err
+    assert len(api) == 1
+    text = api.pop()
+    assert text == f"solar_constant_wm2: {s0} W m-2 is outside 900-1500 W m-2, the range " \
+        "expected for the Earth; check the value and its units"
+    assert lines[0].endswith(text.replace("solar_constant_wm2", "--solar-constant"))
+
+
+def test_a_plausible_solar_constant_does_not_warn():
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", bcgen.errors.ImplausibleValueWarning)
+        bcgen.monthly_insolation(ORBIT, "noleap", [65.0], solar_constant_wm2=1361.0)

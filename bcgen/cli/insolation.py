@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import argparse
 import textwrap
+import warnings
 
 from bcgen import arguments
 from bcgen.cli.common import (
@@ -26,6 +27,7 @@ from bcgen.cli.common import (
     json_text,
     orbit_for_epoch,
 )
+from bcgen.errors import ImplausibleValueWarning
 from bcgen.insolation import (
     CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
     InsolationError,
@@ -130,9 +132,12 @@ def compute(args) -> tuple[dict, OrbitalElements, ModelCalendar]:
         reference_text = args.reference or "1950CE"
         reference = orbit_for_epoch(reference_text, "--reference", "insolation")
     daily_method = DAILY_OPTIONS[args.daily_method or "midday"]
-    result = monthly_insolation(orbit, calendar, latitudes, args.solar_constant, months=months,
-                                reference=reference, year=args.year, daily_method=daily_method)
-    annual = annual_mean_insolation_wm2(orbit, latitudes, args.solar_constant)
+    with warnings.catch_warnings():  # already said above under the option's name
+        warnings.filterwarnings("ignore", r"solar_constant_wm2: ", ImplausibleValueWarning)
+        result = monthly_insolation(orbit, calendar, latitudes, args.solar_constant,
+                                    months=months, reference=reference, year=args.year,
+                                    daily_method=daily_method)
+        annual = annual_mean_insolation_wm2(orbit, latitudes, args.solar_constant)
     epoch = float(orbit.years_from_1950)
     record = {
         "epoch": args.epoch,  # as given, like bcgen orbit

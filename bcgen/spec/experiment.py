@@ -17,7 +17,6 @@ from __future__ import annotations
 
 import hashlib
 import re
-import warnings
 from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -25,9 +24,9 @@ from types import MappingProxyType
 
 import numpy as np
 
-from bcgen.arguments import PLAUSIBLE_RANGES, gas_mole_fraction
+from bcgen.arguments import PLAUSIBLE_RANGES, gas_mole_fraction, warn_if_implausible
 from bcgen.epochs import format_epoch, parse_epoch
-from bcgen.errors import BcgenError, ImplausibleValueWarning
+from bcgen.errors import BcgenError
 from bcgen.orbit import OrbitalElements
 from bcgen.solar_calendar.calendars import NO_YEAR_ZERO_CALENDARS
 from bcgen.spec import schema as S
@@ -37,17 +36,6 @@ from bcgen.spec.grid import GridSpec
 from bcgen.spec.model import CalendarSpec, ExperimentInfo, GasSpec, InsolationSpec, OrbitSpec
 from bcgen.spec.output import OutputSpec, TemplateRef, TimestepTableSpec, check_file_pattern
 from bcgen.spec.transient import TransientSpec
-
-
-def _warn_if_implausible(key: str, value: float, unit: str, name: str | None = None) -> None:
-    lo, hi = PLAUSIBLE_RANGES[name or key]
-    if not lo <= value <= hi:
-        warnings.warn(
-            f"{key}: {value:g} {unit} is outside {lo:g}-{hi:g} {unit}, the range expected "
-            "for the Earth; check the value and its units",
-            ImplausibleValueWarning,
-            stacklevel=3,
-        )
 
 
 @dataclass(frozen=True)
@@ -131,7 +119,7 @@ class ExperimentSpec:
             lo_open=True,
             what="an irradiance in W m-2",
         )
-        _warn_if_implausible("solar_constant_wm2", self.solar_constant_wm2, "W m-2")
+        warn_if_implausible("solar_constant_wm2", self.solar_constant_wm2, "W m-2")
         self._scale_solar_constant()
         for gas in self.greenhouse_gases:
             if gas.name in PLAUSIBLE_RANGES:
@@ -142,7 +130,7 @@ class ExperimentSpec:
                 except BcgenError as exc:
                     raise FieldError(f"greenhouse_gases.{gas.name}",
                                      str(exc).split(": ", 1)[1]) from None
-                _warn_if_implausible(f"greenhouse_gases.{gas.name}", gas.mole_fraction * factor,
+                warn_if_implausible(f"greenhouse_gases.{gas.name}", gas.mole_fraction * factor,
                                      unit, gas.name)
         self._check_gases()
         self._check_products()
