@@ -158,12 +158,36 @@ def broadcast_shapes(arrays: Sequence[tuple[str, np.ndarray]],
                     "arrays of the same shape (or scalars)") from None
 
 
-def obliquity_deg(value, name: str | None = None, *, idealized: bool = False) -> np.ndarray:
+#: Earth's range of obliquity over the last few million years, with a margin (Laskar et
+#: al. 2004 give about 22.0-24.5 degrees; from memory). Outside it a value needs
+#: ``idealized`` (``orbit.idealized: true`` in a spec, ``--idealized``, ``idealized=True``).
+EARTH_OBLIQUITY_RANGE_DEG = (21.0, 25.5)
+
+
+def outside_earth_obliquity(value: float) -> str | None:
+    """Return the words for an obliquity outside :data:`EARTH_OBLIQUITY_RANGE_DEG`, or None.
+
+    Every route gives them, followed by its own way to say ``idealized``.
+    """
+    lo, hi = EARTH_OBLIQUITY_RANGE_DEG
+    if lo <= value <= hi:
+        return None
+    hint = ""
+    if 0.3 < value < 0.5:
+        hint = f"; {value:g} looks like radians ({np.degrees(value):.2f} degrees)"
+    return (f"{value:g} degrees is outside Earth's range (about 22-24.5 degrees in the last "
+            f"few million years){hint}")
+
+
+def obliquity_deg(value, name: str | None = None, *, idealized: bool = False,
+                  earth: bool = False) -> np.ndarray:
     """Check an obliquity in degrees, refusing a value that looks like radians.
 
     An obliquity above 0 and at most :data:`RADIAN_LIKE_OBLIQUITY_MAX` is refused
     (unless ``idealized``) whatever its route (spec, table column, option, API),
-    naming the value in degrees it would be if it were radians.
+    naming the value in degrees it would be if it were radians. With ``earth`` (explicit
+    values: a spec's ``solution: fixed``, the options, the API), a value in [0, 90] outside
+    :data:`EARTH_OBLIQUITY_RANGE_DEG` is refused too unless ``idealized``.
     """
     eps = numbers_array(value, name or "obliquity_deg", OrbitError, "an obliquity in degrees")
     if not idealized:
@@ -174,6 +198,12 @@ def obliquity_deg(value, name: str | None = None, *, idealized: bool = False) ->
             raise OrbitError(
                 f"{prefix}obliquity {v:g} degrees looks like radians ({np.degrees(v):.2f} "
                 "degrees); give degrees (or a column or option named _rad)")
+        for v in eps[(eps >= 0) & (eps <= 90)].ravel() if earth else ():
+            words = outside_earth_obliquity(float(v))
+            if words:
+                prefix = f"{name}: " if name else ""
+                raise OrbitError(f"{prefix}obliquity {words}; pass idealized=True for a "
+                                 "deliberately non-Earth orbit")
     return eps
 
 

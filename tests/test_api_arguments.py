@@ -135,3 +135,42 @@ def test_a_plausible_solar_constant_does_not_warn():
     with warnings.catch_warnings():
         warnings.simplefilter("error", bcgen.errors.ImplausibleValueWarning)
         bcgen.monthly_insolation(ORBIT, "noleap", [65.0], solar_constant_wm2=1361.0)
+
+
+FIXED_OPTIONS = ["--eccentricity", "0.0187", "--perihelion-deg", "0.87",
+                 "--perihelion-convention", "perihelion_longitude"]
+
+
+@pytest.mark.parametrize("obliquity", [0.0, 12.0, 30.0])
+def test_cli_and_api_refuse_a_non_earth_obliquity_alike(run_cli, obliquity):
+    # Earth's obliquity stays within about 22-24.5 degrees over the last few million years
+    # (Laskar et al. 2004, from memory); 21-25.5 is the spec's range with its margin.
+    status, _, err = run_cli(["orbit", "6ka", "--solution", "fixed", "--obliquity-deg",
+                              obliquity, *FIXED_OPTIONS])
+    with pytest.raises(BcgenError) as info:
+        bcgen.solve(None, "fixed", eccentricity=0.0187, obliquity_deg=obliquity,
+                    perihelion_deg=0.87, perihelion_convention="perihelion_longitude")
+    api = str(info.value)
+    assert api == (f"obliquity {obliquity:g} degrees is outside Earth's range (about 22-24.5 "
+                   "degrees in the last few million years); pass idealized=True for a "
+                   "deliberately non-Earth orbit")
+    assert status == 2
+    assert err.strip() == "bcgen: error: --obliquity-deg: " + api.replace(
+        "pass idealized=True", "add --idealized")
+
+
+def test_idealized_lets_a_non_earth_obliquity_through_on_both_routes(run_cli):
+    status, out, err = run_cli(["orbit", "6ka", "--solution", "fixed", "--obliquity-deg", "30",
+                                "--idealized", "--format", "json", *FIXED_OPTIONS])
+    assert status == 0, err
+    assert "30" in out
+    orbit = bcgen.solve(None, "fixed", eccentricity=0.0187, obliquity_deg=30.0,
+                        perihelion_deg=0.87, perihelion_convention="perihelion_longitude",
+                        idealized=True)
+    assert float(orbit.obliquity_deg) == 30.0
+
+
+def test_idealized_goes_with_the_fixed_solution_only(run_cli):
+    status, _, err = run_cli(["orbit", "6ka", "--idealized"])
+    assert status == 2
+    assert "--idealized: only used with --solution fixed" in err

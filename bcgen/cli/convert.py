@@ -65,6 +65,9 @@ def register(subparsers) -> argparse.ArgumentParser:
     orbit.add_argument("--perihelion-convention", choices=tuple(PERIHELION_CONVENTIONS),
                        metavar="NAME", help="convention of --perihelion-deg: "
                        + "; ".join(f"{k}: {v}" for k, v in PERIHELION_CONVENTIONS.items()))
+    orbit.add_argument("--idealized", action="store_true",
+                       help="with explicit elements, a deliberately non-Earth orbit: let an "
+                       "obliquity outside Earth's range (21-25.5 degrees) through")
     p.add_argument("--reference", metavar="EPOCH",
                    help="epoch of the reference orbit (default: the spec's, else 1950CE)")
     p.add_argument("--equinox", metavar='"MM-DD HH:MM"',
@@ -107,6 +110,9 @@ def _orbit_and_calendar(args):
         raise OrbitError("give the run's orbit by exactly one of --spec, --epoch or "
                          "--eccentricity/--obliquity-deg/--perihelion-deg/--perihelion-convention"
                          + (f" (got {', '.join(given)})" if given else ""))
+    if args.idealized and not _explicit(args):
+        raise OrbitError("--idealized goes with explicit elements (--eccentricity, "
+                         "--obliquity-deg, ...), not with --spec or --epoch")
     reference = anchor = calendar = None
     if args.spec is not None:
         from bcgen.experiment import Experiment
@@ -136,7 +142,8 @@ def _orbit_and_calendar(args):
         try:
             orbit = solve(None, "fixed", eccentricity=args.eccentricity,
                           obliquity_deg=args.obliquity_deg, perihelion_deg=args.perihelion_deg,
-                          perihelion_convention=args.perihelion_convention)
+                          perihelion_convention=args.perihelion_convention,
+                          idealized=args.idealized)
         except OrbitError as exc:
             raise OrbitError(name_fixed_option(str(exc))) from None
     if args.reference is not None:

@@ -122,6 +122,9 @@ def register(subparsers) -> argparse.ArgumentParser:
         choices=list(PERIHELION_CONVENTIONS),
         help="convention of --perihelion-deg (required; never guessed)",
     )
+    fixed.add_argument("--idealized", action="store_true",
+                       help="a deliberately non-Earth orbit: let an obliquity outside Earth's "
+                       "range (21-25.5 degrees) through")
     return parser
 
 
@@ -135,6 +138,7 @@ _FIXED_MESSAGES = {
 
 def name_fixed_option(message: str) -> str:
     """Prefix the message of an impossible explicit element with the option that gave it."""
+    message = message.replace("pass idealized=True", "add --idealized")
     for start, option in _FIXED_MESSAGES.items():
         if message.startswith(start):
             return f"{option}: {message}"
@@ -154,7 +158,10 @@ def _solution_options(args: argparse.Namespace) -> dict:
             raise OrbitError(
                 f"--solution fixed needs {', '.join(FIXED_OPTIONS)}; missing {', '.join(missing)}"
             )
-        return {FIXED_OPTIONS[option]: value for option, value in fixed_given.items()}
+        return {**{FIXED_OPTIONS[option]: value for option, value in fixed_given.items()},
+                "idealized": args.idealized}
+    if args.idealized:
+        fixed_given["--idealized"] = True
     if fixed_given:
         raise OrbitError(
             f"{', '.join(fixed_given)}: only used with --solution fixed "

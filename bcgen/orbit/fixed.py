@@ -40,8 +40,8 @@ def solve(
     perihelion_convention : str
         One of :data:`~bcgen.orbit.elements.PERIHELION_CONVENTIONS` (required).
     idealized : bool
-        A deliberately non-Earth orbit: an obliquity that looks like radians is let
-        through (:func:`bcgen.arguments.obliquity_deg`).
+        A deliberately non-Earth orbit: an obliquity outside Earth's range, or one that
+        looks like radians, is let through (:func:`bcgen.arguments.obliquity_deg`).
 
     Raises
     ------
@@ -65,7 +65,7 @@ def solve(
             f"the perihelion convention must be stated as one of "
             f"{', '.join(PERIHELION_CONVENTIONS)}; got {perihelion_convention!r}"
         )
-    obliquity_deg = arguments.obliquity_deg(obliquity_deg, idealized=idealized)
+    obliquity_deg = arguments.obliquity_deg(obliquity_deg, idealized=idealized, earth=True)
     varpi = convert_perihelion(perihelion_deg, perihelion_convention, "perihelion_longitude")
     t = None if years_from_1950 is None else np.asarray(years_from_1950, dtype=float)
     return OrbitalElements(eccentricity, obliquity_deg, varpi, t, NAME)

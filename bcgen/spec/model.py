@@ -8,11 +8,11 @@ sections together live in :class:`bcgen.spec.experiment.ExperimentSpec`.
 
 from __future__ import annotations
 
-import math
 import warnings
 from dataclasses import dataclass
 from pathlib import Path
 
+from bcgen.arguments import outside_earth_obliquity
 from bcgen.epochs import parse_epoch
 from bcgen.errors import BcgenError, DeprecatedCalendarNameWarning
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS, OrbitalElements
@@ -31,10 +31,9 @@ from bcgen.solar_calendar.calendars import (
 from bcgen.spec import schema as S
 from bcgen.spec.common import FieldError, check_choice, check_epoch, check_number, existing_file
 
-#: Earth's range of obliquity and eccentricity over the last few million years, with a
-#: margin (Laskar et al. 2004 give about 22.0-24.5 degrees and e below about 0.07; from
-#: memory). Values outside need ``orbit.idealized: true``.
-EARTH_OBLIQUITY_RANGE_DEG = (21.0, 25.5)
+#: Earth's range of eccentricity over the last few million years, with a margin (Laskar
+#: et al. 2004 give below about 0.07; from memory). Values outside need
+#: ``orbit.idealized: true`` (the obliquity's range: :mod:`bcgen.arguments`).
 EARTH_ECCENTRICITY_MAX = 0.08
 
 
@@ -225,20 +224,11 @@ class OrbitSpec:
             )
 
     def _check_earth_range(self) -> None:
-        lo, hi = EARTH_OBLIQUITY_RANGE_DEG
-        if not lo <= self.obliquity_deg <= hi:
-            hint = ""
-            if 0.3 < self.obliquity_deg < 0.5:
-                hint = (
-                    f"; {self.obliquity_deg:g} looks like radians "
-                    f"({math.degrees(self.obliquity_deg):.2f} degrees)"
-                )
+        words = outside_earth_obliquity(self.obliquity_deg)
+        if words:
             raise FieldError(
                 "orbit.obliquity_deg",
-                f"{self.obliquity_deg:g} degrees is outside "
-                f"Earth's range (about 22-24.5 degrees in the last few million "
-                f"years){hint}; set 'idealized: true' in orbit for a deliberately "
-                "non-Earth orbit",
+                f"{words}; set 'idealized: true' in orbit for a deliberately non-Earth orbit",
             )
         if self.eccentricity > EARTH_ECCENTRICITY_MAX:
             raise FieldError(
