@@ -35,7 +35,8 @@ S0 = CMIP6_PICONTROL_TSI_WM2  # Matthes et al. 2017, CMIP6 piControl
 
 def fixed(e, obliquity_deg, varpi_deg):
     return solve(None, "fixed", eccentricity=e, obliquity_deg=obliquity_deg,
-                 perihelion_deg=varpi_deg, perihelion_convention="perihelion_longitude")
+                 perihelion_deg=varpi_deg, perihelion_convention="perihelion_longitude",
+                 idealized=True)  # the extreme orbit's 30 degrees is outside Earth's range
 
 
 # PMIP4 Tier-1 orbits (Otto-Bliesner et al. 2017; Kageyama et al. 2017) and an extreme one.
