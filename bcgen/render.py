@@ -170,8 +170,11 @@ def _refuse_missing_attributes(text: str, values: Mapping[str, object], source: 
 
 def render_file(path, values: Mapping[str, object]) -> str:
     """Read a template file and render it (see :func:`render_text`)."""
+    from bcgen.sizes import check_template_size
+
     path = Path(path)
     try:
+        check_template_size(path)
         text = path.read_text(encoding="utf-8")
     except OSError as exc:
         raise InputFileError(f"{path}: cannot read template ({exc.strerror})") from None

@@ -23,6 +23,26 @@ BYTES_PER_VALUE = 24
 BYTES_PER_TABLE_ROW = 160
 #: Most cells one time step of a transient run may hold (a float64 step of 8 GB).
 MAX_STEP_CELLS = 1_000_000_000
+#: Largest template file read (a model namelist or attribute template is a few KiB).
+MAX_TEMPLATE_BYTES = 2**20
+#: Most model files one ``bcgen convert`` joins (a century of daily files is 36,525).
+MAX_INPUT_FILES = 100_000
+
+
+def check_template_size(path) -> None:
+    """Refuse a template file larger than :data:`MAX_TEMPLATE_BYTES`, before reading it."""
+    size = os.stat(path).st_size
+    if size > MAX_TEMPLATE_BYTES:
+        raise TooLargeError(f"{path}: template of {_human(size)}; templates are limited to "
+                            f"{_human(MAX_TEMPLATE_BYTES)} (a model input file template is a "
+                            "few KiB)")
+
+
+def check_input_count(count: int) -> None:
+    """Refuse more than :data:`MAX_INPUT_FILES` input files to convert, before opening any."""
+    if count > MAX_INPUT_FILES:
+        raise TooLargeError(f"{count:,} input files; one conversion joins at most "
+                            f"{MAX_INPUT_FILES:,} (convert them in several runs)")
 
 
 def memory_limit_bytes() -> int:

@@ -99,6 +99,12 @@ MORE: dict = {
     "fine_transient.yaml": spec("experiment: {name: f}\ntransient: {start_epoch: 6ka, end_epoch: "
                                 "5990 BP}\ngrid: {kind: regular, resolution_deg: 0.001}\n"
                                 "products: [daily_insolation]\n"),
+    # --- units of model output (read by cf-units, UDUNITS-2)
+    "rsdt_watts.nc": lambda p: _rsdt(p, "W"),
+    "rsdt_nonsense.nc": lambda p: _rsdt(p, "W per square thing"),
+    "rsdt_no_units.nc": lambda p: _rsdt(p, None),
+    "rsdt_blank_units.nc": lambda p: _rsdt(p, " "),
+    "tas_bad_units.nc": lambda p: _model(p, units="degrees of warmth"),
     # --- names
     **{f"name_{k}.yaml": spec(f"experiment: {{name: '{v}'}}\nepoch: 6ka\nproducts: [orbit]\n")
        for k, v in (("dot", "."), ("dotdot", ".."), ("dash", "-rf"), ("hidden", ".t"),
@@ -254,6 +260,21 @@ CASES = {
           ["g_nonsense_units.yaml", "grid_nonsense_units.nc"]),
         C("grid-empty-latitude", "build g_empty.yaml -o out",
           r"grid_empty\.nc: latitude 'lat' has no values", ["g_empty.yaml", "grid_empty.nc"]),
+        C("validate-units-not-a-flux", "validate rsdt_watts.nc --spec ok.yaml",
+          r"^rsdt_watts\.nc:rsdt: units 'W' cannot be converted to W m-2; expected the TOA "
+          r"insolation in W m-2 or a unit convertible to it$", ["rsdt_watts.nc", "ok.yaml"]),
+        C("validate-units-unknown", "validate rsdt_nonsense.nc --spec ok.yaml",
+          r"^rsdt_nonsense\.nc:rsdt: units 'W per square thing' cannot be converted to W m-2",
+          ["rsdt_nonsense.nc", "ok.yaml"]),
+        C("validate-without-units", "validate rsdt_no_units.nc --spec ok.yaml",
+          r"^rsdt_no_units\.nc:rsdt: no units attribute; expected units = \"W m-2\"",
+          ["rsdt_no_units.nc", "ok.yaml"]),
+        C("validate-blank-units", "validate rsdt_blank_units.nc --spec ok.yaml",
+          r"^rsdt_blank_units\.nc:rsdt: no units attribute", ["rsdt_blank_units.nc", "ok.yaml"]),
+        C("convert-units-not-udunits", "convert tas_bad_units.nc -o out.nc --epoch 6ka",
+          r"^tas_bad_units\.nc:tas: units 'degrees of warmth' are not units that UDUNITS-2 "
+          r"knows; correct the attribute \(the conversion keeps it as given\)$",
+          ["tas_bad_units.nc"]),
         C("table-obliquity-in-radians-option", "orbit 6ka --solution table --table rad_table.csv",
           r"^rad_table\.csv: column obliquity_deg: obliquity 0\.4\d* degrees looks like radians "
           r"\(2\d\.\d\d degrees\)", ["rad_table.csv"]),
@@ -333,6 +354,9 @@ CASES = {
         C("plot-orbit-over-40-million-epochs", "plot orbit 0ka..40000ka/1yr -o fig.png",
           r"^source 0ka\.\.40000ka/1yr has 40,000,001 epochs, which would need about 16\.0 GB "
           r"to plot; the limit is 1,000,000 epochs"),
+        C("template-over-a-mebibyte", "build big_template.yaml -o out",
+          r"^big_template\.yaml:\d+:\d+: templates\[0\]: \S*big\.tmpl: template of 1\.0 MiB; "
+          r"templates are limited to 1\.0 MiB", ["big_template.yaml", "big.tmpl"]),
         C("orbit-range-over-the-limit", "orbit 0ka..100000ka/1yr",
           r"^cannot read epoch '0ka\.\.100000ka/1yr': the range has 100000001 epochs; the limit "
           r"is 50,000,000"),
@@ -388,6 +412,74 @@ def _model(path, **kw):
     from test_bad_inputs import write_model
 
     write_model(path, **kw)
+
+
+def _rsdt(path, units):
+    """Model TOA insolation of 300 W m-2 with the given ``units`` (None: no attribute)."""
+    from test_bad_inputs import rsdt
+
+    rsdt(path, lat=np.linspace(-90, 90, 19), value=300.0)
+    with netCDF4.Dataset(path, "a") as nc:
+        if units is None:
+            nc["rsdt"].delncattr("units")
+        else:
+            nc["rsdt"].units = units
+
+
+MORE["big.tmpl"] = b"# " + b"x" * 2**20 + b"\n"  # 1 MiB + 3 bytes: just over the limit
+MORE["big_template.yaml"] = spec("experiment: {name: t}\nepoch: 6ka\nproducts: [orbit]\n"
+                                 "templates: [big.tmpl]\n")
+
+
+@pytest.mark.parametrize("units", ["W/m2", "W m**-2", "watt meter^-2"])
+def test_model_output_in_other_spellings_of_w_m2_reads_the_same(tmp_path, units):
+    from bcgen.validation.readers import read_model_output
+
+    _rsdt(tmp_path / "a.nc", "W m-2")
+    _rsdt(tmp_path / "b.nc", units)
+    a, b = read_model_output(tmp_path / "a.nc"), read_model_output(tmp_path / "b.nc")
+    np.testing.assert_array_equal(b.insolation_wm2, a.insolation_wm2)
+
+
+def test_model_output_in_mw_m2_is_converted(tmp_path):
+    # 1 W = 1000 mW (SI prefixes): 300,000 mW m-2 is 300 W m-2.
+    from bcgen.validation.readers import read_model_output
+
+    _rsdt(tmp_path / "m.nc", "mW m-2")
+    with netCDF4.Dataset(tmp_path / "m.nc", "a") as nc:
+        nc["rsdt"][:] = nc["rsdt"][:] * 1000.0
+    np.testing.assert_allclose(read_model_output(tmp_path / "m.nc").insolation_wm2, 300.0,
+                               rtol=1e-6)
+
+
+def test_convert_keeps_the_units_as_given(tmp_path, monkeypatch, run_cli):
+    monkeypatch.chdir(tmp_path)
+    _model(tmp_path / "w.nc", var="rsdt", units="mW m-2",
+           standard_name="toa_incoming_shortwave_flux")
+    status, _, err = run_cli(["convert", "w.nc", "-o", "out.nc", "--epoch", "6ka"])
+    assert status == 0, err
+    with netCDF4.Dataset(tmp_path / "out.nc") as nc:
+        assert nc["rsdt"].units == "mW m-2"
+
+
+def test_too_many_input_files_are_refused_before_any_is_opened(tmp_path):
+    from bcgen.convert.io import open_inputs
+    from bcgen.errors import TooLargeError
+    from bcgen.sizes import MAX_INPUT_FILES
+
+    paths = [tmp_path / f"m{i}.nc" for i in range(MAX_INPUT_FILES + 1)]  # none exists
+    with pytest.raises(TooLargeError, match=r"^100,001 input files; one conversion joins at "
+                       r"most 100,000 \(convert them in several runs\)$"):
+        open_inputs(paths)
+
+
+def test_a_template_at_the_limit_is_read(tmp_path):
+    from bcgen.render import render_file
+    from bcgen.sizes import MAX_TEMPLATE_BYTES
+
+    path = tmp_path / "t.tmpl"
+    path.write_bytes(b"x" * MAX_TEMPLATE_BYTES)
+    assert len(render_file(path, {})) == MAX_TEMPLATE_BYTES
 
 
 ALL = [(cls, case) for cls, cases in CASES.items() for case in cases]

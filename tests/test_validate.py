@@ -428,7 +428,7 @@ def test_reader_errors_name_the_problem(folder):
         ds = ds.load()
     ds["rsdt"].attrs["units"] = "K"
     ds.to_netcdf(folder / "units.nc")
-    with pytest.raises(InputFileError, match=r"units 'K'; expected W m-2"):
+    with pytest.raises(InputFileError, match=r"rsdt: units 'K' cannot be converted to W m-2"):
         read_model_output(folder / "units.nc", "rsdt")
     with pytest.raises(InputFileError, match="no such file"):
         read_model_output(folder / "absent.nc")

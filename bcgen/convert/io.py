@@ -25,6 +25,7 @@ import xarray as xr
 from bcgen.cf.reader import find_time_dim
 from bcgen.convert.timeaxis import read_time_axis
 from bcgen.errors import InputFileError
+from bcgen.sizes import check_input_count
 
 #: Target size of one chunk of input (all times × a block of space), bytes.
 CHUNK_BYTES = 48 * 1024 * 1024
@@ -65,6 +66,7 @@ def check_inputs(paths: Sequence[os.PathLike | str]) -> list[Path]:
     """
     if not paths:
         raise InputFileError("no input file given")
+    check_input_count(len(paths))
     found = []
     for raw in paths:
         path = Path(raw)
@@ -119,12 +121,14 @@ def open_inputs(paths: Sequence[os.PathLike | str], *, chunk_bytes: int = CHUNK_
     chunk_bytes : int
         Target chunk size in bytes (float64 working copy of one chunk).
     """
+    check_input_count(len(paths))
     if len(paths) == 1:  # errors about its time axis name it when it is read
         path = Path(paths[0])
         if not path.is_file():
             raise InputFileError(f"{path}: no such file")
         ds = _open_one(path)
         dim = find_time_dim(ds, str(path))
+        _check_units(ds, dim, path)
         return ds.chunk(conversion_chunks(ds, dim, chunk_bytes)), str(path)
     ordered = check_inputs(paths)
     label = f"{ordered[0]} ... {ordered[-1]}"
@@ -137,6 +141,7 @@ def open_inputs(paths: Sequence[os.PathLike | str], *, chunk_bytes: int = CHUNK_
             with xr.open_dataset(path, decode_times=False) as other:
                 n_time += other.sizes.get(dim, 0)
                 theirs = _time_variables(other, dim)
+                _check_units(other, dim, path)
                 if theirs != names:
                     raise InputFileError(
                         f"{path}: holds the variables {', '.join(sorted(theirs)) or 'none'} "
@@ -154,6 +159,25 @@ def open_inputs(paths: Sequence[os.PathLike | str], *, chunk_bytes: int = CHUNK_
         raise InputFileError(f"{label}: cannot join the files along time "
                              f"({' '.join(str(exc).split())})") from None
     return ds.chunk({dim: -1}), label
+
+
+def _check_units(ds: xr.Dataset, dim: str, path) -> None:
+    """Refuse a variable to convert whose ``units`` is not a UDUNITS-2 unit (cf-units).
+
+    The conversion is linear, so the units are kept as given; they must still be units.
+    """
+    import cf_units
+
+    for name in sorted(_time_variables(ds, dim)):
+        units = ds[name].attrs.get("units")
+        if units is None:
+            continue
+        try:
+            cf_units.Unit(str(units))
+        except ValueError:
+            raise InputFileError(f"{path}:{name}: units {str(units)!r} are not units that "
+                                 "UDUNITS-2 knows; correct the attribute (the conversion "
+                                 "keeps it as given)") from None
 
 
 def _time_variables(ds: xr.Dataset, dim: str) -> set[str]:

@@ -87,6 +87,13 @@ class TemplateRef:
                 )
         else:
             object.__setattr__(self, "path", existing_file(self.key, self.path, "template"))
+            from bcgen.errors import TooLargeError
+            from bcgen.sizes import check_template_size
+
+            try:
+                check_template_size(self.path)
+            except TooLargeError as exc:
+                raise FieldError(self.key, str(exc)) from None
 
     @property
     def label(self) -> str:

@@ -2,9 +2,10 @@
 
 NetCDF model output
     The variable is the one with CF standard name ``toa_incoming_shortwave_flux``
-    (CMIP models call it ``rsdt``), or the one named with ``--var``; units must
-    be W m-2. Dimensions: time, latitude (1-D, found by standard name, units or
-    axis) and optionally longitude; other dimensions must have length 1.
+    (CMIP models call it ``rsdt``), or the one named with ``--var``; its units
+    must be W m-2 or convertible to it (read by cf-units). Dimensions: time,
+    latitude (1-D, found by standard name, units or axis) and optionally
+    longitude; other dimensions must have length 1.
     Latitudes must be in degrees north (CF §4.1 units ``degrees_north`` or an
     alias; without units they are read as degrees north, with a note): other
     units, such as ``radians`` or the plain ``degrees`` of a rotated pole, and
@@ -218,7 +219,7 @@ def read_model_output(path, var: str | None = None) -> ModelOutput:
         da = ds[name]
         where = f"{path}:{name}"
         notes: list[str] = []
-        _check_units(da, where)
+        to_wm2 = _wm2_factor(da, where)
         daily_method = da.attrs.get("daily_method")
         daily_method = str(daily_method).strip() if daily_method is not None else None
         time_dim, lat_dim, lon_dim = _find_dims(ds, da, where)
@@ -232,6 +233,8 @@ def read_model_output(path, var: str | None = None) -> ModelOutput:
         da = da.squeeze(extra, drop=True) if extra else da
         order = [time_dim, lat_dim] + ([lon_dim] if lon_dim else [])
         da = da.transpose(*order).astype(float)
+        if to_wm2 != 1.0:  # declared units converted by cf-units
+            da = da * to_wm2
         spread = None
         if lon_dim:
             import dask
@@ -294,23 +297,38 @@ def _find_variable(ds, path: Path, var: str | None) -> str:
 
 
 def _is_wm2(units) -> bool:
+    """Whether ``units`` is a UDUNITS-2 unit convertible to W m-2 (read by cf-units)."""
+    import cf_units
+
     if units is None:
         return False
-    # "W m-2", "W/m2", "W m^-2", "W.m-2", "W m**-2", "watt meter-2" (UDUNITS spellings).
-    text = re.sub(r"[\s^.*]", "", str(units).lower())
-    for long, short in (("metre", "m"), ("meter", "m"), ("watts", "w"), ("watt", "w")):
-        text = text.replace(long, short)
-    return text in ("wm-2", "w/m2")
+    try:
+        return cf_units.Unit(str(units)).is_convertible("W m-2")
+    except ValueError:
+        return False
 
 
-def _check_units(da, where: str) -> None:
+def _wm2_factor(da, where: str) -> float:
+    """Factor from the variable's declared ``units`` to W m-2; refuse missing or other units.
+
+    The units are read by cf-units (UDUNITS-2): ``W m-2``, ``W/m2``, ``W m**-2`` and
+    ``mW m-2`` all convert.
+    """
+    import cf_units
+
     units = da.attrs.get("units")
-    if units is None:
-        warnings.warn(f"{where}: no units attribute; read as W m-2", MissingUnitsWarning,
-                      stacklevel=3)
-        return
-    if not _is_wm2(units):
-        raise InputFileError(f"{where}: units {units!r}; expected W m-2 (TOA insolation)")
+    text = "" if units is None else str(units).strip()
+    if not text:
+        raise InputFileError(f"{where}: no units attribute; expected units = \"W m-2\" (or a "
+                             "unit convertible to it) on the TOA insolation")
+    try:
+        unit = cf_units.Unit(text)
+    except ValueError:
+        unit = None
+    if unit is None or not unit.is_convertible("W m-2"):
+        raise InputFileError(f"{where}: units {text!r} cannot be converted to W m-2; expected "
+                             "the TOA insolation in W m-2 or a unit convertible to it")
+    return float(unit.convert(1.0, "W m-2"))
 
 
 
