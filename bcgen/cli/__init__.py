@@ -160,8 +160,17 @@ def console_main() -> None:
 
 def main(argv: list[str] | None = None) -> int:
     """Run the ``bcgen`` command line; return the exit status."""
-    with _sigterm_as_interrupt():
-        return _main(argv)
+    status = None
+    try:
+        with _sigterm_as_interrupt():
+            status = _main(argv)
+    except KeyboardInterrupt as exc:
+        # A signal that lands while the handlers are being reset, after the command has
+        # returned: the command's own status stands if it had one (its outputs are complete);
+        # otherwise it is the clean stop of any other interrupt.
+        if status is None:
+            return _interrupted(exc)
+    return status
 
 
 def _main(argv: list[str] | None) -> int:
