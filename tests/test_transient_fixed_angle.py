@@ -15,18 +15,17 @@ Sources of the expected values:
 from __future__ import annotations
 
 import csv
-from pathlib import Path
 
 import cftime
 import netCDF4
 import numpy as np
 import pytest
+from test_transient import read, write_spec
 
 from bcgen import build
 from bcgen.orbit import solve
 from bcgen.solar_calendar import Anchor, ModelCalendar
 from bcgen.solar_calendar.months import fixed_angle_months
-from bcgen.spec import load_spec
 from bcgen.transient import build_transient
 
 #: Float64 values (bounds, month tables): agreement to the issue's tolerance.
@@ -35,18 +34,6 @@ RTOL = 1e-9
 FLOAT32_RTOL = 1e-6
 #: The time-slice month table is a CSV printed with 6 decimals.
 CSV_ATOL = 5e-7
-
-
-def write_spec(folder: Path, name: str, text: str):
-    path = folder / f"{name}.yaml"
-    path.write_text(text)
-    return load_spec(path)
-
-
-def read(path: Path, name: str) -> np.ndarray:
-    with netCDF4.Dataset(path) as ds:
-        ds.set_auto_mask(False)
-        return np.asarray(ds[name][:])
 
 
 def days_since(year: int, units: str, calendar: str) -> float:
