@@ -34,12 +34,18 @@ MEAN_VARPI_DEG = 0.02
 BERGER_E = 0.0005
 BERGER_VARPI_DEG = 1.0
 LTP_OBLIQUITY_10KA_DEG = 0.02
-# Over 0-100 ka the bound asked for was 0.1°; 0.127° is seen (near 86 ka). The LTP is itself
-# a fit, stated good to several arcminutes over ±200 kyr (Vondrák et al. 2011, from memory),
-# and Berger (1978) is off it by as much (0.148° over 0-100 ka, 0.31° at 200 ka), while
-# nbody and Berger (1978), computed independently, agree within 0.06° over 0-200 ka
-# (checked below). So the bound here is 0.15°.
+# Over 0-100 ka the bound asked for was 0.1°; 0.128° is seen (at 43 ka). The LTP is itself a
+# fit, "accurate to a few arcseconds throughout the historical period, worsening to a few
+# tenths of a degree at the end of the +/- 200,000 year time span" (ERFA's notes to
+# eraLtpecl and eraLtpequ, pyerfa). Its equator and ecliptic are fitted apart, and its
+# equator moves toward and away from its own ecliptic pole, which no torque about the
+# orbit normal can do (see ltp_unforced_obliquity_deg): that motion alone changes its
+# obliquity by up to 0.126° at 44 ka (0.36° at 142 ka), so a solution of the precession
+# equations cannot come within 0.1° of it there. The issue's 0.1° is checked against the
+# rest of LTP's obliquity (LTP_FORCED_OBLIQUITY_100KA_DEG); the raw bound here is 0.15°.
 LTP_OBLIQUITY_100KA_DEG = 0.15
+# The issue's bound (0.1° over 0-100 ka), on LTP's obliquity without its unforced part.
+LTP_FORCED_OBLIQUITY_100KA_DEG = 0.1
 BERGER_OBLIQUITY_200KA_DEG = 0.08
 SPECTRAL_PERIOD_REL = 0.01
 
@@ -144,6 +150,57 @@ def test_obliquity_against_iau_long_term_precession(years_bp, tolerance):
     ltp = np.array([np.degrees(np.arccos(erfa.ltpecl(y) @ erfa.ltpequ(y))) for y in epj])
     mine = nbody.solve(t).obliquity_deg
     assert np.max(np.abs(mine - ltp)) < tolerance
+
+
+def ltp_poles(years_from_1950):
+    """LTP's ecliptic and equator poles at epochs, unit vectors in the J2000 ecliptic frame.
+
+    Source: Vondrák, Capitaine & Wallace (2011), through pyerfa ltpecl/ltpequ (J2000 mean
+    equator and equinox), turned to the J2000 ecliptic by the IAU 2006 obliquity ε0.
+    """
+    epj = 1950.0 + np.asarray(years_from_1950, dtype=float)
+    to_ecliptic = precession.ICRF_TO_ECLIPTIC_J2000.T  # rows are vectors
+    return erfa.ltpecl(epj) @ to_ecliptic, erfa.ltpequ(epj) @ to_ecliptic
+
+
+def ltp_unforced_obliquity_deg(years_from_1950):
+    r"""The part of LTP's obliquity change that its equator makes on its own, from J2000.
+
+    A torque on the equatorial bulge averaged over the orbits about the orbit normal
+    **n** turns the pole **s** along **n** × **s** only (Laskar et al. 1993, eqs. 1-12,
+    the equation solved in :mod:`bcgen.orbit.precession`), so the obliquity
+    ε = arccos(**n**·**s**) changes only as **n** moves. LTP's pole also moves along
+    **n** (**n**·d**s**/dt ≠ 0): this returns
+
+    .. math:: \int_{J2000}^{t} -\frac{\mathbf n\cdot d\mathbf s/dt}{\sin\varepsilon}\,dt
+
+    in degrees (d**s**/dt by central differences over ±5 years, trapezoids on the given
+    epochs, which must start at J2000 and be at most ~100 years apart).
+    """
+    t = np.asarray(years_from_1950, dtype=float)
+    assert t[0] == precession.J2000_YEARS_FROM_1950
+    n, s = ltp_poles(t)
+    ds_dt = (ltp_poles(t + 5.0)[1] - ltp_poles(t - 5.0)[1]) / 10.0
+    rate = -np.sum(n * ds_dt, axis=-1) / np.linalg.norm(np.cross(n, s), axis=-1)
+    steps = 0.5 * (rate[1:] + rate[:-1]) * np.diff(t)
+    return np.degrees(np.concatenate([[0.0], np.cumsum(steps)]))
+
+
+def test_obliquity_against_the_forced_part_of_iau_long_term_precession():
+    # Source: Vondrák, Capitaine & Wallace (2011), via pyerfa ltpecl/ltpequ, without the
+    # part of its obliquity that its equator makes on its own (ltp_unforced_obliquity_deg);
+    # what is left is the obliquity change the precession equations can make (solved
+    # along LTP's own ecliptic, they stay within 0.04° of it over 0-100 ka). The issue's
+    # 0.1° over 0-100 ka holds against it (0.055° seen; with the precession constant
+    # 0.5 % low it is 0.166°, and the check fails).
+    t = np.concatenate([[precession.J2000_YEARS_FROM_1950], table_epochs(100_000)])
+    n, s = ltp_poles(t)
+    forced = np.degrees(np.arccos(np.sum(n * s, axis=-1))) - ltp_unforced_obliquity_deg(t)
+    mine = nbody.solve(t).obliquity_deg
+    assert np.max(np.abs(mine - forced)) < LTP_FORCED_OBLIQUITY_100KA_DEG
+    # The unforced part (0.126° at 44 ka with pyerfa 2.0.1) is why the raw check above has
+    # 0.15°; should a later LTP drop it below 0.1°, restore that check's 0.1° bound.
+    assert np.max(np.abs(ltp_unforced_obliquity_deg(t))) > LTP_FORCED_OBLIQUITY_100KA_DEG
 
 
 def test_obliquity_against_berger_1978_over_200_ka():

@@ -25,8 +25,22 @@ Tidal dissipation moves the Moon away (3.82 cm/yr today, lunar laser ranging,
 Dickey et al. 1994) and slows the Earth's spin in step, through the angular
 momentum of the Earth–Moon pair. ``tidal_dissipation`` scales that rate
 (1 = today's, 0 = none) and ``dynamical_ellipticity`` scales E_d (1 = today's);
-Laskar et al. (2004) write them Td and f. The geodesic precession
-(0.019″/yr) is absorbed in the fitted α; the tidal change of ε itself is left out.
+Laskar et al. (2004) write them Td and f. The tidal change of ε itself is left out.
+
+Why α is tied to ψ_A: at J2000 the orbit normal is the pole of the frame, so the
+pole moves along the fixed ecliptic at α cos ε0, which is what the IAU's ψ_A
+measures; the planetary part of the general precession p_A then comes from the
+integrated ecliptic (5028.790″ per century from the bundled table, against
+5028.796195″ of IAU 2006), and is not counted twice. The geodesic precession (1.92″
+per century about the orbit normal, from memory) is inside the observed ψ_A and
+so inside α cos ε0; that it does not scale with cos ε as the torques do changes the
+rate by less than 0.02″ per century. IAU 2006 also lets E_d fall at today's rate
+of J2 (about −3e-9 per century, Capitaine et al. 2003, from memory), adding about
+−0.007″ per century² to ψ_A; here E_d stays at today's value (Laskar et al. 2004's
+f = 1), so ψ_A's quadratic term is −1.0712″ per century² against the IAU's −1.0790,
+and the equinox parts from that of the IAU long-term precession model (Vondrák et
+al. 2011), whose rate grows into the past as that term asks, by 1.6° at 100 ka and 8°
+at 200 ka (measured).
 
 References
 ----------
@@ -37,6 +51,8 @@ Levrard, B. (2004): A long-term numerical solution for the insolation
 quantities of the Earth. A&A 428, 261-285, doi:10.1051/0004-6361:20041335.
 Capitaine, N., Wallace, P. T. & Chapront, J. (2003): Expressions for IAU 2000
 precession quantities. A&A 412, 567-586, doi:10.1051/0004-6361:20031539.
+Vondrák, J., Capitaine, N. & Wallace, P. (2011): New precession expressions,
+valid for long time intervals. A&A 534, A22.
 Dickey, J. O. et al. (1994): Lunar laser ranging: a continuing legacy of the
 Apollo program. Science 265, 482-490, doi:10.1126/science.265.5171.482.
 """
