@@ -389,9 +389,16 @@ def test_dask_and_numpy_give_identical_results():
     lazy = to_fixed_angle_months(ds.chunk({"lat": 2, "lon": 3}), ORBIT_6KA)
     assert lazy["tas"].chunks is not None
     np.testing.assert_array_equal(lazy["tas"].values, eager["tas"].values)
-    # chunked along time too: time is made one chunk
+    # chunked along time too: each task reads the time pieces of its block in turn
     lazy_t = to_fixed_angle_months(ds.chunk({"time": 12, "lat": 1}), ORBIT_6KA)
     np.testing.assert_array_equal(lazy_t["tas"].values, eager["tas"].values)
+    # pieces of unequal length, time not the first dimension
+    moved = ds.transpose("lat", "time", "lon", ...)
+    lazy_m = to_fixed_angle_months(moved.chunk({"time": (5, 30, 13), "lat": 2}), ORBIT_6KA)
+    eager_m = to_fixed_angle_months(moved, ORBIT_6KA)
+    np.testing.assert_array_equal(lazy_m["tas"].values, eager_m["tas"].values)
+    np.testing.assert_array_equal(eager_m["tas"].transpose("time", "lat", "lon").values,
+                                  eager["tas"].values)
 
 
 def test_runs_on_a_distributed_cluster():

@@ -25,9 +25,10 @@ How
   input's time units (``days since 0001-01-01`` stays so, in both directions), so raw
   time numbers of input and output compare directly.
 - The work is lazy on dask-backed data: each variable goes through
-  :meth:`dask.array.Array.map_blocks`, one task per spatial chunk with the whole time
-  axis (time is made one chunk when needed; the time axis keeps its place, so blocks
-  reach the kernel of :mod:`bcgen.convert.kernels` without a transposing copy). Memory
+  :func:`dask.array.blockwise`, one task per spatial chunk with the whole time axis
+  (the time pieces of the chunk, one per input file, are handed over as a list and
+  read in turn, never joined; the time axis keeps its place, so blocks reach the
+  kernel of :mod:`bcgen.convert.kernels` without a transposing copy). Memory
   stays bounded by the chunk size, and the same graph runs on a dask.distributed
   cluster. Numpy-backed data are converted at once by the same kernel.
 
@@ -64,7 +65,7 @@ from bcgen.convert.aggregate import (
     overlap_weights,
 )
 from bcgen.convert.interpolation import END_RULES, METHODS, MeanPreservingPlan
-from bcgen.convert.kernels import RowWeights, bad_columns
+from bcgen.convert.kernels import RowWeights, bad_columns, joined
 from bcgen.convert.timeaxis import TimeAxis, read_time_axis
 from bcgen.errors import BcgenError, BcgenWarning, OrbitError
 from bcgen.orbit.elements import PERIHELION_CONVENTIONS, OrbitalElements
@@ -113,7 +114,8 @@ class _AggregatePlan:
     def __call__(self, x: np.ndarray) -> np.ndarray:
         return apply_weights(self.weights, x, min_valid_fraction=self.min_valid_fraction)
 
-    def block(self, x: np.ndarray, dtype=np.float64) -> np.ndarray:
+    def block(self, pieces, dtype=np.float64) -> np.ndarray:
+        x = joined([pieces] if isinstance(pieces, np.ndarray) else list(pieces))
         bad = bad_columns(x)
         out = self.rows.apply(x, np.empty((self.rows.index.shape[0], x.shape[1]), dtype))
         if bad is not None:
@@ -133,11 +135,12 @@ class _Kernel:
     def __dask_tokenize__(self):  # the plan is large and made once: name it, do not hash it
         return ("bcgen.convert", self.token, str(self.dtype), self.axis)
 
-    def __call__(self, block: np.ndarray) -> np.ndarray:
-        view = np.moveaxis(np.asarray(block), self.axis, 0)  # no copy when time is first
-        n = view.shape[0]
-        out = self.plan.block(view.reshape(n, -1), self.dtype)
-        return np.moveaxis(out.reshape((out.shape[0],) + view.shape[1:]), 0, self.axis)
+    def __call__(self, block) -> np.ndarray:
+        """Convert a block, or the list of its pieces along time (dask.array.blockwise)."""
+        pieces = block if isinstance(block, list) else [block]
+        views = [np.moveaxis(np.asarray(p), self.axis, 0) for p in pieces]  # no copy: time first
+        out = self.plan.block([v.reshape(v.shape[0], -1) for v in views], self.dtype)
+        return np.moveaxis(out.reshape((out.shape[0],) + views[0].shape[1:]), 0, self.axis)
 
 
 # --- orbit and calendar arguments ----------------------------------------------------------
@@ -342,21 +345,25 @@ def _unpacked_attrs(var: xr.DataArray, dtype: np.dtype) -> dict:
 
 
 def _convert_variable(var: xr.DataArray, dim: str, kernel_plan, n_out: int) -> xr.DataArray:
-    """Convert one variable along ``dim``, lazily (dask.array.map_blocks) when it is chunked.
+    """Convert one variable along ``dim``, lazily (dask.array.blockwise) when it is chunked.
 
     The time axis stays where it is, so the blocks of a (time, lat, lon) variable reach the
-    kernel time-first and contiguous; each block holds the whole time axis.
+    kernel time-first and contiguous; each task gets all the time pieces of one spatial
+    block (one per input file of a multi-file set) as a list, not joined.
     """
     dtype = _out_dtype(var)
     axis = var.dims.index(dim)
     kernel = _Kernel(kernel_plan, dtype, axis)
     data = var.data
-    if var.chunks is not None:  # dask-backed
-        data = data.rechunk({axis: -1})
-        chunks = data.chunks[:axis] + ((n_out,),) + data.chunks[axis + 1:]
-        data = data.map_blocks(kernel, chunks=chunks, dtype=dtype,
-                               meta=np.empty((0,) * data.ndim, dtype=dtype),
-                               name=f"bcgen-convert-{kernel.token}")
+    if var.chunks is not None:  # dask-backed: each task gets the time pieces of a block
+        import dask.array
+
+        index = tuple(f"d{i}" for i in range(data.ndim))
+        out_index = index[:axis] + ("months",) + index[axis + 1:]
+        data = dask.array.blockwise(
+            kernel, out_index, data, index, concatenate=False, new_axes={"months": n_out},
+            dtype=dtype, meta=np.empty((0,) * data.ndim, dtype=dtype),
+            name=f"bcgen-convert-{kernel.token}")
     else:
         data = kernel(np.asarray(data))
     out = xr.DataArray(data, dims=var.dims, name=var.name,
@@ -525,7 +532,7 @@ def to_fixed_angle_months(
     ----------
     ds : xarray.Dataset
         Model output with a decoded CF time axis (numpy- or dask-backed; chunk in space,
-        time is made one chunk).
+        each task reads the whole time axis of its spatial chunk).
     orbit : OrbitalElements, str or callable
         The run's orbit: one orbit (or an epoch such as ``"6ka"``, Berger 1978) for the
         whole input; OrbitalElements of shape (n,), the orbit of each of the n model

@@ -75,7 +75,7 @@ from bcgen.convert.aggregate import (
     finish_mean,
     overlap_weights,
 )
-from bcgen.convert.kernels import RowWeights, SharedThomas, bad_columns, workspace
+from bcgen.convert.kernels import RowWeights, SharedThomas, bad_columns, joined, workspace
 
 Method = Literal["killworth1996", "epstein1991"]
 
@@ -591,24 +591,29 @@ class MeanPreservingPlan:
         a = killworth1996_adjusted(x, np.diff(self.edges_days), cyclic=self.cyclic)
         return self.linear.integrate(a, self.min_valid_fraction)
 
-    def block(self, x: np.ndarray, dtype=np.float64) -> np.ndarray:
-        """Convert a block ``x`` (n, p) of any float type; returns a new (n_target, p) array.
+    def block(self, pieces, dtype=np.float64) -> np.ndarray:
+        """Convert a block (n, p) of any float type; returns a new (n_target, p) array.
 
-        The fast path of :mod:`bcgen.convert.kernels` for columns without missing
-        values; other columns go through :meth:`__call__`.
+        ``pieces`` is the block, or a sequence of its pieces along time (read in turn,
+        see :mod:`bcgen.convert.kernels`). The fast path of :mod:`bcgen.convert.kernels`
+        serves columns without missing values; other columns go through :meth:`__call__`.
         """
+        pieces = [pieces] if isinstance(pieces, np.ndarray) else list(pieces)
+        shape = (sum(piece.shape[0] for piece in pieces), pieces[0].shape[1])
         if self.thomas is None:  # Epstein, or a cycle of one or two intervals
+            x = joined(pieces)
             bad = bad_columns(x)
             xf = np.asarray(x, dtype=np.float64)
             out = self.matrix @ xf if self.matrix is not None else self(xf)
             out = out.astype(dtype)
         else:
-            a = self.thomas.solve(x, workspace("x", x.shape))
+            a = self.thomas.solve(pieces, workspace("x", shape))
             bad = ~np.isfinite(a[0])  # a non-finite value spreads through the whole column
             bad = bad if bad.any() else None
-            out = self.rows.apply(a, np.empty((self.rows.index.shape[0], x.shape[1]), dtype))
+            out = self.rows.apply(a, np.empty((self.rows.index.shape[0], shape[1]), dtype))
         if bad is not None:
-            out[:, bad] = self(np.asarray(x[:, bad], dtype=np.float64))
+            column = np.concatenate([piece[:, bad] for piece in pieces], axis=0)
+            out[:, bad] = self(np.asarray(column, dtype=np.float64))
         return out
 
 

@@ -4,8 +4,10 @@
 (one line naming the file) a missing or unreadable file, a file without a time axis or
 without a calendar attribute on it (a model's calendar is never guessed), mixed
 calendars, and time axes that are neither monthly nor daily or that leave gaps
-between files. The data are dask-backed and chunked for conversion: the whole time
-axis in one chunk, space cut so that one chunk holds about :data:`CHUNK_BYTES`.
+between files. The data are dask-backed and chunked for conversion: space cut so that
+the whole time axis of one chunk holds about :data:`CHUNK_BYTES` (as float64); along
+time, one chunk per file (the conversion reads a chunk's pieces in turn, without
+joining them into a new array).
 
 :func:`write_output` writes through :func:`bcgen.io.write_netcdf` (atomic,
 refuses to overwrite without ``force``), with the data variables' compression taken
@@ -158,7 +160,7 @@ def open_inputs(paths: Sequence[os.PathLike | str], *, chunk_bytes: int = CHUNK_
     except (OSError, ValueError) as exc:
         raise InputFileError(f"{label}: cannot join the files along time "
                              f"({' '.join(str(exc).split())})") from None
-    return ds.chunk({dim: -1}), label
+    return ds, label  # one time chunk per file: the conversion reads them in turn
 
 
 def _check_units(ds: xr.Dataset, dim: str, path) -> None:

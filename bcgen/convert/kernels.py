@@ -10,6 +10,11 @@ to the output type. Only one float64 array the size of the block is needed
 array costs a page fault per 4 KiB page, slower on common machines than the
 arithmetic itself).
 
+A block may come as several pieces along time (one per input file of a multi-file
+set): the Thomas sweep reads their rows in turn (:func:`time_rows`), so the pieces are
+never joined into one new array (a copy of the whole block, on a path that is bound
+by memory traffic).
+
 Columns with missing (non-finite) values are recomputed with the general NaN-aware
 code of :mod:`bcgen.convert.interpolation` or :mod:`bcgen.convert.aggregate`. Every
 column goes the same way whatever block it comes in, so dask-backed and numpy-backed
@@ -18,7 +23,9 @@ inputs give the same bits.
 
 from __future__ import annotations
 
+import itertools
 import threading
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -36,6 +43,16 @@ def workspace(name: str, shape: tuple[int, ...]) -> np.ndarray:
         cache.pop(name, None)  # free the old one before allocating
         arr = cache[name] = np.empty(shape)
     return arr
+
+
+def time_rows(pieces: Sequence[np.ndarray]) -> Iterator[np.ndarray]:
+    """Rows (time steps) of consecutive pieces ``(n_k, p)`` of one block, in order."""
+    return itertools.chain.from_iterable(pieces)
+
+
+def joined(pieces: Sequence[np.ndarray]) -> np.ndarray:
+    """Return the pieces of a block as one array ``(n, p)`` (no copy for a single piece)."""
+    return pieces[0] if len(pieces) == 1 else np.concatenate(pieces, axis=0)
 
 
 def release_workspace() -> None:
@@ -129,14 +146,19 @@ class SharedThomas:
             plan = cls(plan.inv, plan.factor, plan.back, z, c)
         return plan
 
-    def solve(self, rhs: np.ndarray, x: np.ndarray) -> np.ndarray:
-        """Solve for every column of ``rhs`` (n, p), any float type, into float64 ``x``."""
-        n = rhs.shape[0]
-        tmp = np.empty(rhs.shape[1:])
-        np.multiply(rhs[0], self.inv[0], out=x[0])
-        for i in range(1, n):
+    def solve(self, rhs, x: np.ndarray) -> np.ndarray:
+        """Solve for every column into float64 ``x`` (n, p).
+
+        ``rhs`` is an array (n, p) of any float type, or a sequence of such pieces
+        along the first axis that together hold the n rows (read in turn, not joined).
+        """
+        n = x.shape[0]
+        tmp = np.empty(x.shape[1:])
+        rows = time_rows([rhs] if isinstance(rhs, np.ndarray) else rhs)
+        np.multiply(next(rows), self.inv[0], out=x[0])
+        for i, row in enumerate(rows, start=1):
             np.multiply(x[i - 1], self.factor[i], out=tmp)
-            np.multiply(rhs[i], self.inv[i], out=x[i])
+            np.multiply(row, self.inv[i], out=x[i])
             x[i] -= tmp
         for i in range(n - 2, -1, -1):
             np.multiply(x[i + 1], self.back[i], out=tmp)
@@ -150,9 +172,13 @@ class SharedThomas:
         return x
 
 
-def bad_columns(x: np.ndarray) -> np.ndarray | None:
-    """Columns of ``x`` (n, p) holding any non-finite value, or None if there are none."""
+def bad_columns(x) -> np.ndarray | None:
+    """Columns of ``x`` (n, p) holding any non-finite value, or None if there are none.
+
+    ``x`` may also be a sequence of pieces along the first axis (see :func:`time_rows`).
+    """
+    pieces = [x] if isinstance(x, np.ndarray) else x
     with np.errstate(invalid="ignore", over="ignore"):
-        total = x.sum(axis=0, dtype=np.float64)
+        total = sum(piece.sum(axis=0, dtype=np.float64) for piece in pieces)
     bad = ~np.isfinite(total)
     return bad if bad.any() else None
