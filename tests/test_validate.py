@@ -29,6 +29,7 @@ from bcgen.insolation.daily import daily_mean_from_geometry_wm2
 from bcgen.validation import (
     CODES,
     ModelOutput,
+    ValidateOptionError,
     read_model_output,
     read_orbit_table,
     setup_from_spec,
@@ -446,13 +447,18 @@ def test_orbit_table_errors(folder):
         read_orbit_table(bad)
 
 
-def test_transient_spec_refused(folder):
+def test_transient_spec_refuses_time_slice_options(folder):
+    # A transient spec is routed to the model-year check (tests/test_validate_transient.py);
+    # options that only a time-slice check uses are refused, not silently ignored.
     spec = folder / "transient.yaml"
     spec.write_text("experiment:\n  name: t\ntransient:\n  start_epoch: 10ka\n"
                     "  end_epoch: 9ka\nproducts: [orbit]\n", encoding="utf-8")
     path = synthetic_output(folder, None, name="tr.nc")
+    with pytest.raises(ValidateOptionError, match=r"noise_wm2 \(--noise-wm2\) applies to a "
+                                                  r"time-slice check"):
+        validate(path, spec, noise_wm2=0.1)
     with pytest.raises(SpecError, match="validate checks one time slice"):
-        validate(path, spec)
+        setup_from_spec(spec)  # the time-slice route itself still refuses it
 
 
 # --- building blocks against analytic results -----------------------------------------------

@@ -158,3 +158,71 @@ def test_cli_validates_a_transient_run_and_names_the_mistake(tmp_path, run_cli):
     assert status == 1
     assert "diagnosis: orbit_one_year_late" in out
     assert "most likely orbit_one_year_late" in err and len(err.strip().splitlines()) == 1
+
+
+def _split(output: ModelOutput, years: list[int]) -> list[ModelOutput]:
+    """The output cut into consecutive parts that start at the given model years."""
+    edges = [*years, int(output.year.max()) + 1]
+    parts = []
+    for lo, hi in zip(edges[:-1], edges[1:], strict=True):
+        rows = (output.year >= lo) & (output.year < hi)
+        parts.append(ModelOutput(**{**output.__dict__, **{
+            k: getattr(output, k)[rows]
+            for k in ("year", "start_day", "end_day", "month", "insolation_wm2")}}))
+    return parts
+
+
+def test_the_python_api_routes_a_transient_spec_as_the_command_does(tmp_path, run_cli):
+    import json
+
+    import bcgen
+    from bcgen.validation.transient import TransientValidationResult
+
+    (tmp_path / "run.yaml").write_text(SPEC)
+    _write_netcdf(model_output(epochs(shift=1)), tmp_path / "early.nc")
+    result = bcgen.validate(tmp_path / "early.nc", tmp_path / "run.yaml")
+    assert isinstance(result, TransientValidationResult)
+    assert result.verdict == "inconsistent"
+    assert result.findings[0].code == "orbit_one_year_early"
+    status, out, err = run_cli(["validate", str(tmp_path / "early.nc"), "--spec",
+                                str(tmp_path / "run.yaml"), "--format", "json"])
+    assert status == 1
+    assert json.loads(out) == json.loads(json.dumps(result.to_dict()))
+    assert result.summary_line() in err
+    # an orbit table is refused by both routes, in the same words
+    table = tmp_path / "orbit.csv"
+    table.write_text("time_days,declination_deg\n0.5,-23\n")
+    with pytest.raises(Exception, match="checked from its NetCDF insolation output") as caught:
+        bcgen.validate(table, tmp_path / "run.yaml")
+    status, out, err = run_cli(["validate", str(table), "--spec", str(tmp_path / "run.yaml")])
+    assert status == 2 and str(caught.value) in err
+
+
+def test_a_run_split_into_several_files_is_read_as_one(tmp_path, run_cli):
+    import bcgen
+
+    (tmp_path / "run.yaml").write_text(SPEC)
+    late = model_output(epochs(shift=-1))
+    paths = []
+    for i, part in enumerate(_split(late, [1, 5, 9])):
+        paths.append(tmp_path / f"rsdt_{i}.nc")
+        _write_netcdf(part, paths[-1])
+    whole = validate_transient_output(late, parse_spec_text(SPEC))
+    for given in (paths, paths[::-1]):  # any order: the files are ordered by their first time
+        result = bcgen.validate(given, tmp_path / "run.yaml")
+        assert result.model_years == (1, N_YEARS)
+        assert result.findings[0].code == "orbit_one_year_late"
+        assert result.max_abs_error_wm2 == pytest.approx(whole.max_abs_error_wm2, rel=1e-9)
+    status, out, err = run_cli(["validate", *map(str, paths), "--spec",
+                                str(tmp_path / "run.yaml")])
+    assert status == 1 and "diagnosis: orbit_one_year_late" in out
+    # a missing middle file (a gap) and a file given twice (an overlap) are named
+    from bcgen.errors import InputFileError
+
+    with pytest.raises(InputFileError, match=r"rsdt_2.nc: starts at model year 9, day 0 but "
+                                             r".*rsdt_0.nc ends at model year 4, day 365 "
+                                             r"\(a gap between files\)"):
+        bcgen.validate([paths[0], paths[2]], tmp_path / "run.yaml")
+    _write_netcdf(_split(late, [1, 4])[1], tmp_path / "again.nc")  # years 4 ... 13
+    with pytest.raises(InputFileError, match=r"an overlap between files"):
+        bcgen.validate([paths[0], tmp_path / "again.nc"], tmp_path / "run.yaml")

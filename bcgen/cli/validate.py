@@ -18,12 +18,15 @@ examples:
   bcgen validate rsdt_Amon_mymodel_midHolocene.nc --spec configs/protocols/midHolocene.yaml
   bcgen validate rsdt_day.nc --spec my6ka.yaml --var rsdt --format json
   bcgen validate orbit_table.csv --spec my6ka.yaml --tolerance-wm2 0.5
+  bcgen validate rsdt_Amon_deglaciation_*.nc --spec deglaciation.yaml   # transient run
 
 MODEL_FILE is NetCDF output holding TOA incoming shortwave (found by standard_name
 toa_incoming_shortwave_flux, or named with --var), daily or monthly means, zonal
 means or latitude-longitude fields, on any CF calendar; or a CSV table (.csv/.txt)
 from the model's orbit routine with columns time_days and declination_deg,
-distance_factor and/or true_longitude_deg.
+distance_factor and/or true_longitude_deg. Several NetCDF files of one run (split by
+years) are joined along time. With a transient spec each model year is checked
+against its own orbit and transient mistakes are named.
 
 The verdict is 'consistent' when the largest error is within the tolerance plus a
 noise allowance and the RMS error within the tolerance plus the noise level (the noise,
@@ -69,8 +72,9 @@ def register(subparsers) -> argparse.ArgumentParser:
         epilog=EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    parser.add_argument("model_file", metavar="MODEL_FILE",
-                        help="model NetCDF output, or a CSV orbit table (.csv or .txt)")
+    parser.add_argument("model_file", nargs="+", metavar="MODEL_FILE",
+                        help="model NetCDF output (one file, or the files of one run split by "
+                             "years), or a CSV orbit table (.csv or .txt)")
     parser.add_argument("--spec", required=True, metavar="SPEC",
                         help="the experiment spec (YAML) the model should follow")
     parser.add_argument("--var", metavar="NAME",
@@ -105,44 +109,29 @@ def register(subparsers) -> argparse.ArgumentParser:
 
 
 def run(args: argparse.Namespace) -> int:
-    """Run ``bcgen validate``; raise CheckFailed (exit 1) when inconsistent."""
+    """Run ``bcgen validate``; raise CheckFailed (exit 1) when inconsistent.
+
+    A transient spec is checked model year by model year (:func:`bcgen.validation.validate`
+    routes it and returns a TransientValidationResult).
+    """
+    import json
+
     from bcgen.validation import validate
     from bcgen.validation.report import summary_line, to_json, to_text
+    from bcgen.validation.transient import TransientValidationResult
 
-    if _is_transient(args.spec):
-        return _run_transient(args)
-    result = validate(args.model_file, args.spec, var=args.var,
+    files = args.model_file[0] if len(args.model_file) == 1 else args.model_file
+    result = validate(files, args.spec, var=args.var,
                       tolerance_wm2=args.tolerance_wm2, noise_wm2=args.noise_wm2,
                       daily_method=args.daily_method, timestep_minutes=args.timestep_minutes,
                       accept_file_calendar=args.accept_file_calendar)
+    if isinstance(result, TransientValidationResult):
+        print(json.dumps(result.to_dict(), indent=2) if args.format == "json"
+              else result.to_text())
+        if result.verdict != "consistent":
+            raise CheckFailed(result.summary_line())
+        return 0
     print(to_json(result) if args.format == "json" else to_text(result))
     if result.verdict != "consistent":
         raise CheckFailed(summary_line(result))
     return 0
-
-
-def _is_transient(spec_path) -> bool:
-    from bcgen.spec import load_spec
-
-    return load_spec(spec_path).transient is not None
-
-
-def _run_transient(args: argparse.Namespace) -> int:
-    """Check each model year of a transient run against its own orbit (issue 15)."""
-    import json
-
-    from bcgen.errors import InputFileError
-    from bcgen.validation.readers import is_table_path
-    from bcgen.validation.transient import validate_transient
-
-    if is_table_path(args.model_file):
-        raise InputFileError(f"{args.model_file}: a transient run is checked from its NetCDF "
-                             "insolation output, not from an orbit table")
-    result = validate_transient(args.model_file, args.spec, var=args.var,
-                                tolerance_wm2=args.tolerance_wm2,
-                                daily_method=args.daily_method or "day_average")
-    print(json.dumps(result.to_dict(), indent=2) if args.format == "json" else result.to_text())
-    if result.verdict != "consistent":
-        raise CheckFailed(result.summary_line())
-    return 0
-

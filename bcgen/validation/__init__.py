@@ -25,8 +25,8 @@ Calendars that lay out the file's years identically (``standard`` and
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, replace
-from pathlib import Path
 from typing import Literal
 
 import numpy as np
@@ -46,6 +46,7 @@ from bcgen.validation.readers import (
     is_table_path,
     month_of,
     read_model_output,
+    read_model_outputs,
     read_orbit_table,
 )
 from bcgen.validation.reference import CONVENTIONS, ForwardModel, Setup
@@ -518,41 +519,91 @@ def validate(
     n_worst: int = 5,
     accept_file_calendar: bool = False,
     timestep_minutes: float | None = None,
-) -> ValidationResult:
-    """Check a model's output file against an experiment spec.
+):
+    """Check a model's output against an experiment spec (what ``bcgen validate`` does).
+
+    A time-slice spec (``epoch``) checks the output against its one orbit and returns a
+    :class:`ValidationResult`. A transient spec (``transient``) checks each model year
+    against the orbit the spec gives it and names transient mistakes
+    (:func:`bcgen.validation.transient.validate_transient_output`); it returns a
+    :class:`~bcgen.validation.transient.TransientValidationResult`. Both have
+    ``verdict``, ``findings`` and ``to_dict()``; the command line prints the same.
 
     Parameters
     ----------
-    model_file : str or path-like
-        NetCDF model output, or a CSV orbit table (suffix ``.csv`` or ``.txt``).
+    model_file : str, path-like or sequence of them
+        NetCDF model output: one file, or the files of one run as the model wrote
+        them (split by years; joined as :func:`~bcgen.validation.readers.read_model_outputs`
+        does). A time slice may instead give a CSV orbit table (suffix ``.csv`` or
+        ``.txt``).
     spec : str, path-like or ExperimentSpec
-        The experiment spec (a time slice).
+        The experiment spec (a time slice or a transient run).
     var : str, optional
         NetCDF variable name (default: found by standard name).
     tolerance_wm2 : float
         Tolerance T of the verdict, W m-2 (default 1).
     noise_wm2 : float, optional
-        Noise level σ, W m-2 (default: estimated).
+        Noise level σ, W m-2 (default: estimated). Time slices only.
     daily_method : {"midday", "day_average", "timestep_mean"}, optional
         Force the daily-mean convention (default: from the file's attribute,
-        the spec, or fitted; :mod:`bcgen.validation.convention`).
+        the spec, or fitted; :mod:`bcgen.validation.convention`). A transient check
+        takes ``midday`` or ``day_average`` (default ``day_average``).
     band_edges_deg, n_worst, accept_file_calendar, timestep_minutes
-        See :func:`validate_output`.
+        See :func:`validate_output`. Time slices only.
 
     Returns
     -------
-    ValidationResult
+    ValidationResult or TransientValidationResult
     """
+    from bcgen.spec import ExperimentSpec, load_spec
+
+    if not isinstance(spec, ExperimentSpec):
+        spec = load_spec(spec)
+    files = [model_file] if isinstance(model_file, (str, bytes, os.PathLike)) else list(model_file)
+    if spec.transient is not None:
+        _refuse_time_slice_options(
+            spec, noise_wm2=noise_wm2 is not None, accept_file_calendar=accept_file_calendar,
+            timestep_minutes=timestep_minutes is not None, n_worst=n_worst != 5,
+            band_edges_deg=tuple(band_edges_deg) != tuple(DEFAULT_BAND_EDGES_DEG))
+        if daily_method not in (None, "midday", "day_average"):
+            raise ValidateOptionError(
+                f"{spec.path or 'spec'}: a transient run is checked with daily_method "
+                f"(--daily-method) midday or day_average, not {daily_method!r}")
+        from bcgen.validation.transient import validate_transient
+
+        return validate_transient(files, spec, var=var, tolerance_wm2=tolerance_wm2,
+                                  daily_method=daily_method or "day_average")
     setup = setup_from_spec(spec)
-    if is_table_path(model_file):
+    if any(is_table_path(f) for f in files):
         if var is not None:
-            raise InputFileError(f"{model_file}: --var applies to NetCDF files, not to an orbit "
+            raise InputFileError(f"{files[0]}: --var applies to NetCDF files, not to an orbit "
                                  f"table")
-        output = table_to_output(read_orbit_table(model_file), setup)
+        if len(files) != 1:
+            raise InputFileError(f"{files[1]}: an orbit table is checked on its own; give one "
+                                 "table, or NetCDF files only")
+        output = table_to_output(read_orbit_table(files[0]), setup)
     else:
-        output = read_model_output(Path(model_file), var)
+        output = read_model_outputs(files, var)
     return validate_output(output, setup, tolerance_wm2, noise_wm2, band_edges_deg, n_worst,
                            accept_file_calendar, daily_method, timestep_minutes)
+
+
+#: Options of a time-slice check only: API name -> command-line option (None: API only).
+_TIME_SLICE_OPTIONS = {
+    "noise_wm2": "--noise-wm2", "accept_file_calendar": "--accept-file-calendar",
+    "timestep_minutes": "--timestep-minutes", "n_worst": None, "band_edges_deg": None,
+}
+
+
+def _refuse_time_slice_options(spec, **given: bool) -> None:
+    """Refuse an option that a transient check would ignore, named as both routes name it."""
+    for name, on in given.items():
+        if on:
+            option = _TIME_SLICE_OPTIONS[name]
+            shown = f"{name} ({option})" if option else name
+            raise ValidateOptionError(
+                f"{spec.path or 'spec'}: {shown} applies to a time-slice check; a transient "
+                "run is checked model year by model year within the tolerance (leave it out)")
 
 
 __all__ = [
@@ -566,6 +617,7 @@ __all__ = [
     "ValidateOptionError",
     "ValidationResult",
     "read_model_output",
+    "read_model_outputs",
     "read_orbit_table",
     "same_calendar_layout",
     "setup_from_spec",

@@ -270,6 +270,94 @@ def read_model_output(path, var: str | None = None) -> ModelOutput:
     )
 
 
+def read_model_outputs(paths, var: str | None = None) -> ModelOutput:
+    """Read model output written as one file or as several (a run split by years).
+
+    Each file is read by :func:`read_model_output` (the one CF reader,
+    :mod:`bcgen.cf.reader`); the files are then joined along time as ``bcgen convert``
+    joins its inputs: ordered by their first time, with the same variable, calendar,
+    kind of values and latitudes, and each file starting where the one before it ends.
+
+    Parameters
+    ----------
+    paths : str, path-like or sequence of them
+        One NetCDF file, or the files of one run in any order.
+    var : str, optional
+        Variable name (default: found by standard name in each file).
+
+    Raises
+    ------
+    InputFileError
+        As :func:`read_model_output` for each file; naming the file that differs from
+        the first (variable, calendar, kind of values, latitudes) or that leaves a gap
+        or an overlap with the file before it.
+    """
+    if isinstance(paths, (str, bytes)) or not hasattr(paths, "__iter__"):
+        paths = [paths]
+    paths = [Path(p) for p in paths]
+    if not paths:
+        raise InputFileError("no model file given")
+    parts = [read_model_output(p, var) for p in paths]
+    if len(parts) == 1:
+        return parts[0]
+    names = [part.source[len(str(path)) + 1:] for path, part in zip(paths, parts, strict=True)]
+    first, p0 = parts[0], paths[0]
+    for path, part, name in zip(paths, parts, names, strict=True):
+        for what, mine, theirs in (("variable", name, names[0]),
+                                   ("calendar", part.calendar, first.calendar),
+                                   ("values", part.frequency, first.frequency),
+                                   ("daily_method", part.daily_method, first.daily_method)):
+            if mine != theirs:
+                raise InputFileError(f"{path}: {what} {mine} differs from {p0} ({theirs}); the "
+                                     "files of one run must hold the same variable, calendar "
+                                     "and kind of values")
+        if part.latitude_deg.shape != first.latitude_deg.shape or not np.allclose(
+                part.latitude_deg, first.latitude_deg, rtol=0.0, atol=1e-6):
+            raise InputFileError(f"{path}: latitudes differ from those of {p0}; the files of "
+                                 "one run must share a grid")
+    order = sorted(range(len(parts)), key=lambda i: (parts[i].year[0], parts[i].start_day[0]))
+    cal = ModelCalendar(first.calendar) if first.calendar else None
+    for i, j in zip(order[:-1], order[1:], strict=True):
+        _check_join(parts[i], paths[i], parts[j], paths[j], cal)
+    ordered = [parts[i] for i in order]
+
+    def joined(name: str) -> np.ndarray:
+        return np.concatenate([getattr(part, name) for part in ordered])
+
+    spreads = [part.zonal_spread_wm2 for part in ordered if part.zonal_spread_wm2 is not None]
+    notes = tuple(dict.fromkeys(n for part in ordered for n in part.notes))
+    return ModelOutput(
+        source=f"{paths[order[0]]} ... {paths[order[-1]]}:{names[0]}",
+        calendar=first.calendar, frequency=first.frequency, year=joined("year"),
+        start_day=joined("start_day"), end_day=joined("end_day"), month=joined("month"),
+        latitude_deg=first.latitude_deg, insolation_wm2=joined("insolation_wm2"),
+        zonal_spread_wm2=max(spreads) if spreads else None,
+        notes=(*notes, f"{len(parts)} files joined along time"),
+        daily_method=first.daily_method)
+
+
+#: Largest mismatch between the end of one file and the start of the next, days.
+_JOIN_TOL_DAYS = 1e-5
+
+
+def _check_join(a: ModelOutput, path_a, b: ModelOutput, path_b, cal) -> None:
+    """Refuse a gap or an overlap between the last interval of ``a`` and the first of ``b``."""
+    ya, end = int(a.year[-1]), float(np.max(a.end_day[a.year == a.year[-1]]))
+    yb, start = int(b.year[0]), float(b.start_day[0])
+    if cal is None:
+        return
+    between = sum(cal.year_length_days(y) for y in range(ya, yb)) if yb >= ya else -sum(
+        cal.year_length_days(y) for y in range(yb, ya))
+    step = start + between - end  # days from the end of a to the start of b
+    instant = a.frequency == "instant"
+    if (instant and step > 0.0) or (not instant and abs(step) <= _JOIN_TOL_DAYS):
+        return
+    what = "an overlap" if step < 0 else "a gap"
+    raise InputFileError(f"{path_b}: starts at model year {yb}, day {start:g} but {path_a} ends "
+                         f"at model year {ya}, day {end:g} ({what} between files); expected "
+                         "consecutive files of one run")
+
+
 def _first_line(exc: BaseException) -> str:
     text = str(exc).strip().splitlines()
     return text[0] if text else "no detail"

@@ -33,6 +33,7 @@ the orbit barely moves in either case).
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field, replace
 
 import numpy as np
@@ -318,12 +319,20 @@ def validate_transient_output(output: ModelOutput, spec, *, tolerance_wm2: float
 
 def validate_transient(model_file, spec, *, var: str | None = None, tolerance_wm2: float = 1.0,
                        daily_method: str = "day_average") -> TransientValidationResult:
-    """Read a transient run's insolation file and check it (:func:`validate_transient_output`)."""
-    from pathlib import Path
+    """Read a transient run's insolation and check it (:func:`validate_transient_output`).
 
-    from bcgen.validation.readers import read_model_output
+    ``model_file`` is one NetCDF file or the files of the run as the model wrote them
+    (split by years), joined by :func:`bcgen.validation.readers.read_model_outputs`.
+    """
+    from bcgen.errors import InputFileError
+    from bcgen.validation.readers import is_table_path, read_model_outputs
 
-    output = read_model_output(Path(model_file), var)
+    files = [model_file] if isinstance(model_file, (str, bytes, os.PathLike)) else model_file
+    for path in files:
+        if is_table_path(path):
+            raise InputFileError(f"{path}: a transient run is checked from its NetCDF "
+                                 "insolation output, not from an orbit table")
+    output = read_model_outputs(files, var)
     return validate_transient_output(output, spec, tolerance_wm2=tolerance_wm2,
                                      daily_method=daily_method)
 
