@@ -457,7 +457,7 @@ def test_transient_spec_refuses_time_slice_options(folder):
     with pytest.raises(ValidateOptionError, match=r"noise_wm2 \(--noise-wm2\) applies to a "
                                                   r"time-slice check"):
         validate(path, spec, noise_wm2=0.1)
-    with pytest.raises(SpecError, match="validate checks one time slice"):
+    with pytest.raises(SpecError, match="setup_from_spec describes one time slice"):
         setup_from_spec(spec)  # the time-slice route itself still refuses it
 
 

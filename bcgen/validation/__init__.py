@@ -149,8 +149,9 @@ def setup_from_spec(spec, daily_method: str | None = None) -> Setup:
         spec = load_spec(spec)
     where = f"{spec.path}: " if spec.path is not None else ""
     if getattr(spec, "transient", None) is not None:
-        raise SpecError(f"{where}transient: validate checks one time slice; give a spec with "
-                        f"'epoch' for the model year you are checking")
+        raise SpecError(f"{where}transient: setup_from_spec describes one time slice; check a "
+                        f"transient run with bcgen.validate (each model year against its own "
+                        f"orbit) or give a spec with 'epoch'")
     from bcgen.experiment import Experiment
 
     experiment = Experiment(spec)  # orbit, S0 and calendar resolved as every command does
