@@ -175,6 +175,26 @@ class OrbitalElements:
                 value.flags.writeable = False
                 object.__setattr__(self, name, value)
 
+    @classmethod
+    def from_checked(cls, eccentricity: np.ndarray, obliquity_deg: np.ndarray,
+                     perihelion_longitude_deg: np.ndarray, years_from_1950: np.ndarray,
+                     solution: str) -> OrbitalElements:
+        """Wrap arrays a solution of the package has just computed and checked, without copies.
+
+        For solutions that evaluate many epochs at once (the ``nbody`` table): the caller
+        guarantees what :meth:`__post_init__` would check -- float64 arrays of one shape,
+        0 ≤ e < 1, 0 ≤ ε ≤ 90, ϖ in [0, 360), finite epochs -- and hands over arrays no
+        one else holds; they are made read-only here, as the checked path makes them.
+        """
+        self = object.__new__(cls)
+        for name, value in (("eccentricity", eccentricity), ("obliquity_deg", obliquity_deg),
+                            ("perihelion_longitude_deg", perihelion_longitude_deg),
+                            ("years_from_1950", years_from_1950)):
+            value.flags.writeable = False
+            object.__setattr__(self, name, value)
+        object.__setattr__(self, "solution", solution)
+        return self
+
     # --- derived quantities -------------------------------------------------------------
     @property
     def shape(self) -> tuple[int, ...]:

@@ -42,12 +42,13 @@ import hashlib
 import os
 import warnings
 from dataclasses import dataclass
-from functools import cache
+from functools import cache, cached_property
 from importlib import resources
 from pathlib import Path
 
 import numpy as np
 
+from bcgen.arguments import real_array
 from bcgen.epochs import format_epoch
 from bcgen.errors import OrbitError, OutsideValidityWarning
 from bcgen.orbit.elements import OrbitalElements
@@ -69,7 +70,12 @@ _COLUMNS = ("eccentricity", "obliquity_deg", "e_sin_varpi", "e_cos_varpi")
 
 @dataclass(frozen=True)
 class Table:
-    """Rows of the solution on a uniform grid of epochs (years from 1950 CE)."""
+    """Rows of the solution on a uniform grid of epochs (years from 1950 CE).
+
+    ``columns`` maps each name of :data:`_COLUMNS` to a float64 array, one value per row;
+    :meth:`lerp_parts` holds each column as its rows (but the last) and the change to the
+    next row, so that a linear interpolation is one gather and one multiply-add.
+    """
 
     first_epoch: float
     step_years: float
@@ -89,6 +95,32 @@ class Table:
     def years_from_1950(self) -> np.ndarray:
         """Epoch of every row."""
         return self.first_epoch + self.step_years * np.arange(self.n_rows)
+
+    @cached_property
+    def lerp_parts(self) -> dict[str, tuple[np.ndarray, np.ndarray]]:
+        """Column name -> (rows but the last, change to the next row), float64."""
+        return {name: (np.ascontiguousarray(v[:-1]), np.diff(v))
+                for name, v in self.columns.items()}
+
+    def check(self, where: str) -> Table:
+        """Refuse rows that are not orbital elements (once, when the table is read).
+
+        Values interpolated between checked rows stay within their range, so the
+        elements evaluated from the table need no check of their own.
+        """
+        c = self.columns
+        bad = [name for name in _COLUMNS if not np.all(np.isfinite(c[name]))]
+        if self.n_rows < 2 or bad or not (np.isfinite(self.first_epoch)
+                                          and np.isfinite(self.step_years)
+                                          and self.step_years != 0):
+            raise OrbitError(f"{where}: not a table of the nbody solution (fewer than 2 rows, "
+                             "or values that are not finite numbers)")
+        e, eps = c["eccentricity"], c["obliquity_deg"]
+        if not (np.all((e >= 0) & (e < 0.5)) and np.all((eps >= 0) & (eps <= 90))):
+            raise OrbitError(f"{where}: eccentricity outside [0, 0.5) or obliquity outside "
+                             "[0, 90] degrees; remake the table with "
+                             "python -m bcgen.orbit.nbody_generate")
+        return self
 
 
 def table_source() -> str:
@@ -118,8 +150,9 @@ def _raw(source: str) -> dict[str, np.ndarray]:
 @cache
 def _table(source: str) -> Table:
     raw = _raw(source)
-    return Table(float(raw["first_epoch_years_from_1950"]), float(raw["step_years"]),
-                 {name: np.ascontiguousarray(raw[name], dtype=float) for name in _COLUMNS})
+    table = Table(float(raw["first_epoch_years_from_1950"]), float(raw["step_years"]),
+                  {name: np.ascontiguousarray(raw[name], dtype=float) for name in _COLUMNS})
+    return table.check(source or TABLE_FILE)
 
 
 def cache_dir() -> Path:
@@ -128,25 +161,51 @@ def cache_dir() -> Path:
     return Path(root)
 
 
+#: Epochs evaluated at once by :func:`interpolate`: its work arrays stay in the CPU cache.
+BLOCK_EPOCHS = 1 << 14
+
+
 def interpolate(table: Table, years_from_1950) -> OrbitalElements:
-    """Elements at the epochs, linear between rows (ϖ through its components)."""
-    t = np.asarray(years_from_1950, dtype=float)
-    x = np.asarray((t - table.first_epoch) * (1.0 / table.step_years))  # (0-d too)
-    i = x.astype(np.intp)  # truncation: the row before t (x >= 0 inside the table)
-    np.clip(i, 0, table.n_rows - 2, out=i)
-    x -= i  # the weight of the next row
-    cols = table.columns
+    """Elements at the epochs, linear between rows (ϖ through its components).
 
-    def lerp(name):
-        v = cols[name]
-        lo = np.take(v, i)
-        lo += x * (np.take(v[1:], i) - lo)
-        return lo
-
-    e, eps = lerp("eccentricity"), lerp("obliquity_deg")
-    varpi_deg = np.degrees(np.arctan2(lerp("e_sin_varpi"), lerp("e_cos_varpi")))
-    varpi_deg += np.where(varpi_deg < 0.0, 360.0, 0.0)  # into [0, 360) before validation
-    return OrbitalElements(e, eps, varpi_deg, t, NAME)
+    The epochs must be finite and lie within the table (:func:`solve` checks both);
+    an epoch outside takes the nearest row pair's straight line. The work goes in
+    blocks of :data:`BLOCK_EPOCHS` epochs with reused buffers, so that only the three
+    outputs and the epochs' own copy are allocated at full size.
+    """
+    t = np.array(years_from_1950, dtype=float)  # a copy: the elements keep their epochs
+    flat = t.reshape(-1)
+    n = flat.size
+    parts = table.lerp_parts
+    outputs = {name: np.empty(n) for name in ("eccentricity", "obliquity_deg", "varpi")}
+    size = max(1, min(n, BLOCK_EPOCHS))
+    x, tmp, sine, cosine = (np.empty(size) for _ in range(4))
+    row = np.empty(size, dtype=np.intp)
+    scale, last_pair = 1.0 / table.step_years, table.n_rows - 2
+    for lo in range(0, n, size):
+        hi = min(lo + size, n)
+        m = hi - lo
+        xb, ib, tb = x[:m], row[:m], tmp[:m]
+        np.subtract(flat[lo:hi], table.first_epoch, out=xb)
+        xb *= scale  # fractional row, >= 0 inside the table
+        np.copyto(ib, xb, casting="unsafe")  # truncation: the row before t
+        np.clip(ib, 0, last_pair, out=ib)
+        xb -= ib  # the weight of the next row
+        for name, out in (("eccentricity", outputs["eccentricity"][lo:hi]),
+                          ("obliquity_deg", outputs["obliquity_deg"][lo:hi]),
+                          ("e_sin_varpi", sine[:m]), ("e_cos_varpi", cosine[:m])):
+            base, change = parts[name]
+            np.take(base, ib, out=out, mode="clip")  # ib is in range: no index check
+            np.take(change, ib, out=tb, mode="clip")
+            tb *= xb
+            out += tb
+        np.arctan2(sine[:m], cosine[:m], out=outputs["varpi"][lo:hi])
+    varpi_deg = np.degrees(outputs["varpi"], out=outputs["varpi"])  # (-180, 180]
+    np.add(varpi_deg, 360.0, out=varpi_deg, where=varpi_deg < 0.0)
+    np.copyto(varpi_deg, 0.0, where=varpi_deg >= 360.0)  # -1e-14 + 360 rounds to 360
+    return OrbitalElements.from_checked(
+        *(a.reshape(t.shape) for a in (outputs["eccentricity"], outputs["obliquity_deg"],
+                                       varpi_deg)), t, NAME)
 
 
 def solve(years_from_1950, *, dynamical_ellipticity: float = 1.0,
@@ -181,9 +240,10 @@ def solve(years_from_1950, *, dynamical_ellipticity: float = 1.0,
     OutsideValidityWarning
         For epochs more than 10 Myr before 1950 CE.
     """
-    t = np.asarray(years_from_1950, dtype=float)
-    if not np.all(np.isfinite(t)):
-        raise OrbitError("epochs must be finite numbers of years from 1950 CE; got NaN or inf")
+    t = np.asarray(years_from_1950)
+    if t.dtype.kind not in "iuf":  # lists of numbers become floats; text, booleans refused
+        t = real_array(years_from_1950, "years_from_1950", OrbitError,
+                       "years from 1950 CE as numbers")
     for name, value in (("dynamical_ellipticity", dynamical_ellipticity),
                         ("tidal_dissipation", tidal_dissipation)):
         if not (np.isfinite(value) and 0.0 <= value <= 10.0 and
@@ -194,7 +254,9 @@ def solve(years_from_1950, *, dynamical_ellipticity: float = 1.0,
     table = _table(source)
     if t.size == 0:
         return OrbitalElements(t, t, t, t, NAME)
-    newest, oldest = float(np.max(t)), float(np.min(t))
+    newest, oldest = float(np.max(t)), float(np.min(t))  # NaN in t makes both NaN
+    if not (np.isfinite(newest) and np.isfinite(oldest)):
+        raise OrbitError("epochs must be finite numbers of years from 1950 CE; got NaN or inf")
     if newest > table.first_epoch:
         raise OrbitError(
             f"epoch {format_epoch(newest)} is after {format_epoch(table.first_epoch)}, the end "
