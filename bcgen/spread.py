@@ -111,8 +111,9 @@ def spread_record(orbit: OrbitalElements, years_from_1950: float,
             continue
         if name == "nbody" and nbody.needs_integration(years_from_1950):
             not_compared[name] = (
-                "the epoch is beyond the bundled nbody table (5 Myr BP); integrate it once "
-                "with 'bcgen orbit EPOCH --solution nbody' (cached) to include it"
+                "the epoch is outside the bundled nbody table (2050 CE to 5 Myr BP); "
+                "integrate it once with 'bcgen orbit EPOCH --solution nbody' (cached) to "
+                "include it"
             )
             continue
         try:

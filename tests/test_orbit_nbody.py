@@ -120,6 +120,7 @@ def test_epochs_beyond_the_table_are_integrated_and_cached(tmp_path, monkeypatch
     # A second process finds the cache: no integration.
     monkeypatch.setenv("BCGEN_NBODY_TABLE", str(truncated_table(tmp_path)))
     nbody._extended.cache_clear()
+    nbody._evaluated.cache_clear()
 
     def refuse(*args):
         raise AssertionError("integrated again despite the cache")
@@ -127,6 +128,63 @@ def test_epochs_beyond_the_table_are_integrated_and_cached(tmp_path, monkeypatch
     monkeypatch.setattr(integ, "integrate_rows", refuse)
     again = nbody.solve(t)
     np.testing.assert_array_equal(again.eccentricity, beyond.eccentricity)
+
+
+# --- after 2050 CE: forward from the DE421 state, cached on disk ------------------------------
+FUTURE_EPOCHS = np.arange(100.0, 5001.0, 50.0)  # 2050 CE to 6950 CE
+
+
+def test_future_epochs_continue_the_table_at_2050_ce(monkeypatch):
+    # Row 0 (2050 CE) integrated again on the way forward is the table's own row: the same
+    # code from the same DE421 state (the tolerance allows for another CPU's rounding).
+    raw = nbody.raw_table()
+    ahead = nbody.future_vectors(nbody.table_source(), 49)
+    np.testing.assert_allclose(ahead["ecc_vector"][0], raw["ecc_vector"][0], atol=2e-7)
+    np.testing.assert_allclose(ahead["orbit_normal"][0], raw["orbit_normal"][0], atol=2e-7)
+    columns = nbody._future_columns(nbody.table_source(), 49)
+    for name, tol in (("eccentricity", 2e-7), ("obliquity_deg", 1e-6),
+                      ("e_sin_varpi", 2e-7), ("e_cos_varpi", 2e-7)):
+        assert columns[name][0] == pytest.approx(raw[name][0], abs=tol)
+    # No kink at 2050 CE: the second differences of 100-year rows centred on 2050 and 2150 CE
+    # (which mix table and forward rows) are no larger than those within the table over the
+    # 2 kyr before (left by the 100-year means' residual short-period terms).
+    t = np.arange(-2000.0, 201.0, 100.0)
+    solved = nbody.solve(t)
+    for series in (solved.eccentricity, solved.obliquity_deg, solved.precession_index):
+        curvature = np.abs(np.diff(series, 2))  # centred on t[1:-1]
+        assert np.max(curvature[-2:]) <= 1.5 * np.max(curvature[:-3])
+    # A second process finds the cache: no integration.
+    nbody._evaluated.cache_clear()
+
+    def refuse(*args):
+        raise AssertionError("integrated again despite the cache")
+
+    monkeypatch.setattr(integ, "integrate_rows", refuse)
+    again = nbody.solve(FUTURE_EPOCHS)
+    assert again.shape == FUTURE_EPOCHS.shape
+    assert not nbody.needs_integration(FUTURE_EPOCHS)
+    nbody._evaluated.cache_clear()
+
+
+def test_future_epochs_against_published_references():
+    # Source: Vondrák, Capitaine & Wallace (2011), A&A 534, A22, the IAU long-term precession
+    # model, through pyerfa ltpecl/ltpequ (obliquity = angle between the ecliptic and equator
+    # poles); the issue's near-present bound, 0.02°, over 5 kyr ahead.
+    import erfa
+
+    from bcgen.orbit import berger1978
+
+    mine = nbody.solve(FUTURE_EPOCHS)
+    ltp = np.array([np.degrees(np.arccos(erfa.ltpecl(y) @ erfa.ltpequ(y)))
+                    for y in 1950.0 + FUTURE_EPOCHS])
+    assert np.max(np.abs(mine.obliquity_deg - ltp)) < 0.02
+    # Source: Berger (1978), J. Atmos. Sci. 35, 2362 (valid about ±1 Myr): the near-present
+    # bounds of the past, e within 0.0005 and ϖ within 1°, hold ahead as well.
+    ref = berger1978.solve(FUTURE_EPOCHS)
+    assert np.max(np.abs(mine.eccentricity - ref.eccentricity)) < 0.0005
+    dvarpi = (mine.perihelion_longitude_deg - ref.perihelion_longitude_deg + 180) % 360 - 180
+    assert np.max(np.abs(dvarpi)) < 1.0
+    nbody._evaluated.cache_clear()
 
 
 # --- options, validity, errors ------------------------------------------------------------------
@@ -154,10 +212,12 @@ def test_tidal_history_signs():
 
 
 def test_limits_and_warnings():
-    with pytest.raises(OrbitError, match="after 2050CE, the end of the nbody solution"):
-        nbody.solve(150.0)
-    with pytest.raises(OrbitError, match="beyond 50 Myr BP"):
+    with pytest.raises(OrbitError, match="more than 50 Myr from 1950 CE"):
         nbody.solve(-60e6)
+    with pytest.raises(OrbitError, match="more than 50 Myr from 1950 CE"):
+        nbody.solve(60e6)
+    with pytest.raises(OrbitError, match="years from 1950 CE as numbers"):
+        nbody.solve("-6000")
     with pytest.raises(OrbitError, match="finite"):
         nbody.solve(np.nan)
     with pytest.raises(OrbitError, match="dynamical_ellipticity is a multiple of today's"):
@@ -174,8 +234,15 @@ def test_beyond_the_stated_validity_warns(monkeypatch):
     table = nbody._table(nbody.table_source())
     stand_in = nbody.Table(table.first_epoch, 3 * table.step_years, table.columns)  # 15 Myr
     monkeypatch.setattr(nbody, "_extended", lambda source, n: stand_in)
-    with pytest.warns(OutsideValidityWarning, match="beyond 10 Myr BP"):
+    nbody._evaluated.cache_clear()
+    with pytest.warns(OutsideValidityWarning, match="more than 10 Myr from 1950 CE"):
         nbody.solve(-10.5e6)
+    # The same ahead, with stand-in rows for the forward integration.
+    monkeypatch.setattr(nbody, "_future_columns", lambda source, n, *options: {
+        name: np.resize(table.columns[name], n + 1) for name in table.columns})
+    with pytest.warns(OutsideValidityWarning, match="more than 10 Myr from 1950 CE"):
+        nbody.solve(10.5e6)
+    nbody._evaluated.cache_clear()
 
 
 def test_registry_and_readme_entry():
@@ -220,8 +287,8 @@ def test_cli_option_errors(run_cli):
     assert status == 2 and "only used with --solution nbody" in err
     status, _, err = run_cli(["orbit", "6ka", "--compare", "--format", "csv"])
     assert status == 2 and "--compare prints text or json" in err
-    status, _, err = run_cli(["orbit", "2100CE", "--solution", "nbody"])
-    assert status == 2 and "use berger1978 for later epochs" in err
+    status, _, err = run_cli(["orbit", "60000000 BP", "--solution", "nbody"])
+    assert status == 2 and "more than 50 Myr from 1950 CE" in err
 
 
 # --- the spread between solutions in a build ---------------------------------------------------

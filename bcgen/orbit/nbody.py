@@ -17,12 +17,17 @@ Further back, the integration goes on from the table's last state on first use
 (about 3 minutes of CPU per Myr, with ``pip install 'bcgen[nbody]'``) and
 is kept in a cache on disk (``$BCGEN_CACHE_DIR``, default ``~/.cache/bcgen``).
 
-Validity: from 2050 CE back to 10 Myr BP. Beyond 10 Myr an
+After 2050 CE the planets are integrated forward from the same DE421 state at
+J2000 through the same 100-year windows, and the spin axis from the mean pole of
+J2000, on first use (5 kyr at a time, about a second of CPU each) and kept in
+the same cache; the forward run's first row is the table's own 2050 CE row.
+
+Validity: within 10 Myr of 1950 CE, past or future. Beyond 10 Myr an
 :class:`~bcgen.errors.OutsideValidityWarning` is issued: the phase of the
 precession depends there on the poorly known tidal history (Laskar et al.
 2004, §10), and the orbit itself is chaotic, so that solutions diverge beyond
-about 50 Myr (Laskar et al. 2011); epochs beyond 50 Myr BP and after 2050 CE
-are refused.
+about 50 Myr (Laskar et al. 2011); epochs more than 50 Myr from 1950 CE are
+refused.
 
 References
 ----------
@@ -59,10 +64,13 @@ REFERENCE = (
     "REBOUNDx general relativity) with the precession equations of Laskar et al. (1993), "
     "A&A 270, 522 and Laskar et al. (2004), A&A 428, 261, doi:10.1051/0004-6361:20041335"
 )
-#: Stated validity: epochs from this many years before 1950 CE up to the table's first row.
-VALID_PAST_YEARS = 10e6
-#: Epochs further back than this are refused (chaos; Laskar et al. 2011).
-LIMIT_PAST_YEARS = 50e6
+#: Stated validity: epochs within this many years of 1950 CE, past or future.
+VALID_YEARS = 10e6
+#: Epochs further than this from 1950 CE are refused (chaos; Laskar et al. 2011).
+LIMIT_YEARS = 50e6
+#: Rows of the forward integration done at once (5 kyr); fixed, so that the cached rows
+#: are the same whatever epochs were asked for first.
+FUTURE_CHUNK_ROWS = 50
 TABLE_FILE = "nbody_table.npz"
 
 _COLUMNS = ("eccentricity", "obliquity_deg", "e_sin_varpi", "e_cos_varpi")
@@ -216,7 +224,7 @@ def solve(years_from_1950, *, dynamical_ellipticity: float = 1.0,
     ----------
     years_from_1950 : float or array_like
         Epochs in years relative to 1950 CE (negative in the past), from
-        50 Myr BP to 2050 CE.
+        50 Myr BP to 50 Myr after 1950 CE.
     dynamical_ellipticity : float
         The Earth's dynamical ellipticity as a multiple of today's (default 1).
     tidal_dissipation : float
@@ -232,13 +240,13 @@ def solve(years_from_1950, *, dynamical_ellipticity: float = 1.0,
     Raises
     ------
     OrbitError
-        For epochs that are not finite, after 2050 CE or beyond 50 Myr BP, or
+        For epochs that are not finite numbers, more than 50 Myr from 1950 CE, or
         options out of range.
 
     Warns
     -----
     OutsideValidityWarning
-        For epochs more than 10 Myr before 1950 CE.
+        For epochs more than 10 Myr from 1950 CE (past or future).
     """
     t = np.asarray(years_from_1950)
     if t.dtype.kind not in "iuf":  # lists of numbers become floats; text, booleans refused
@@ -257,29 +265,49 @@ def solve(years_from_1950, *, dynamical_ellipticity: float = 1.0,
     newest, oldest = float(np.max(t)), float(np.min(t))  # NaN in t makes both NaN
     if not (np.isfinite(newest) and np.isfinite(oldest)):
         raise OrbitError("epochs must be finite numbers of years from 1950 CE; got NaN or inf")
-    if newest > table.first_epoch:
-        raise OrbitError(
-            f"epoch {format_epoch(newest)} is after {format_epoch(table.first_epoch)}, the end "
-            "of the nbody solution (the DE421 span); use berger1978 for later epochs"
-        )
-    if -oldest > LIMIT_PAST_YEARS:
-        raise OrbitError(
-            f"epoch {format_epoch(oldest)} is beyond 50 Myr BP, where the chaotic motion of "
-            "the planets makes every orbital solution uncertain (Laskar et al. 2011)"
-        )
-    if -oldest > VALID_PAST_YEARS:
-        warnings.warn(
-            f"epoch {format_epoch(oldest)} is beyond 10 Myr BP, the stated validity of the "
-            "nbody solution (the precession there depends on the unknown tidal history)",
-            OutsideValidityWarning,
-            stacklevel=2,
-        )
-    if oldest < table.last_epoch:
-        table = _extended(source, _extension_rows(table, oldest))
-    if dynamical_ellipticity != 1.0 or tidal_dissipation != 1.0:
-        table = _with_precession(source, table.n_rows, dynamical_ellipticity,
-                                 tidal_dissipation)
+    _check_validity(newest, oldest)
+    n_past = _extension_rows(table, oldest) if oldest < table.last_epoch else 0
+    n_future = _future_rows(table, newest)
+    options = (float(dynamical_ellipticity), float(tidal_dissipation))
+    if n_past or n_future or options != (1.0, 1.0):
+        table = _evaluated(source, n_past, n_future, *options)
     return interpolate(table, t)
+
+
+def _check_validity(newest: float, oldest: float) -> None:
+    """Refuse epochs beyond 50 Myr either way; warn beyond 10 Myr."""
+    worst = oldest if -oldest >= newest else newest
+    if abs(worst) > LIMIT_YEARS:
+        raise OrbitError(
+            f"epoch {format_epoch(worst)} is more than 50 Myr from 1950 CE, where the chaotic "
+            "motion of the planets makes every orbital solution uncertain (Laskar et al. 2011)"
+        )
+    if abs(worst) > VALID_YEARS:
+        warnings.warn(
+            f"epoch {format_epoch(worst)} is more than 10 Myr from 1950 CE, beyond the stated "
+            "validity of the nbody solution (the precession there depends on the unknown "
+            "tidal history)",
+            OutsideValidityWarning,
+            stacklevel=3,
+        )
+
+
+@cache
+def _evaluated(source: str, n_past: int, n_future: int, dynamical_ellipticity: float,
+               tidal_dissipation: float) -> Table:
+    """Extend the table by ``n_past`` rows beyond its end and ``n_future`` before its start."""
+    table = _table(source)
+    if (dynamical_ellipticity, tidal_dissipation) != (1.0, 1.0):
+        table = _with_precession(source, table.n_rows + n_past, dynamical_ellipticity,
+                                 tidal_dissipation)
+    elif n_past:
+        table = _extended(source, n_past)
+    if not n_future:
+        return table
+    future = _future_columns(source, n_future, dynamical_ellipticity, tidal_dissipation)
+    return Table(table.first_epoch - n_future * table.step_years, table.step_years,
+                 {name: np.concatenate([future[name][:0:-1], table.columns[name]])
+                  for name in _COLUMNS})
 
 
 # --- beyond the table: integration on the fly, cached on disk ---------------------------
@@ -292,16 +320,22 @@ def needs_integration(years_from_1950) -> bool:
         return False
     source = table_source()
     table = _table(source)
-    oldest = float(np.min(t))
-    if oldest >= table.last_epoch or -oldest > LIMIT_PAST_YEARS:
+    oldest, newest = float(np.min(t)), float(np.max(t))
+    if max(-oldest, newest) > LIMIT_YEARS:
         return False
-    path = _extension_path(source)
-    if not path.exists():
+    n_future = _future_rows(table, newest)
+    if n_future and n_future >= _cached_rows(_future_path(source)):  # (cache from row 0)
         return True
-    with np.load(path) as saved:
-        cached = len(saved["ecc_vector"])
-    return cached < _extension_rows(table, oldest)
+    if oldest >= table.last_epoch:
+        return False
+    return _cached_rows(_extension_path(source)) < _extension_rows(table, oldest)
 
+
+def _cached_rows(path: Path) -> int:
+    if not path.exists():
+        return 0
+    with np.load(path) as saved:
+        return len(saved["ecc_vector"])
 
 
 def _extension_path(source: str) -> Path:
@@ -380,3 +414,76 @@ def _with_precession(source: str, n_rows: int, dynamical_ellipticity: float,
     table = _table(source)
     return Table(table.first_epoch, table.step_years,
                  gen.elements_columns(ecc_vec, normal, spin))
+
+
+# --- after the table: forward from the DE421 state, cached on disk ----------------------
+
+
+def _future_rows(table: Table, newest_years_from_1950: float) -> int:
+    """Rows needed after the table's first one (2050 CE) to reach an epoch."""
+    ahead = (newest_years_from_1950 - table.first_epoch) / -table.step_years
+    return max(0, int(np.ceil(ahead - 1e-9)))
+
+
+def _future_path(source: str) -> Path:
+    raw = _raw(source)
+    key = hashlib.sha256(b"forward" + raw["ecc_vector"][0].tobytes()
+                         + raw["orbit_normal"][0].tobytes()).hexdigest()
+    return cache_dir() / f"nbody_future_{key[:16]}.npz"
+
+
+def future_vectors(source: str, n_rows: int) -> dict[str, np.ndarray]:
+    """Rows 0 (2050 CE) to ``n_rows`` of the forward integration from J2000 (cached on disk).
+
+    The planets go forward from the DE421 state at J2000 through the same 100-year
+    windows as the table (row 0 is the table's own first row, integrated again), in
+    chunks of :data:`FUTURE_CHUNK_ROWS` rows, each started from the synchronised end
+    state of the one before; the rows so far and that state are kept in the cache.
+    """
+    from bcgen.orbit import nbody_generate as gen
+    from bcgen.orbit import nbody_integrate as integ
+
+    path = _future_path(source)
+    saved = {"ecc_vector": np.empty((0, 3), np.float32),
+             "orbit_normal": np.empty((0, 3), np.float32), "next_state": None}
+    if path.exists():
+        with np.load(path) as data:
+            saved = {name: data[name] for name in data.files}
+    step = -gen.STEP_YEARS
+    while len(saved["ecc_vector"]) < n_rows + 1:
+        lo = len(saved["ecc_vector"])
+        epochs = gen.FIRST_ROW_YEARS_FROM_1950 + step * np.arange(lo, lo + FUTURE_CHUNK_ROWS)
+        state = (integ.de421_state() if saved["next_state"] is None
+                 else integ.State.from_array(saved["next_state"]))
+        ecc, normal, end = integ.integrate_rows(state, epochs)
+        saved = {"ecc_vector": np.concatenate([saved["ecc_vector"], ecc.astype(np.float32)]),
+                 "orbit_normal": np.concatenate([saved["orbit_normal"],
+                                                 normal.astype(np.float32)]),
+                 "next_state": end.as_array()}
+        path.parent.mkdir(parents=True, exist_ok=True)
+        gen.save_atomic(path, saved)
+    return saved
+
+
+def _future_columns(source: str, n_rows: int, dynamical_ellipticity: float = 1.0,
+                    tidal_dissipation: float = 1.0) -> dict[str, np.ndarray]:
+    """Element columns of rows 0 (2050 CE) to ``n_rows`` ahead, in time order.
+
+    Row 0 comes from the table; the spin axis goes from the mean pole of J2000
+    forward through the rows, as the table's went back (1950 CE, 2050 CE, ...).
+    """
+    from bcgen.orbit import nbody_generate as gen
+    from bcgen.orbit import precession
+
+    raw = _raw(source)
+    ahead = future_vectors(source, n_rows)
+    ecc_vec = np.vstack([raw["ecc_vector"][1::-1], ahead["ecc_vector"][1 : n_rows + 1]])
+    normal = np.vstack([raw["orbit_normal"][1::-1], ahead["orbit_normal"][1 : n_rows + 1]])
+    ecc_vec, normal = ecc_vec.astype(float), normal.astype(float)
+    epochs = gen.FIRST_ROW_YEARS_FROM_1950 - gen.STEP_YEARS * np.arange(-1, n_rows + 1)
+    spin = precession.spin_axis(epochs, normal, np.linalg.norm(ecc_vec, axis=-1),
+                                precession.J2000_YEARS_FROM_1950, precession.POLE_J2000,
+                                dynamical_ellipticity=dynamical_ellipticity,
+                                tidal_dissipation=tidal_dissipation,
+                                eccentricity_j2000=gen.eccentricity_j2000(raw))
+    return gen.elements_columns(ecc_vec[1:], normal[1:], spin[1:])
