@@ -57,6 +57,11 @@ EPOCH_ATTRS = {
     "years (see the global attributes)",
 }
 _YEARLY = "held constant through each model year: the value at the epoch of the model year"
+#: The solar constant of each time step, when the spec scales it to the epoch.
+SOLAR_IRRADIANCE_ATTRS = {
+    **variable_attrs("solar_irradiance"),
+    "comment": f"the solar constant the insolation was computed with; {_YEARLY}",
+}
 
 
 # --- the resolved run -------------------------------------------------------------------------
@@ -410,7 +415,12 @@ class InsolationSeries(Series):
         attrs.update(self.extra_attrs())
         dims = ("time", *self.ctx.grid.dims)
         sf.define_variable("insolation", "f4", dims, attrs, compress=True)
-        return ["insolation"]
+        if not self.ctx.solar_constant_scaled:
+            return ["insolation"]
+        attrs = {**SOLAR_IRRADIANCE_ATTRS, "references": self.ctx.solar_constant_record.get(
+            "reference", ""), "solar_constant_scaling": self.ctx.spec.solar_constant_scaling}
+        sf.define_variable("solar_irradiance", "f8", ("time",), attrs, compress=True)
+        return ["insolation", "solar_irradiance"]
 
     def extra_attrs(self) -> dict[str, str]:
         """Attributes particular to the product."""
@@ -429,7 +439,12 @@ class InsolationSeries(Series):
             for j, i in enumerate(idx):
                 rows[offsets[i] : offsets[i + 1]] = values[j].T
             del values
-        return {"insolation": rows}
+        if not ctx.solar_constant_scaled:
+            return {"insolation": rows}
+        # Insolation is proportional to S: each model year takes the S of its own epoch.
+        s = np.repeat(ctx.solar_constant_at(ctx.epochs(years)), counts)
+        rows *= (s / ctx.spec.solar_constant_wm2)[:, np.newaxis]
+        return {"insolation": rows, "solar_irradiance": s}
 
     def by_latitude(self, orbit: OrbitalElements, lat: np.ndarray, year: int) -> np.ndarray:
         """Insolation for orbits (1-D) of one calendar-year kind: (n, nlat, steps)."""
@@ -441,6 +456,9 @@ class InsolationSeries(Series):
         _, index = self.ctx.unique_latitudes_deg
         per_step = 4 * int(np.prod(grid.shape))
         slab = max(1, WRITE_BUDGET_BYTES // per_step)
+        if name != "insolation":  # a series along time only
+            sf.append(name, values)
+            return
         for lo in range(0, values.shape[0], slab):
             block = spread_to_grid(values[lo : lo + slab], index, grid)
             sf.append(name, block)
@@ -595,12 +613,6 @@ class MonthlyFixedAngleSeries(MonthlyFixedDaySeries):
             orbit, ctx.calendar, lat, ctx.spec.solar_constant_wm2, months="fixed_angle",
             reference=ctx.reference_orbit, year=year,
         ).insolation_wm2
-
-    def write(self, sf: SeriesFile, name: str, values: np.ndarray) -> None:  # noqa: D102
-        if name == "insolation":
-            super().write(sf, name, values)
-        else:
-            sf.append(name, values)
 
 
 #: The month table of every model year: variable name -> (MonthTable field, attributes).
