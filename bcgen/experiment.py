@@ -187,6 +187,24 @@ class Experiment:
         return float(self.spec.solar_constant_wm2)
 
     @property
+    def solar_constant_scaled(self) -> bool:
+        """Whether the solar constant follows the epoch (``solar_constant_scaling`` not none)."""
+        return self.spec.solar_constant_scaling != "none"
+
+    def solar_constant_at(self, years_from_1950) -> np.ndarray:
+        """Solar constant at epochs, W m-2: the spec's, scaled to each epoch if it asks.
+
+        For a time slice at its epoch this is :attr:`solar_constant_wm2`; a transient
+        run gives each model year the value of its own epoch.
+        """
+        t = np.asarray(years_from_1950, dtype=float)
+        if not self.solar_constant_scaled:
+            return np.full(t.shape, self.solar_constant_wm2)
+        from bcgen.solar_evolution import gough_solar_constant_wm2
+
+        return np.asarray(gough_solar_constant_wm2(self.spec.solar_constant_given_wm2, t))
+
+    @property
     def solar_constant_record(self) -> dict[str, object]:
         """The solar constant, how it was obtained and its source (for manifests)."""
         record: dict[str, object] = {"value_wm2": self.solar_constant_wm2,

@@ -15,6 +15,7 @@ import warnings
 
 import numpy as np
 
+from bcgen.epochs import format_epoch
 from bcgen.errors import OrbitError, OutsideValidityWarning
 from bcgen.insolation.daily import (
     CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
@@ -146,3 +147,82 @@ def spread_record(orbit: OrbitalElements, years_from_1950: float,
         "differences": differences,
         "not_compared": not_compared,
     }
+
+
+#: Epochs of a transient run with a full spread record (start, quarters, end).
+RUN_SAMPLED_EPOCHS = 5
+#: Epochs of a transient run over which the largest element differences are sought.
+RUN_SCANNED_EPOCHS = 2001
+
+
+def run_spread(orbit_at, years_from_1950, *, solar_constant_at=None,
+               others: tuple[str, ...] = COMPARED_SOLUTIONS) -> dict:
+    """Measure the spread between solutions through a transient run, in W m-2 too.
+
+    Parameters
+    ----------
+    orbit_at : callable
+        Epochs (years from 1950 CE) -> the chosen solution's :class:`OrbitalElements`.
+    years_from_1950 : array_like
+        Epochs of the model years, in order.
+    solar_constant_at : callable, optional
+        Epoch -> S0 (W m-2) for the insolation differences (default: CMIP6 piControl).
+    others : tuple of str
+        Solutions compared with the chosen one.
+
+    Returns
+    -------
+    dict
+        ``at_epochs``: a :func:`spread_record` (with ``epoch``) at the epochs of
+        :data:`RUN_SAMPLED_EPOCHS` model years evenly spread from the first to the
+        last; ``largest_over_run``: for each other solution, the largest difference
+        of each element over the epochs of every model year (of
+        :data:`RUN_SCANNED_EPOCHS` evenly spread ones in a longer run), where it
+        falls, and the insolation difference at the epoch of the largest difference in
+        e·sin ϖ; ``not_compared``: solution -> why.
+    """
+    def s0(t):
+        return CMIP6_PICONTROL_SOLAR_CONSTANT_WM2 if solar_constant_at is None else float(
+            solar_constant_at(t))
+
+    epochs = np.asarray(years_from_1950, dtype=float)
+
+    def spaced(n):
+        return epochs[np.unique(np.linspace(0, epochs.size - 1, n).round().astype(int))]
+
+    sampled = spaced(RUN_SAMPLED_EPOCHS)
+    at_epochs = [{"epoch": format_epoch(t), "years_from_1950": float(t),
+                  **spread_record(orbit_at(float(t)), float(t), others, s0(t))}
+                 for t in sampled]
+    scanned = spaced(RUN_SCANNED_EPOCHS)
+    chosen = orbit_at(scanned)
+    largest: dict[str, dict] = {}
+    not_compared = {name: why for record in at_epochs
+                    for name, why in record["not_compared"].items()}
+    for name in others:
+        if name == chosen.solution or name in not_compared:
+            continue
+        if name == "nbody" and nbody.needs_integration(scanned):
+            not_compared[name] = ("part of the run is outside the bundled nbody table; "
+                                  "integrate it once with 'bcgen orbit EPOCH --solution nbody'")
+            continue
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", OutsideValidityWarning)
+                other = solve(scanned, name)
+        except OrbitError as exc:
+            not_compared[name] = str(exc)
+            continue
+        diff = element_difference(other, chosen)
+        entry = {}
+        for key, values in diff.items():
+            i = int(np.argmax(np.abs(values)))
+            entry[key] = {"value": float(values[i]), "epoch": format_epoch(scanned[i])}
+        i = int(np.argmax(np.abs(diff["precession_index"])))
+        spread = insolation_spread(other[i], chosen[i], solar_constant_wm2=s0(scanned[i]))
+        entry["insolation_at_largest_precession_index_difference"] = [
+            {"latitude_deg": float(lat), "max_abs_daily_wm2": float(q)}
+            for lat, q in zip(spread["latitude_deg"], spread["max_abs_wm2"], strict=True)]
+        largest[f"{name} - {chosen.solution}"] = entry
+    return {"chosen": chosen.solution, "scanned_epochs": RUN_SCANNED_EPOCHS,
+            "at_epochs": at_epochs, "largest_over_run": largest, "not_compared": not_compared}

@@ -92,3 +92,97 @@ def test_spec_option_refuses_unknown_scalings(tmp_path, run_cli):
     spec.write_text(SPEC.format(epoch="94Ma", scaling="solar_constant_scaling: faint\n"))
     status, _, err = run_cli(["build", spec, "-o", tmp_path / "out"])
     assert status == 2 and "solar_constant_scaling" in err and "gough1981" in err
+
+
+# --- a transient run: each model year has the Sun of its own epoch ------------------------------
+TRANSIENT_SPEC = """\
+experiment:
+  name: deep_run
+  description: invented deep-time scenario for the test
+transient: {{start_epoch: 94Ma, end_epoch: 50Ma, first_model_year: 1, acceleration: 22000000,
+            years_per_file: 10}}
+orbit:
+  solution: fixed
+  eccentricity: 0.0167
+  obliquity_deg: 23.44
+  perihelion_deg: 102.0
+  perihelion_convention: perihelion_longitude
+calendar: {{name: noleap}}
+grid: {{kind: zonal, resolution_deg: 30}}
+solar_constant_wm2: 1361.0
+{scaling}products: [daily_insolation, monthly_insolation_fixed_day,
+           monthly_insolation_fixed_angle]
+"""
+# Model years 1, 2, 3 have the epochs 94, 72 and 50 Ma (94 Ma + k × 22 Myr). By hand, as above:
+#   72 Ma: 4.57 / 4.5988 = 0.99373750 (0.0288 / 4.5988 = 0.00626250)
+TRANSIENT_RATIOS = (HAND_WORKED_RATIO[94e6], 0.99373750, HAND_WORKED_RATIO[50e6])
+
+
+def test_transient_run_scales_each_model_year_with_its_own_epoch(tmp_path, run_cli):
+    import json
+
+    import netCDF4
+
+    for name, scaling in (("plain", ""), ("faint", "solar_constant_scaling: gough1981\n")):
+        (tmp_path / f"{name}.yaml").write_text(TRANSIENT_SPEC.format(scaling=scaling))
+        status, out, _ = run_cli(["build", tmp_path / f"{name}.yaml", "-o", tmp_path / name])
+        assert status == 0
+    manifest = json.loads((tmp_path / "faint" / "deep_run_manifest.json").read_text())
+    record = manifest["solar_constant"]
+    assert record["scaling"] == "gough1981" and record["given_wm2"] == 1361.0
+    assert "Solar Physics 74" in record["reference"]
+    assert record["first_model_year_wm2"] == pytest.approx(1361.0 * TRANSIENT_RATIOS[0],
+                                                           abs=1361.0 * HAND_ROUNDING)
+    assert record["last_model_year_wm2"] == pytest.approx(1361.0 * TRANSIENT_RATIOS[-1],
+                                                          abs=1361.0 * HAND_ROUNDING)
+    assert "scaled from 1361.0 W m-2" in out and "Solar Physics 74" in out
+    for product, steps in (("daily_insolation", 365), ("monthly_insolation_fixed_day", 12),
+                           ("monthly_insolation_fixed_angle", 12)):
+        file = f"deep_run_{product}_1-3.nc"
+        with netCDF4.Dataset(tmp_path / "plain" / file) as plain, \
+                netCDF4.Dataset(tmp_path / "faint" / file) as faint:
+            assert "solar_irradiance" not in plain.variables
+            s = faint["solar_irradiance"][:].reshape(3, steps)
+            assert "Gough" in faint["solar_irradiance"].references
+            q_plain = plain["insolation"][:].reshape(3, steps, -1)
+            q_faint = faint["insolation"][:].reshape(3, steps, -1)
+        for k, ratio in enumerate(TRANSIENT_RATIOS):
+            np.testing.assert_allclose(s[k], 1361.0 * ratio, atol=1361.0 * HAND_ROUNDING)
+            lit = q_plain[k] > 1.0  # float32 storage: compare where the Sun shines
+            np.testing.assert_allclose(q_faint[k][lit] / q_plain[k][lit], ratio, rtol=1e-6)
+
+
+SPREAD_SPEC = """\
+experiment: {name: lig_run, description: invented scenario for the test}
+transient: {start_epoch: 130ka, end_epoch: 115ka, first_model_year: 1, acceleration: 100,
+            years_per_file: 200}
+orbit: {solution: berger1978}
+products: [orbit]
+"""
+
+
+def test_transient_run_reports_the_spread_between_solutions(tmp_path, run_cli):
+    # "The spread is reported, never silently" (the issue): a Berger (1978) run states its
+    # difference from the nbody solution at its first and last model years and its largest.
+    import json
+
+    from bcgen.orbit import berger1978, nbody
+
+    (tmp_path / "run.yaml").write_text(SPREAD_SPEC)
+    status, out, _ = run_cli(["build", tmp_path / "run.yaml", "-o", tmp_path / "out"])
+    assert status == 0 and "orbit spread nbody - berger1978, largest over the run" in out
+    spread = json.loads((tmp_path / "out" / "lig_run_manifest.json").read_text())["orbit_spread"]
+    records = spread["at_epochs"]
+    assert [r["epoch"] for r in records][::4] == ["130ka", "115ka"]
+    sampled = []
+    for r in records:
+        t = r["years_from_1950"]
+        diff = r["differences"]["nbody - berger1978"]
+        expected = float(nbody.solve(t).eccentricity - berger1978.solve(t).eccentricity)
+        assert diff["eccentricity"] == pytest.approx(expected, abs=1e-12)
+        assert [q["latitude_deg"] for q in diff["insolation"]] == [65.0, 0.0, -65.0]
+        sampled.append(abs(expected))
+    largest = spread["largest_over_run"]["nbody - berger1978"]
+    assert abs(largest["eccentricity"]["value"]) >= max(sampled)
+    assert all(q["max_abs_daily_wm2"] > 0
+               for q in largest["insolation_at_largest_precession_index_difference"])

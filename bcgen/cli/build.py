@@ -105,6 +105,25 @@ def _spread_lines(spread: dict | None) -> list[str]:
     return lines
 
 
+def _run_spread_lines(spread: dict | None) -> list[str]:
+    """Format the largest spread between orbital solutions over a transient run."""
+    lines = []
+    for name, d in ((spread or {}).get("largest_over_run") or {}).items():
+        where = d["precession_index"]["epoch"]
+        wm2 = ", ".join(f"{q['max_abs_daily_wm2']:.1f} at {q['latitude_deg']:+g}"
+                        for q in d["insolation_at_largest_precession_index_difference"])
+        lines.append(
+            f"  orbit spread {name}, largest over the run: e {d['eccentricity']['value']:+.6f} "
+            f"({d['eccentricity']['epoch']}), obliquity {d['obliquity_deg']['value']:+.4f} deg "
+            f"({d['obliquity_deg']['epoch']}), perihelion "
+            f"{d['perihelion_longitude_deg']['value']:+.3f} deg "
+            f"({d['perihelion_longitude_deg']['epoch']}); at {where} daily insolation differs "
+            f"by up to {wm2} deg latitude (W m-2)")
+    for name, why in ((spread or {}).get("not_compared") or {}).items():
+        lines.append(f"  orbit spread: {name} not compared ({why})")
+    return lines
+
+
 def _count(n, noun: str) -> str:
     """``1 year``, ``10 years``."""
     return f"{n} {noun}" if n == 1 else f"{n} {noun}s"
@@ -154,6 +173,12 @@ def format_summary(s: dict) -> str:
             f"{s['orbit_solution']}, solar constant {s['solar_constant_wm2']} W m-2",
             f"  calendar: {s['calendar']['name']}, {s['calendar']['anchor']}",
         ]
+        solar = s.get("solar_constant") or {}
+        if solar.get("given_wm2") is not None:
+            lines.append(f"  solar constant scaled from {solar['given_wm2']} W m-2 (today's Sun) "
+                         f"to each model year's epoch: {solar['first_model_year_wm2']:.4f} to "
+                         f"{solar['last_model_year_wm2']:.4f} W m-2; {solar['reference']}")
+        lines += _run_spread_lines(s.get("orbit_spread"))
         if s.get("greenhouse_gases"):
             lines.append(f"  greenhouse gases: {s['greenhouse_gases']}")
         skipped = sum(f.get("status") == "skipped" for f in s["files"])

@@ -224,9 +224,10 @@ def _build_locked(spec, directory: Path, force: bool, command, progress):
         for j in jobs
     }
     records = {j.file_name: old[j.file_name] for j in jobs if todo[j.file_name] == "skip"}
-    header = _manifest_header(ctx)
+    records_of_run = _solar_and_spread(ctx)
+    header = {**_manifest_header(ctx), **records_of_run}
     result = TransientBuildResult(
-        directory, manifest=manifest_path, transient=_summary(ctx, series)
+        directory, manifest=manifest_path, transient={**_summary(ctx, series), **records_of_run}
     )
     pending = [j for j in jobs if todo[j.file_name] == "build"]
     work, shares = _model_year_shares(pending)
@@ -437,6 +438,26 @@ def _manifest_header(ctx: RunContext) -> dict:
     }
 
 
+def _solar_and_spread(ctx: RunContext) -> dict:
+    """Record the solar constant through the run and the spread between orbital solutions.
+
+    Both go into the manifest and the summary: the solar constant of the first and
+    last model years with how it was obtained and its source, and the difference of
+    the other orbital solutions from the chosen one (:func:`bcgen.spread.run_spread`).
+    """
+    from bcgen.spread import run_spread
+
+    epochs = ctx.epochs(ctx.transient.model_years())
+    s_first, s_last = (float(s) for s in ctx.solar_constant_at(epochs[[0, -1]]))
+    solar = {**ctx.solar_constant_record, "value_wm2": s_first,
+             "first_model_year_wm2": s_first, "last_model_year_wm2": s_last,
+             "per_model_year": ("each model year has the solar constant of its own epoch "
+                                "(variable solar_irradiance of the insolation files)"
+                                if ctx.solar_constant_scaled else "constant")}
+    spread = run_spread(ctx.orbit_at, epochs, solar_constant_at=ctx.solar_constant_at)
+    return {"solar_constant": solar, "orbit_spread": spread}
+
+
 def _summary(ctx: RunContext, series: dict[str, Series]) -> dict:
     tr = ctx.transient
     out = {
@@ -466,7 +487,7 @@ _DEPENDENCIES: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
                          ("transient.greenhouse_gas_table",)),
     "month_table": (("orbit", "insolation"), ("orbit.table",)),
 }
-_INSOLATION = (("orbit", "solar_constant_wm2", "grid", "insolation"),
+_INSOLATION = (("orbit", "solar_constant_wm2", "solar_constant_scaling", "grid", "insolation"),
                ("orbit.table", "grid.path"))
 #: Spec sections every file depends on: what it is, its model years and time axis, how it
 #: is written, its global attributes.
