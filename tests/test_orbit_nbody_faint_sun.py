@@ -42,11 +42,7 @@ def test_refusals():
         gough_solar_constant_wm2(-1.0, -50e6)
 
 
-SPEC = """\
-experiment:
-  name: deep_sun
-  description: invented deep-time scenario for the test
-epoch: {epoch}
+FIXED_ORBIT = """\
 orbit:
   solution: fixed
   eccentricity: 0.0167
@@ -54,7 +50,13 @@ orbit:
   perihelion_deg: 102.0
   perihelion_convention: perihelion_longitude
 solar_constant_wm2: 1361.0
-{scaling}products: [solar_constant]
+"""
+SPEC = """\
+experiment:
+  name: deep_sun
+  description: invented deep-time scenario for the test
+epoch: {epoch}
+""" + FIXED_ORBIT + """{scaling}products: [solar_constant]
 """
 
 
@@ -101,16 +103,9 @@ experiment:
   description: invented deep-time scenario for the test
 transient: {{start_epoch: 94Ma, end_epoch: 50Ma, first_model_year: 1, acceleration: 22000000,
             years_per_file: 10}}
-orbit:
-  solution: fixed
-  eccentricity: 0.0167
-  obliquity_deg: 23.44
-  perihelion_deg: 102.0
-  perihelion_convention: perihelion_longitude
 calendar: {{name: noleap}}
 grid: {{kind: zonal, resolution_deg: 30}}
-solar_constant_wm2: 1361.0
-{scaling}products: [daily_insolation, monthly_insolation_fixed_day,
+""" + FIXED_ORBIT + """{scaling}products: [daily_insolation, monthly_insolation_fixed_day,
            monthly_insolation_fixed_angle]
 """
 # Model years 1, 2, 3 have the epochs 94, 72 and 50 Ma (94 Ma + k × 22 Myr). By hand, as above:

@@ -94,15 +94,23 @@ def _spread_lines(spread: dict | None) -> list[str]:
     """Format the spread between orbital solutions, one line per other solution."""
     lines = []
     for name, d in ((spread or {}).get("differences") or {}).items():
-        wm2 = ", ".join(f"{q['max_abs_daily_wm2']:.1f} at {q['latitude_deg']:+g}"
-                        for q in d["insolation"])
+        wm2 = _wm2_text(d["insolation"])
         lines.append(f"  orbit spread {name}: e {d['eccentricity']:+.6f}, obliquity "
                      f"{d['obliquity_deg']:+.4f} deg, perihelion "
                      f"{d['perihelion_longitude_deg']:+.3f} deg; daily insolation differs by "
                      f"up to {wm2} deg latitude (W m-2)")
-    for name, why in ((spread or {}).get("not_compared") or {}).items():
-        lines.append(f"  orbit spread: {name} not compared ({why})")
-    return lines
+    return lines + _not_compared_lines(spread)
+
+
+def _wm2_text(insolation: list[dict]) -> str:
+    """``3.2 at +65, 2.7 at +0, ...``: the largest daily difference at each latitude."""
+    return ", ".join(f"{q['max_abs_daily_wm2']:.1f} at {q['latitude_deg']:+g}" for q in insolation)
+
+
+def _not_compared_lines(spread: dict | None) -> list[str]:
+    """One line per solution left out of the spread, with why."""
+    return [f"  orbit spread: {name} not compared ({why})"
+            for name, why in ((spread or {}).get("not_compared") or {}).items()]
 
 
 def _run_spread_lines(spread: dict | None) -> list[str]:
@@ -110,8 +118,7 @@ def _run_spread_lines(spread: dict | None) -> list[str]:
     lines = []
     for name, d in ((spread or {}).get("largest_over_run") or {}).items():
         where = d["precession_index"]["epoch"]
-        wm2 = ", ".join(f"{q['max_abs_daily_wm2']:.1f} at {q['latitude_deg']:+g}"
-                        for q in d["insolation_at_largest_precession_index_difference"])
+        wm2 = _wm2_text(d["insolation_at_largest_precession_index_difference"])
         lines.append(
             f"  orbit spread {name}, largest over the run: e {d['eccentricity']['value']:+.6f} "
             f"({d['eccentricity']['epoch']}), obliquity {d['obliquity_deg']['value']:+.4f} deg "
@@ -119,9 +126,7 @@ def _run_spread_lines(spread: dict | None) -> list[str]:
             f"{d['perihelion_longitude_deg']['value']:+.3f} deg "
             f"({d['perihelion_longitude_deg']['epoch']}); at {where} daily insolation differs "
             f"by up to {wm2} deg latitude (W m-2)")
-    for name, why in ((spread or {}).get("not_compared") or {}).items():
-        lines.append(f"  orbit spread: {name} not compared ({why})")
-    return lines
+    return lines + _not_compared_lines(spread)
 
 
 def _count(n, noun: str) -> str:

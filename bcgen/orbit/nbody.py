@@ -366,15 +366,23 @@ def _extended_vectors(source: str, n_rows: int) -> dict[str, np.ndarray]:
     while len(ext["ecc_vector"]) < n_rows:
         lo = base + len(ext["ecc_vector"])
         epochs = gen.row_epochs(lo + gen.CHUNK_ROWS)[lo:]
-        ecc, normal, end = integ.integrate_rows(integ.State.from_array(ext["next_state"]),
-                                                epochs)
-        ext = {"ecc_vector": np.concatenate([ext["ecc_vector"], ecc.astype(np.float32)]),
-               "orbit_normal": np.concatenate([ext["orbit_normal"],
-                                               normal.astype(np.float32)]),
-               "next_state": end.as_array()}
-        path.parent.mkdir(parents=True, exist_ok=True)
-        gen.save_atomic(path, ext)
+        ext = _integrate_and_cache(path, ext, integ.State.from_array(ext["next_state"]),
+                                   epochs)
     return ext
+
+
+def _integrate_and_cache(path: Path, saved: dict, state, epochs) -> dict[str, np.ndarray]:
+    """Integrate rows on from ``state``, append them to ``saved`` and write it to ``path``."""
+    from bcgen.orbit import nbody_generate as gen
+    from bcgen.orbit import nbody_integrate as integ
+
+    ecc, normal, end = integ.integrate_rows(state, epochs)
+    saved = {"ecc_vector": np.concatenate([saved["ecc_vector"], ecc.astype(np.float32)]),
+             "orbit_normal": np.concatenate([saved["orbit_normal"], normal.astype(np.float32)]),
+             "next_state": end.as_array()}
+    path.parent.mkdir(parents=True, exist_ok=True)
+    gen.save_atomic(path, saved)
+    return saved
 
 
 @cache
@@ -455,13 +463,7 @@ def future_vectors(source: str, n_rows: int) -> dict[str, np.ndarray]:
         epochs = gen.FIRST_ROW_YEARS_FROM_1950 + step * np.arange(lo, lo + FUTURE_CHUNK_ROWS)
         state = (integ.de421_state() if saved["next_state"] is None
                  else integ.State.from_array(saved["next_state"]))
-        ecc, normal, end = integ.integrate_rows(state, epochs)
-        saved = {"ecc_vector": np.concatenate([saved["ecc_vector"], ecc.astype(np.float32)]),
-                 "orbit_normal": np.concatenate([saved["orbit_normal"],
-                                                 normal.astype(np.float32)]),
-                 "next_state": end.as_array()}
-        path.parent.mkdir(parents=True, exist_ok=True)
-        gen.save_atomic(path, saved)
+        saved = _integrate_and_cache(path, saved, state, epochs)
     return saved
 
 
