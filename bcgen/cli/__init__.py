@@ -31,6 +31,8 @@ import time
 import warnings
 
 from bcgen import __version__
+from bcgen.cli import stop
+from bcgen.cli.stop import Terminated
 from bcgen.errors import BcgenError, BcgenWarning, CheckFailed
 
 #: Subcommand modules, in the order ``bcgen --help`` lists them.
@@ -40,49 +42,38 @@ INTERRUPTED = "bcgen: interrupted; no partial output was left"
 TERMINATED = "bcgen: terminated; no partial output was left"
 
 
-class Terminated(KeyboardInterrupt):
-    """SIGTERM arrived: raised in the main thread so that Ctrl-C's clean-up runs too."""
-
-
-def _stop_once(signum, frame) -> None:
-    """Raise ``KeyboardInterrupt`` (SIGINT) or :class:`Terminated` (SIGTERM), once.
-
-    Once is enough: from then on both signals are ignored, so that a second one (an
-    impatient Ctrl-C, a scheduler's repeated SIGTERM) cannot interrupt the clean-up that
-    the first one started (deleting temporary files, releasing the folder's lock).
-    """
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    signal.signal(signal.SIGTERM, signal.SIG_IGN)
-    raise Terminated if signum == signal.SIGTERM else KeyboardInterrupt
-
-
 @contextlib.contextmanager
 def _sigterm_as_interrupt():
     """Turn SIGINT and SIGTERM into one clean stop for the duration of one command.
 
-    SIGINT keeps its meaning when the shell had it ignored (a job started with ``&`` or
-    ``nohup``): only a SIGINT handled by Python's default handler is taken over.
+    See :mod:`bcgen.cli.stop`. SIGINT keeps its meaning when the shell had it ignored (a
+    job started with ``&`` or ``nohup``): only a SIGINT handled by Python's default
+    handler (or noted since the console script started) is taken over.
     """
     if threading.current_thread() is not threading.main_thread():
         yield  # signal handlers can only be set from the main thread
         return
+    if not stop.started():
+        stop.begin()
     previous_int = signal.getsignal(signal.SIGINT)
-    if previous_int is signal.default_int_handler:
-        signal.signal(signal.SIGINT, _stop_once)
-    previous = signal.signal(signal.SIGTERM, _stop_once)
+    if previous_int in (signal.default_int_handler, stop.on_signal):
+        signal.signal(signal.SIGINT, stop.on_signal)
+    previous = signal.signal(signal.SIGTERM, stop.on_signal)
     try:
+        stop.arm()  # raises a stop that arrived while starting
         yield
     finally:
         if _CONSOLE:  # the process exits next: its work is done or cleaned up, stay deaf
-            signal.signal(signal.SIGTERM, signal.SIG_IGN)
-            signal.signal(signal.SIGINT, signal.SIG_IGN)
+            stop.ignore_until_exit()
         else:
+            stop.end()
             signal.signal(signal.SIGTERM, previous)
             signal.signal(signal.SIGINT, previous_int)
 
 
 def _interrupted(exc: KeyboardInterrupt) -> int:
     """Print the one line of an interrupt and return its exit status (130 or 143)."""
+    stop.caught()  # from now on signals do nothing
     if isinstance(exc, Terminated):
         print(TERMINATED, file=sys.stderr)
         return 128 + signal.SIGTERM
@@ -146,6 +137,7 @@ def console_main() -> None:
     """Entry point of the ``bcgen`` console script: run :func:`main` and exit with its status."""
     global _CONSOLE
     _CONSOLE = True
+    stop.hold_at_start()  # (again: the script may not have come through bcgen.__main__)
     status = main()
     if status in (130, 128 + signal.SIGTERM):
         # Interrupted: everything was cleaned up before the message was printed. Leave at

@@ -9,7 +9,9 @@ writes the means over the fixed-angle months of the run's orbit (or, with
 from __future__ import annotations
 
 import argparse
+import collections
 import contextlib
+import os
 import sys
 
 from bcgen.cli.common import json_text
@@ -187,7 +189,9 @@ def run(args) -> int:
     from bcgen.convert.api import to_fixed_angle_months, to_fixed_day_months
     from bcgen.convert.io import open_inputs, write_output
     from bcgen.io.paths import refuse_outputs_among_inputs
+    from bcgen.sizes import check_input_count
 
+    check_input_count(len(args.inputs))  # before any input is looked at
     refuse_outputs_among_inputs(
         [(f"-o {args.output}", args.output)],
         [(f"input {p}", p) for p in args.inputs]
@@ -279,15 +283,14 @@ def _run_transient(args, orbit, reference, anchor, calendar, cyclic) -> int:
         refuse_outputs_among_inputs([(str(t), t) for t in targets],
                                     [(f"input {p}", p) for p in ordered]
                                     + [(f"--spec {args.spec}", args.spec)])
-        for target in targets:
-            if target.exists() and not args.force:
-                raise OutputError(f"{target} exists; use --force to replace it")
         years = np.array([d.year for d in ds[dim].values])
         edges = np.concatenate([[0], np.cumsum(counts)])
-        folder.mkdir(parents=True, exist_ok=True)
-        with _scheduler(args.scheduler) as client:
-            _convert_each(args, ds, dim, years, edges, ordered, targets, orbit, reference,
-                          anchor, calendar, label, client, written)
+        with _scheduler(args.scheduler) as client, _output_set(folder, targets,
+                                                               args.force) as stage:
+            _convert_each(args, ds, dim, years, edges, ordered,
+                          [stage / t.name for t in targets], orbit, reference, anchor,
+                          calendar, label, client, written)
+    written = [(folder / path.name, out) for path, out in written]
     names = [str(k) for k, v in written[0][1].data_vars.items()
              if dim in v.dims and k != written[0][1][dim].attrs.get("bounds")]
     if args.format == "json":
@@ -297,6 +300,59 @@ def _run_transient(args, orbit, reference, anchor, calendar, cyclic) -> int:
             print(f"wrote {path}: {out.sizes[dim]} {args.to} months of {', '.join(names)} "
                   f"({out.attrs.get('month_conversion_method')}, each model year's orbit)")
     return 0
+
+
+@contextlib.contextmanager
+def _output_set(folder, targets, force: bool):
+    """Stage the files of a multi-file conversion and move them into ``folder`` all at once.
+
+    The folder is locked for the run (:class:`bcgen.io.lock.FolderLock`: a second run
+    into it is refused, naming this one); the files are written into a hidden staging
+    folder inside it, and moved in as one set only when every one is complete
+    (:func:`bcgen.io.staging.replace_all`, which moves the old files aside and back on
+    any failure). Yields the staging folder. An error names the file where it was going.
+    """
+    import shutil
+
+    from bcgen.errors import OutputError
+    from bcgen.io.atomic import prepare_output_folder
+    from bcgen.io.lock import FolderLock
+    from bcgen.io.paths import check_file_names
+    from bcgen.io.signals import held_signals
+    from bcgen.io.staging import make_stage, replace_all, sweep_stale_temporaries
+
+    names = [t.name for t in targets]
+    twice = sorted(n for n, count in collections.Counter(names).items() if count > 1)
+    if twice:
+        raise OutputError(f"two input files are named {twice[0]}: each gives the file of its "
+                          f"name in {folder}; rename one")
+    check_file_names(folder, names)
+    created = not folder.exists()
+    lock = stage = None
+    try:
+        prepare_output_folder(folder)
+        lock = FolderLock(folder).acquire()
+        existing = [t for t in targets if os.path.lexists(t)]
+        if existing and not force:
+            more = f" and {len(existing) - 1} more" if len(existing) > 1 else ""
+            raise OutputError(f"{existing[0]}{more} exist(s); use --force to replace the set")
+        sweep_stale_temporaries(folder, names)
+        stage = make_stage(folder)
+        yield stage
+        replace_all(stage, folder, names)
+    except OutputError as exc:  # name the file where it was going, not the staging folder
+        message = str(exc) if stage is None else str(exc).replace(str(stage), str(folder))
+        raise OutputError(message) from None
+    except OSError as exc:
+        raise OutputError(f"cannot write in {folder}: {exc.strerror or exc}") from None
+    finally:
+        with held_signals():  # a second interrupt waits until the clean-up is done
+            if stage is not None:
+                shutil.rmtree(stage, ignore_errors=True)
+            if lock is not None:
+                lock.release()
+            if created and folder.is_dir() and not any(folder.iterdir()):
+                folder.rmdir()
 
 
 def _files_in_time_order(paths, dim: str):
