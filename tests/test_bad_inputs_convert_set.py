@@ -91,8 +91,8 @@ def test_force_replaces_the_whole_set(run_files, tmp_path, run_cli):
     status, _, err = run_cli(["convert", *_inputs(run_files), "-o", out,
                               "--spec", run_files / "run.yaml"])
     assert status == 2  # without --force: refused, nothing touched
-    assert _one_line(err) == (f"bcgen: error: {out / 'tas_0001-0008.nc'} and 2 more exist(s); "
-                              "use --force to replace the set")
+    assert _one_line(err) == (f"bcgen: error: {out / 'tas_0001-0008.nc'} and 2 more already "
+                              "exist(s); use --force to overwrite")
     assert all((out / Path(p).name).read_text() == "an earlier conversion\n"
                for p in _inputs(run_files))
     status, _, err = run_cli(["convert", *_inputs(run_files), "-o", out,

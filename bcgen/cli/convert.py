@@ -11,7 +11,6 @@ from __future__ import annotations
 import argparse
 import collections
 import contextlib
-import os
 import sys
 
 from bcgen.cli.common import json_text
@@ -312,14 +311,9 @@ def _output_set(folder, targets, force: bool):
     (:func:`bcgen.io.staging.replace_all`, which moves the old files aside and back on
     any failure). Yields the staging folder. An error names the file where it was going.
     """
-    import shutil
-
     from bcgen.errors import OutputError
-    from bcgen.io.atomic import prepare_output_folder
-    from bcgen.io.lock import FolderLock
     from bcgen.io.paths import check_file_names
-    from bcgen.io.signals import held_signals
-    from bcgen.io.staging import make_stage, replace_all, sweep_stale_temporaries
+    from bcgen.io.staging import output_set
 
     names = [t.name for t in targets]
     twice = sorted(n for n, count in collections.Counter(names).items() if count > 1)
@@ -327,32 +321,8 @@ def _output_set(folder, targets, force: bool):
         raise OutputError(f"two input files are named {twice[0]}: each gives the file of its "
                           f"name in {folder}; rename one")
     check_file_names(folder, names)
-    created = not folder.exists()
-    lock = stage = None
-    try:
-        prepare_output_folder(folder)
-        lock = FolderLock(folder).acquire()
-        existing = [t for t in targets if os.path.lexists(t)]
-        if existing and not force:
-            more = f" and {len(existing) - 1} more" if len(existing) > 1 else ""
-            raise OutputError(f"{existing[0]}{more} exist(s); use --force to replace the set")
-        sweep_stale_temporaries(folder, names)
-        stage = make_stage(folder)
+    with output_set(folder, names, force=force) as stage:
         yield stage
-        replace_all(stage, folder, names)
-    except OutputError as exc:  # name the file where it was going, not the staging folder
-        message = str(exc) if stage is None else str(exc).replace(str(stage), str(folder))
-        raise OutputError(message) from None
-    except OSError as exc:
-        raise OutputError(f"cannot write in {folder}: {exc.strerror or exc}") from None
-    finally:
-        with held_signals():  # a second interrupt waits until the clean-up is done
-            if stage is not None:
-                shutil.rmtree(stage, ignore_errors=True)
-            if lock is not None:
-                lock.release()
-            if created and folder.is_dir() and not any(folder.iterdir()):
-                folder.rmdir()
 
 
 def _files_in_time_order(paths, dim: str):

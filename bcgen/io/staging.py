@@ -15,15 +15,17 @@ is no longer running, so a run never deletes a file another live run is writing.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import re
 import shutil
 import uuid
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from pathlib import Path
 
 from bcgen.errors import OutputError
-from bcgen.io.atomic import temporary_owner
+from bcgen.io.atomic import prepare_output_folder, temporary_owner
+from bcgen.io.lock import FolderLock
 from bcgen.io.signals import held_signals
 
 #: Prefix of the hidden staging folders of builds (``.bcgen-build-<pid>.<hex>``).
@@ -162,3 +164,53 @@ def _roll_back(stage, directory, aside, moved_in, moved_aside) -> str:
             kept = aside
         return f"could not restore {', '.join(failed)}: the old files are in {kept}"
     return ""
+
+
+@contextlib.contextmanager
+def output_set(directory, names: Sequence[str], *, force: bool,
+               previous: Callable[[], Sequence[str]] = list) -> Iterator[Path]:
+    """Write a set of files into ``directory`` all or nothing, as its one writer.
+
+    Creates the folder if needed and takes its lock (:class:`bcgen.io.lock.FolderLock`);
+    refuses, unless ``force``, when a file of ``names`` is there already; sweeps what
+    killed runs left; yields a staging folder to write every file of ``names`` into,
+    and when the block ends without an error moves the set in at once
+    (:func:`replace_all`, ``names`` in order: put a manifest last). Whatever happens,
+    the staging folder and the lock go, and a folder this call created is removed
+    again if it is left empty. Errors name the file where it was going.
+
+    Parameters
+    ----------
+    previous : callable, optional
+        Called under the lock with ``force``: files of an earlier set that the new one
+        replaces without writing them again (moved aside with the others).
+    """
+    directory = Path(directory)
+    created = not directory.exists()
+    stage = lock = None
+    try:
+        prepare_output_folder(directory)
+        lock = FolderLock(directory).acquire()
+        remove = list(previous()) if force else []
+        existing = [n for n in names if os.path.lexists(directory / n)]
+        if existing and not force:
+            more = f" and {len(existing) - 1} more" if len(existing) > 1 else ""
+            raise OutputError(f"{directory / existing[0]}{more} already exist(s); use --force "
+                              "to overwrite")
+        sweep_stale_temporaries(directory, names)
+        stage = make_stage(directory)
+        yield stage
+        replace_all(stage, directory, names, remove=remove)
+    except OutputError as exc:  # name the file where it was going, not the staging folder
+        message = str(exc) if stage is None else str(exc).replace(str(stage), str(directory))
+        raise OutputError(message) from None
+    except OSError as exc:
+        raise OutputError(f"cannot write in {directory}: {exc.strerror or exc}") from None
+    finally:
+        with held_signals():  # a second interrupt waits until the clean-up is done
+            if stage is not None:
+                shutil.rmtree(stage, ignore_errors=True)
+            if lock is not None:
+                lock.release()
+            if created and directory.is_dir() and not any(directory.iterdir()):
+                directory.rmdir()

@@ -15,21 +15,16 @@ spec is built by :mod:`bcgen.transient`; :func:`bcgen.build` chooses between the
 from __future__ import annotations
 
 import json
-import os
-import shutil
 from pathlib import Path
 
 from bcgen import (
     __version__,
     build,  # noqa: F401  (the public bcgen.build, for older imports)
 )
-from bcgen.errors import OutputError
 from bcgen.experiment import BuildResult, manifest_name
-from bcgen.io import prepare_output_folder, sha256_of, write_netcdf, write_text_atomic
-from bcgen.io.lock import FolderLock
+from bcgen.io import sha256_of, write_netcdf, write_text_atomic
 from bcgen.io.paths import check_file_names, refuse_outputs_among_inputs, spec_inputs
-from bcgen.io.signals import held_signals
-from bcgen.io.staging import make_stage, replace_all, sweep_stale_temporaries
+from bcgen.io.staging import output_set
 from bcgen.sizes import check_timeslice
 from bcgen.spec import ExperimentSpec
 from bcgen.timeslice.context import BuildContext
@@ -62,16 +57,9 @@ def build_time_slice(spec: ExperimentSpec, output_dir=None, *, force: bool = Fal
     # Every file is first written into a hidden staging folder and moved into place only
     # when all are complete, the old set moved aside and back on any failure
     # (bcgen.io.staging.replace_all): the folder holds the old set or the new one, whole.
-    created = not directory.exists()
-    stage = None
-    lock = None
-    try:
-        prepare_output_folder(directory)
-        lock = FolderLock(directory).acquire()
-        old_files = _previous_files(directory / manifest_path.name, names) if force else []
-        _refuse_existing(directory, names, force)
-        sweep_stale_temporaries(directory, names)
-        stage = make_stage(directory)
+    with output_set(directory, names, force=force,
+                    previous=lambda: _previous_files(directory / manifest_path.name,
+                                                     names)) as stage:
         for out in outputs:
             path = stage / out.file_name
             if out.dataset is not None:
@@ -81,31 +69,8 @@ def build_time_slice(spec: ExperimentSpec, output_dir=None, *, force: bool = Fal
                 write_text_atomic(path, out.text)
             result.files.append(_file_record(path, out))
         _write_manifest(stage / manifest_path.name, ctx, result, False)
-        replace_all(stage, directory, names, remove=old_files)
-    except OutputError as exc:  # name the file where it was going, not the staging folder
-        message = str(exc) if stage is None else str(exc).replace(str(stage), str(directory))
-        raise OutputError(message) from None
-    except OSError as exc:
-        raise OutputError(f"cannot write in {directory}: {exc.strerror or exc}") from None
-    finally:
-        with held_signals():  # a second interrupt waits until the clean-up is done
-            if stage is not None:
-                shutil.rmtree(stage, ignore_errors=True)
-            if lock is not None:
-                lock.release()
-            if created and directory.is_dir() and not any(directory.iterdir()):
-                directory.rmdir()
     result.manifest = manifest_path
     return result
-
-
-def _refuse_existing(directory: Path, names: list[str], force: bool) -> None:
-    if not force:
-        existing = [n for n in names if os.path.lexists(directory / n)]
-        if existing:
-            more = f" and {len(existing) - 1} more" if len(existing) > 1 else ""
-            raise OutputError(f"{directory / existing[0]}{more} already exist(s); use --force "
-                              "to overwrite")
 
 
 def _previous_files(manifest: Path, names: list[str]) -> list[str]:
