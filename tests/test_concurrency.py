@@ -119,3 +119,28 @@ def test_the_lock_names_its_holder_and_goes_with_it(tmp_path):
     with FolderLock(out):  # free again
         pass
     assert list(out.iterdir()) == []
+
+
+@pytest.mark.parametrize("force", [False, True])
+def test_two_plots_into_one_path_at_once(force, tmp_path, bcgen_script):
+    """A figure is one file renamed into place whole: no lock is needed, and none is taken.
+
+    Without --force one run writes and the other is refused ("already exists", never a
+    clobbered file); with --force both finish and the file is one whole figure.
+    """
+    pytest.importorskip("matplotlib")
+    procs = [subprocess.Popen(bcgen_script + ["plot", "orbit", f"{e}ka..{e + 10}ka/1ka", "-o",
+                                              "fig.png"] + (["--force"] if force else []),
+                              cwd=tmp_path, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                              text=True) for e in (0, 100)]
+    results = [(p.wait(timeout=120), p.communicate()[1]) for p in procs]
+    statuses = sorted(status for status, _ in results)
+    if force:
+        assert statuses == [0, 0], results
+    else:
+        assert statuses == [0, 2], results
+        err = next(err for status, err in results if status == 2)
+        assert err.strip() == "bcgen: error: fig.png already exists; use --force to overwrite it"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["fig.png"]  # no temporary, no lock
+    # The PNG signature, the first 8 bytes of every PNG file (RFC 2083, section 3.1).
+    assert (tmp_path / "fig.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
