@@ -54,6 +54,7 @@ class _State:
     raised = False  # the stop is on its way up the stack as an exception
     caught = False  # the command line has caught it (or the command has returned)
     retrying = False
+    hook = None  # sys.unraisablehook before the command began
 
 
 _STATE = _State()
@@ -105,20 +106,22 @@ def on_signal(signum, frame) -> None:
     raise Terminated if _STATE.signum == signal.SIGTERM else KeyboardInterrupt
 
 
-def _unraisable(unraisable, previous=sys.unraisablehook) -> None:
+def _unraisable(unraisable) -> None:
     """Stop again when the stop was dropped in a destructor or a callback; print nothing."""
     if isinstance(unraisable.exc_value, KeyboardInterrupt) and _STATE.raised:
         if not _STATE.caught:
             _STATE.raised = False
             _retry_soon()
         return
-    previous(unraisable)
+    (_STATE.hook or sys.__unraisablehook__)(unraisable)
 
 
 def begin() -> None:
     """Start a fresh stop for one command: signals are noted, not yet raised (see :func:`arm`)."""
     _STATE.signum, _STATE.armed, _STATE.raised = None, False, False
     _STATE.caught = _STATE.retrying = False
+    if sys.unraisablehook is not _unraisable:
+        _STATE.hook = sys.unraisablehook
     sys.unraisablehook = _unraisable
 
 
@@ -139,7 +142,7 @@ def end() -> None:
     """End the command (in-process use): deaf from now on, the unraisable hook given back."""
     caught()
     if sys.unraisablehook is _unraisable:
-        sys.unraisablehook = _unraisable.__defaults__[0]
+        sys.unraisablehook = _STATE.hook or sys.__unraisablehook__
 
 
 def caught() -> None:
