@@ -7,11 +7,11 @@ grid's latitudes, the grid, the CF dataset, the atomic write).
 
 Baseline: the netCDF4 library writing an array of the same shape, values and
 encoding (same dtype, zlib level, shuffle filter and chunk shape, from
-``bcgen.writer.default_chunks``) in one call; the array is made before the clock
+``bcgen.io.netcdf.default_chunks``) in one call; the array is made before the clock
 starts.
 
 For comparison (not part of the ratio), the same field written the way
-transient files are (``bcgen.transient.stream``: spread over the grid and
+transient files are (``bcgen.io.series.SeriesFile``: spread over the grid and
 appended in slabs of 16 MiB, never holding the whole field) is timed too.
 
 Each measurement runs in a fresh Python process (so that the peak resident
@@ -27,13 +27,12 @@ from __future__ import annotations
 
 import argparse
 import json
-import resource
 import statistics
-import subprocess
-import sys
 import tempfile
 import time
 from pathlib import Path
+
+from measure import peak_rss_mib, run_child, verdict
 
 TARGET_RATIO = 1.3
 SPEC = """\
@@ -43,22 +42,6 @@ grid: {grid}
 products: [daily_insolation]
 """
 GRID = "{kind: regular, resolution_deg: 0.5}"
-
-
-def peak_rss_mib() -> float:
-    """Peak resident memory of this process, MiB.
-
-    Linux's ``VmHWM`` (reset when the process starts a new program); ``ru_maxrss``
-    elsewhere, which on Linux would also count the parent's memory before the fork.
-    """
-    try:
-        with open("/proc/self/status") as status:
-            for line in status:
-                if line.startswith("VmHWM:"):
-                    return int(line.split()[1]) / 1024
-    except OSError:
-        pass
-    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
 
 
 def child_build(folder: Path) -> dict:
@@ -81,8 +64,8 @@ def child_bare(folder: Path) -> dict:
 
     from bcgen.grids import regular_grid
     from bcgen.insolation import daily_insolation
+    from bcgen.io.netcdf import default_chunks
     from bcgen.orbit import solve
-    from bcgen.writer import default_chunks
 
     # The same values as the build's, made before the clock starts.
     grid = regular_grid(0.5)
@@ -108,10 +91,10 @@ def child_bare(folder: Path) -> dict:
 
 def child_stream(folder: Path) -> dict:
     import numpy as np
-    from bcgen.transient.stream import SeriesFile
 
     from bcgen.grids import regular_grid
     from bcgen.insolation import daily_insolation
+    from bcgen.io.series import SeriesFile
     from bcgen.orbit import solve
     from bcgen.transient.series import WRITE_BUDGET_BYTES, spread_to_grid
 
@@ -137,16 +120,6 @@ def child_stream(folder: Path) -> dict:
     }
 
 
-def run_child(kind: str, folder: Path) -> dict:
-    folder.mkdir(parents=True, exist_ok=True)
-    out = subprocess.run(
-        [sys.executable, __file__, "--child", kind, str(folder)], capture_output=True, text=True
-    )
-    if out.returncode:
-        sys.exit(f"the {kind} run failed:\n{out.stderr}")
-    return json.loads(out.stdout.strip().splitlines()[-1])
-
-
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--rounds", type=int, default=5, help="rounds of each (default 5)")
@@ -165,7 +138,9 @@ def main() -> None:
         for r in range(args.rounds):
             order = ("build", "bare", "stream") if r % 2 == 0 else ("stream", "bare", "build")
             for kind in order:
-                runs[kind].append(run_child(kind, Path(tmp) / f"{kind}{r}"))
+                folder = Path(tmp) / f"{kind}{r}"
+                folder.mkdir(parents=True)
+                runs[kind].append(run_child(__file__, "--child", kind, folder))
     t_build = statistics.median(x["seconds"] for x in runs["build"])
     t_bare = statistics.median(x["seconds"] for x in runs["bare"])
     ratio = t_build / t_bare
@@ -189,7 +164,7 @@ def main() -> None:
         print(f"{label:<34}{t:>10.2f}{rss:>14.0f}{size:>10.2f}")
     print(
         f"ratio build / bare = {ratio:.2f} (rounds: {per_round}; target <= {TARGET_RATIO:g}: "
-        f"{'met' if ratio <= TARGET_RATIO else 'NOT met'})"
+        f"{verdict(ratio <= TARGET_RATIO)})"
     )
     t_stream = statistics.median(x["seconds"] for x in runs["stream"])
     print(f"for comparison, streamed (compute included) / bare = {t_stream / t_bare:.2f}")

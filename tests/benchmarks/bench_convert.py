@@ -19,54 +19,15 @@ from __future__ import annotations
 
 import argparse
 import os
-import subprocess
 import sys
 import tempfile
 import time
 from pathlib import Path
 
 import numpy as np
+from measure import run_code, verdict, write_monthly_series
 
 GIB = 1024**3
-
-
-def make_input(path: Path, years: int, nlat: int = 180, nlon: int = 360) -> None:
-    """Write the synthetic monthly series, one year at a time (bounded memory)."""
-    import netCDF4
-
-    month_len = np.array([31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31], dtype=float)
-    starts = np.concatenate([[0.0], np.cumsum(month_len)])
-    lat = np.linspace(-89.5, 89.5, nlat)
-    lon = np.linspace(0.5, 359.5, nlon)
-    amp = (10.0 * np.sin(np.deg2rad(lat)))[:, None] * np.ones(nlon)[None, :]
-    base = (288.0 - 30.0 * np.sin(np.deg2rad(lat)) ** 2)[:, None] * np.ones(nlon)[None, :]
-    rng = np.random.default_rng(0)
-    with netCDF4.Dataset(path, "w") as nc:
-        nc.createDimension("time", 12 * years)
-        nc.createDimension("lat", nlat)
-        nc.createDimension("lon", nlon)
-        nc.createDimension("bnds", 2)
-        t = nc.createVariable("time", "f8", ("time",))
-        t.units, t.calendar, t.bounds = "days since 0001-01-01 00:00:00", "noleap", "time_bnds"
-        t.standard_name, t.axis = "time", "T"
-        tb = nc.createVariable("time_bnds", "f8", ("time", "bnds"))
-        for name, values, units in (("lat", lat, "degrees_north"), ("lon", lon, "degrees_east")):
-            v = nc.createVariable(name, "f8", (name,))
-            v.units, v.standard_name = units, "latitude" if name == "lat" else "longitude"
-            v[:] = values
-        var = nc.createVariable("tas", "f4", ("time", "lat", "lon"), contiguous=True)
-        var.units, var.standard_name, var.cell_methods = "K", "air_temperature", "time: mean"
-        nc.Conventions, nc.title = "CF-1.11", "bcgen convert benchmark input"
-        for y in range(years):
-            k = slice(12 * y, 12 * y + 12)
-            lo = starts[:-1] + 365.0 * y
-            hi = starts[1:] + 365.0 * y
-            tb[k, 0], tb[k, 1] = lo, hi
-            t[k] = 0.5 * (lo + hi)
-            phase = 2 * np.pi * (0.5 * (starts[:-1] + starts[1:]) - 15.0) / 365.0
-            field = base[None] - amp[None] * np.cos(phase)[:, None, None]
-            field += rng.normal(0.0, 0.5, size=field.shape)
-            var[k] = field.astype(np.float32)
 
 
 BASELINE = r"""
@@ -93,16 +54,6 @@ print(time.perf_counter() - t0, r.ru_utime + r.ru_stime, r.ru_maxrss * 1024)
 """
 
 
-def _run(code: str, *args: str) -> tuple[float, float, float, float]:
-    """Work seconds (after imports), whole-process seconds, CPU seconds, peak RSS (bytes)."""
-    t0 = time.perf_counter()
-    out = subprocess.run([sys.executable, "-c", code, *map(str, args)], check=True,
-                         capture_output=True, text=True)
-    whole = time.perf_counter() - t0
-    seconds, cpu, peak = out.stdout.split()[-3:]
-    return float(seconds), whole, float(cpu), float(peak)
-
-
 def main(argv=None) -> int:
     """Run the benchmark and print the figures."""
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
@@ -116,7 +67,7 @@ def main(argv=None) -> int:
         src = folder / "bench_input.nc"
         if not src.exists():
             t0 = time.perf_counter()
-            make_input(src, args.years)
+            write_monthly_series(src, args.years, title="bcgen convert benchmark input")
             print(f"input: {src.stat().st_size / 1e6:.0f} MB written in "
                   f"{time.perf_counter() - t0:.1f} s")
         import xarray as xr
@@ -128,8 +79,8 @@ def main(argv=None) -> int:
         load = ", ".join(f"{x:.1f}" for x in os.getloadavg())
         runs: dict[str, list[tuple[float, float, float, float]]] = {"xarray": [], "bcgen": []}
         for _ in range(args.repeat):  # interleaved, so that both see the same machine load
-            runs["xarray"].append(_run(BASELINE, src, folder / "clim.nc", lat_chunk))
-            runs["bcgen"].append(_run(CONVERT, src, folder / "converted.nc"))
+            runs["xarray"].append(run_code(BASELINE, src, folder / "clim.nc", lat_chunk))
+            runs["bcgen"].append(run_code(CONVERT, src, folder / "converted.nc"))
         best = {k: np.min(np.array(v), axis=0) for k, v in runs.items()}
         peak = {k: np.max(np.array(v)[:, 3]) for k, v in runs.items()}
         print(f"cores: {os.cpu_count()}; load average before: {load}; years: {args.years}; "
@@ -140,8 +91,8 @@ def main(argv=None) -> int:
             w, whole, cpu, _ = best[key]
             print(f"{label:36}{w:8.2f}{whole:11.2f}{cpu:8.2f}{peak[key] / GIB:10.2f}")
         ratio = best["bcgen"] / best["xarray"]
-        met_ratio = "met" if ratio[0] <= 2 else "NOT met"
-        met_memory = "met" if peak["bcgen"] < GIB else "NOT met"
+        met_ratio = verdict(ratio[0] <= 2)
+        met_memory = verdict(peak["bcgen"] < GIB)
         print(f"time ratio bcgen / xarray: {ratio[0]:.2f} work, {ratio[1]:.2f} whole process, "
               f"{ratio[2]:.2f} CPU (best of {args.repeat} each; target <= 2 on work: "
               f"{met_ratio}); peak memory {peak['bcgen'] / GIB:.2f} GiB (target < 1: "

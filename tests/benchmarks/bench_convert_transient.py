@@ -30,13 +30,13 @@ from __future__ import annotations
 
 import argparse
 import os
-import subprocess
 import sys
 import tempfile
 import time
 from pathlib import Path
 
 import numpy as np
+from measure import run_code, verdict, write_monthly_series
 
 GIB = 1024**3
 TARGET_RATIO = 2.5
@@ -46,45 +46,6 @@ transient: {{start_epoch: 9ka, end_epoch: {end} BP, acceleration: 10}}
 calendar: {{name: noleap}}
 products: [orbit]
 """
-
-
-def make_part(path: Path, first: int, years: int, nlat: int = 180, nlon: int = 360) -> None:
-    """Write model years first+1 ... first+years of the synthetic series (bounded memory)."""
-    import netCDF4
-
-    month_len = np.array([31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31], dtype=float)
-    starts = np.concatenate([[0.0], np.cumsum(month_len)])
-    lat = np.linspace(-89.5, 89.5, nlat)
-    lon = np.linspace(0.5, 359.5, nlon)
-    amp = (10.0 * np.sin(np.deg2rad(lat)))[:, None] * np.ones(nlon)[None, :]
-    base = (288.0 - 30.0 * np.sin(np.deg2rad(lat)) ** 2)[:, None] * np.ones(nlon)[None, :]
-    rng = np.random.default_rng(first)
-    with netCDF4.Dataset(path, "w") as nc:
-        nc.createDimension("time", 12 * years)
-        nc.createDimension("lat", nlat)
-        nc.createDimension("lon", nlon)
-        nc.createDimension("bnds", 2)
-        t = nc.createVariable("time", "f8", ("time",))
-        t.units, t.calendar, t.bounds = "days since 0001-01-01 00:00:00", "noleap", "time_bnds"
-        t.standard_name, t.axis = "time", "T"
-        tb = nc.createVariable("time_bnds", "f8", ("time", "bnds"))
-        for name, values, units in (("lat", lat, "degrees_north"), ("lon", lon, "degrees_east")):
-            v = nc.createVariable(name, "f8", (name,))
-            v.units, v.standard_name = units, "latitude" if name == "lat" else "longitude"
-            v[:] = values
-        var = nc.createVariable("tas", "f4", ("time", "lat", "lon"), contiguous=True)
-        var.units, var.standard_name, var.cell_methods = "K", "air_temperature", "time: mean"
-        nc.Conventions, nc.title = "CF-1.11", "bcgen transient convert benchmark input"
-        for y in range(years):
-            k = slice(12 * y, 12 * y + 12)
-            lo = starts[:-1] + 365.0 * (first + y)
-            hi = starts[1:] + 365.0 * (first + y)
-            tb[k, 0], tb[k, 1] = lo, hi
-            t[k] = 0.5 * (lo + hi)
-            phase = 2 * np.pi * (0.5 * (starts[:-1] + starts[1:]) - 15.0) / 365.0
-            field = base[None] - amp[None] * np.cos(phase)[:, None, None]
-            field += rng.normal(0.0, 0.5, size=field.shape)
-            var[k] = field.astype(np.float32)
 
 
 #: Libraries both sides load before their clock starts (dask's threads may use distributed).
@@ -119,16 +80,6 @@ print(time.perf_counter() - t0, r.ru_utime + r.ru_stime, r.ru_maxrss * 1024)
 """
 
 
-def _run(code: str, *args) -> tuple[float, float, float, float]:
-    """Work seconds (after imports), whole-process seconds, CPU seconds, peak RSS (bytes)."""
-    t0 = time.perf_counter()
-    out = subprocess.run([sys.executable, "-c", code, *map(str, args)], check=True,
-                         capture_output=True, text=True)
-    whole = time.perf_counter() - t0
-    seconds, cpu, peak = out.stdout.split()[-3:]
-    return float(seconds), whole, float(cpu), float(peak)
-
-
 def _load() -> str:
     return ", ".join(f"{x:.1f}" for x in os.getloadavg())
 
@@ -148,7 +99,8 @@ def main(argv=None) -> int:
         for first in range(0, args.years, per):
             n = min(per, args.years - first)
             path = folder / f"tas_{first + 1:04d}-{first + n:04d}.nc"
-            make_part(path, first, n)
+            write_monthly_series(path, n, first=first,
+                                 title="bcgen transient convert benchmark input")
             paths.append(path)
         size = sum(p.stat().st_size for p in paths)
         print(f"input: {len(paths)} files, {size / 1e6:.0f} MB written in "
@@ -168,7 +120,7 @@ def main(argv=None) -> int:
         runs: dict[str, list] = {"xarray": [], "bcgen": []}
         for i in range(args.repeat):  # A B, B A, A B ...: load changes hit both alike
             for key in (("xarray", "bcgen") if i % 2 == 0 else ("bcgen", "xarray")):
-                runs[key].append(_run(*contenders[key]))
+                runs[key].append(run_code(*contenders[key]))
         best = {k: np.min(np.array(v), axis=0) for k, v in runs.items()}
         peak = {k: np.max(np.array(v)[:, 3]) for k, v in runs.items()}
         print(f"cores: {os.cpu_count()}; load average (1, 5, 15 min) before: {load_before}, "
@@ -181,10 +133,10 @@ def main(argv=None) -> int:
             print(f"{label:44}{w:8.2f}{whole:11.2f}{cpu:8.2f}{peak[key] / GIB:10.2f}")
         ratio = best["bcgen"] / best["xarray"]
         print(f"time ratio bcgen / xarray, work (after imports, both preloaded): {ratio[0]:.2f} "
-              f"(target <= {TARGET_RATIO:g}: {'met' if ratio[0] <= TARGET_RATIO else 'NOT met'}"
+              f"(target <= {TARGET_RATIO:g}: {verdict(ratio[0] <= TARGET_RATIO)}"
               f"); whole process (imports included): {ratio[1]:.2f}; CPU: {ratio[2]:.2f}")
         print(f"peak memory of bcgen: {peak['bcgen'] / GIB:.2f} GiB (target < 1: "
-              f"{'met' if peak['bcgen'] < GIB else 'NOT met'})")
+              f"{verdict(peak['bcgen'] < GIB)})")
     return 0
 
 

@@ -24,24 +24,16 @@ from __future__ import annotations
 import argparse
 import json
 import statistics
-import subprocess
 import sys
 import time
 from pathlib import Path
+
+from measure import peak_rss_mib, run_child, verdict
 
 ETOPO5 = "/usr/share/ferret-vis/data/etopo5.cdf"
 TARGET_S = 5.0
 TARGET_MIB = 1024.0
 TARGET_RATIO = 3.0
-
-
-def peak_rss_mib() -> float:
-    """Peak resident memory of this process (Linux VmHWM), MiB."""
-    with open("/proc/self/status") as status:
-        for line in status:
-            if line.startswith("VmHWM:"):
-                return int(line.split()[1]) / 1024
-    return float("nan")
 
 
 def chain() -> dict:
@@ -118,12 +110,6 @@ def regrid(rounds: int) -> dict:
     return out
 
 
-def run_child(kind: str, rounds: int) -> dict:
-    proc = subprocess.run([sys.executable, __file__, "--child", kind, "--rounds", str(rounds)],
-                          capture_output=True, text=True, check=True)
-    return json.loads(proc.stdout.strip().splitlines()[-1])
-
-
 def main(argv=None) -> int:
     p = argparse.ArgumentParser()
     p.add_argument("--rounds", type=int, default=7)
@@ -135,18 +121,18 @@ def main(argv=None) -> int:
     if not Path(ETOPO5).is_file():
         print(f"{ETOPO5} not found: apt-get install ferret-datasets")
         return 1
-    runs = [run_child("chain", args.rounds) for _ in range(3)]
+    runs = [run_child(__file__, "--child", "chain", "--rounds", args.rounds) for _ in range(3)]
     c = {"seconds": statistics.median(r["seconds"] for r in runs),
          "peak_mib": max(r["peak_mib"] for r in runs)}
-    r = run_child("regrid", args.rounds)
+    r = run_child(__file__, "--child", "regrid", "--rounds", args.rounds)
     ratio = r["ours_s"] / r["block_s"]
     ok_chain = c["seconds"] < TARGET_S and c["peak_mib"] < TARGET_MIB
     print(f"whole chain (read, anomaly, regrid, mask, cleanup, fractions, report), median of "
           f"3 fresh processes: {c['seconds']:.2f} s, peak {c['peak_mib']:.0f} MiB "
-          f"(targets {TARGET_S:g} s, {TARGET_MIB:.0f} MiB: {'met' if ok_chain else 'NOT met'})")
+          f"(targets {TARGET_S:g} s, {TARGET_MIB:.0f} MiB: {verdict(ok_chain)})")
     print(f"regridding ETOPO5 to 1 deg: {r['ours_s'] * 1e3:.1f} ms vs numpy block mean "
           f"{r['block_s'] * 1e3:.1f} ms: ratio {ratio:.2f} (target {TARGET_RATIO:g}: "
-          f"{'met' if ratio <= TARGET_RATIO else 'NOT met'})")
+          f"{verdict(ratio <= TARGET_RATIO)})")
     if "xarray_regrid_s" in r:
         print(f"for the record, xarray-regrid conservative: {r['xarray_regrid_s'] * 1e3:.0f} ms "
               f"(ratio {r['xarray_regrid_s'] / r['block_s']:.0f} to the block mean)")

@@ -24,11 +24,11 @@ year), and the printout says so.
 from __future__ import annotations
 
 import argparse
-import resource
 import time
 import tracemalloc
 
 import numpy as np
+from measure import peak_rss_mib, verdict
 
 from bcgen.insolation import daily_insolation
 from bcgen.orbit import solve
@@ -92,7 +92,7 @@ def main() -> None:
     bare_numpy(x_values, x_days)
     peak_bare = tracemalloc.get_traced_memory()[1]
     tracemalloc.stop()
-    rss_mib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    rss_mib = peak_rss_mib()
 
     scale = FULL_YEARS / years
     values_total = FULL_YEARS * N_LAT * N_DAYS
@@ -110,7 +110,7 @@ def main() -> None:
     print(f"{'bare numpy arccos+sin':<28}{t_bare * scale:>10.1f}"
           f"{1e9 * t_bare * scale / values_total:>10.2f}{peak_bare / 2**20:>16.1f}")
     print(f"ratio bcgen / bare = {ratio:.2f} (target <= {TARGET_RATIO:g}: "
-          f"{'met' if ratio <= TARGET_RATIO else 'NOT met'})")
+          f"{verdict(ratio <= TARGET_RATIO)})")
     print(f"orbital elements for the {years:,} epochs (not in the timing): {t_orbit:.2f} s; "
           f"process peak RSS {rss_mib:.0f} MiB; checksum {checksum:.6g}")
 

@@ -22,9 +22,9 @@ from __future__ import annotations
 import argparse
 import statistics
 import time
-import tracemalloc
 
 import numpy as np
+from measure import peak_rss_mib, traced_peak_mib, verdict
 
 from bcgen.insolation import caloric_half_years, monthly_insolation
 from bcgen.orbit import solve
@@ -36,26 +36,6 @@ TARGET_FIXED_ANGLE_MIB = 300.0
 TARGET_RATIO = 2.0
 TARGET_CALORIC_S = 0.2
 SAMPLES = 2920  # bcgen.insolation.metrics.SAMPLES_PER_YEAR
-
-
-def peak_rss_mib() -> float:
-    with open("/proc/self/status") as status:
-        for line in status:
-            if line.startswith("VmHWM:"):
-                return int(line.split()[1]) / 1024
-    return float("nan")
-
-
-def traced_peak_mib(call) -> float:
-    tracemalloc.start()
-    call()
-    peak = tracemalloc.get_traced_memory()[1]
-    tracemalloc.stop()
-    return peak / 2**20
-
-
-def verdict(ok: bool) -> str:
-    return "met" if ok else "NOT met"
 
 
 def main() -> None:

@@ -17,6 +17,8 @@ import time
 import tracemalloc
 from pathlib import Path
 
+from measure import verdict
+
 from bcgen.orbit import nbody_generate
 from bcgen.orbit import nbody_integrate as integrate
 
@@ -57,7 +59,7 @@ def main() -> None:
     print(f"0-5 Myr extrapolated from the CPU time: {minutes:.0f} min on one core "
           f"(wall time on a loaded machine: {5e3 * wall / args.long_kyr / 60:.0f} min); "
           f"target < {TARGET_MINUTES_FOR_5_MYR:.0f} min: "
-          f"{'met' if minutes < TARGET_MINUTES_FOR_5_MYR else 'NOT met'}")
+          f"{verdict(minutes < TARGET_MINUTES_FOR_5_MYR)}")
     print(f"peak memory, {args.long_kyr:g} kyr / {args.short_kyr:g} kyr: "
           f"{peaks[1] / peaks[0]:.2f} (constant memory: about 1)")
 

@@ -13,10 +13,9 @@ Run: ``python tests/benchmarks/bench_orbit.py [--epochs N] [--repeat R]``.
 from __future__ import annotations
 
 import argparse
-import time
-import tracemalloc
 
 import numpy as np
+from measure import best_of, traced_peak_mib, verdict
 
 import bcgen
 
@@ -55,20 +54,6 @@ def bare_chunked(t: np.ndarray, coefficients) -> list[np.ndarray]:
     return sums
 
 
-def seconds(func, *args) -> float:
-    start = time.perf_counter()
-    func(*args)
-    return time.perf_counter() - start
-
-
-def peak_mib(func, *args) -> float:
-    tracemalloc.start()
-    func(*args)
-    peak = tracemalloc.get_traced_memory()[1]
-    tracemalloc.stop()
-    return peak / 2**20
-
-
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--epochs", type=int, default=10**6)
@@ -82,10 +67,7 @@ def main() -> None:
         "bare numpy, chunked": lambda: bare_chunked(t, coefficients),
     }
     bcgen.solve(t[:10])  # load the coefficient tables outside the timing
-    best = dict.fromkeys(runs, np.inf)
-    for _ in range(args.repeat):
-        for name, run in runs.items():
-            best[name] = min(best[name], seconds(run))
+    best = best_of(runs, args.repeat)
     terms = sum(n for _, n in TERMS)
     print(
         f"epochs: {args.epochs:,}; terms per epoch: {terms} "
@@ -94,14 +76,14 @@ def main() -> None:
     solver = best["bcgen.solve (berger1978)"]
     for name, run in runs.items():
         print(
-            f"  {name:<26} {best[name]:8.3f} s   peak memory {peak_mib(run):8.1f} MiB   "
+            f"  {name:<26} {best[name]:8.3f} s   peak memory {traced_peak_mib(run):8.1f} MiB   "
             f"solver/this {solver / best[name]:5.2f}"
         )
     ratio = solver / best["bare numpy, all at once"]
     strict = solver / best["bare numpy, chunked"]
     print(
         f"ratio solver / bare numpy: {ratio:.2f} (vs chunked bare numpy: {strict:.2f}); "
-        f"target <= 1.5: {'met' if max(ratio, strict) <= 1.5 else 'NOT met'}"
+        f"target <= 1.5: {verdict(max(ratio, strict) <= 1.5)}"
     )
 
 

@@ -26,15 +26,14 @@ from __future__ import annotations
 
 import argparse
 import json
-import resource
 import shutil
 import statistics
-import subprocess
-import sys
 import tempfile
 import time
 import tracemalloc
 from pathlib import Path
+
+from measure import peak_rss_mib, run_child, verdict
 
 TARGET_RATIO = 1.5
 FULL_YEARS = 130_000
@@ -50,22 +49,6 @@ transient: {{start_epoch: 130ka, end_epoch: {end} BP, years_per_file: 1000}}
 grid: {{kind: zonal, resolution_deg: 1}}
 products: [monthly_insolation_fixed_day]
 """
-
-
-def peak_rss_mib() -> float:
-    """Peak resident memory of this process, MiB.
-
-    Linux's ``VmHWM`` (reset when the process starts a new program); ``ru_maxrss``
-    elsewhere, which on Linux would also count the parent's memory before the fork.
-    """
-    try:
-        with open("/proc/self/status") as status:
-            for line in status:
-                if line.startswith("VmHWM:"):
-                    return int(line.split()[1]) / 1024
-    except OSError:
-        pass
-    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
 
 
 # --- part 1 ------------------------------------------------------------------------------------
@@ -160,7 +143,7 @@ def speed(rounds: int) -> None:
     print(
         f"  ratio build / bare = {ratio:.2f}, median build time / median bare time (per-round "
         f"ratios: {rounds_text}; target <= "
-        f"{TARGET_RATIO:g}: {'met' if ratio <= TARGET_RATIO else 'NOT met'})"
+        f"{TARGET_RATIO:g}: {verdict(ratio <= TARGET_RATIO)})"
     )
     print(
         f"  memory: peak traced during a build {traced / 2**20:.1f} MiB; the arrays the bare "
@@ -187,14 +170,7 @@ def long_runs(years: list[int]) -> None:
     with tempfile.TemporaryDirectory(prefix="bcgen-bench-") as tmp:
         for n in years:
             folder = Path(tmp) / f"long{n}"
-            out = subprocess.run(
-                [sys.executable, __file__, "--child", str(n), str(folder)],
-                capture_output=True,
-                text=True,
-            )
-            if out.returncode:
-                sys.exit(f"the {n}-year run failed:\n{out.stderr}")
-            rows.append(json.loads(out.stdout.strip().splitlines()[-1]))
+            rows.append(run_child(__file__, "--child", n, folder))
             shutil.rmtree(folder, ignore_errors=True)
     values = FULL_YEARS * 12 * 180
     print(
@@ -220,8 +196,7 @@ def long_runs(years: list[int]) -> None:
             f"{growth:+.0f} MiB; the full {FULL_YEARS:,} years would take about "
             f"{per_year * FULL_YEARS / 60:.0f} min (extrapolated) with the same peak memory"
         )
-    verdict = "met" if max(r["rss_mib"] for r in rows) < 1024 else "NOT met"
-    print(f"  peak memory under 1 GiB: {verdict}")
+    print(f"  peak memory under 1 GiB: {verdict(max(r['rss_mib'] for r in rows) < 1024)}")
 
 
 def main() -> None:

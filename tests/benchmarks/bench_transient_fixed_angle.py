@@ -20,11 +20,11 @@ import argparse
 import json
 import shutil
 import statistics
-import subprocess
-import sys
 import tempfile
 import time
 from pathlib import Path
+
+from measure import peak_rss_mib, run_child, verdict
 
 FULL_YEARS = 130_000
 TARGET_RATIO = 1.5
@@ -35,14 +35,6 @@ transient: {{start_epoch: 130ka, end_epoch: {end} BP, years_per_file: 1000}}
 grid: {{kind: zonal, resolution_deg: 1}}
 products: [monthly_insolation_{months}]
 """
-
-
-def peak_rss_mib() -> float:
-    with open("/proc/self/status") as status:
-        for line in status:
-            if line.startswith("VmHWM:"):
-                return int(line.split()[1]) / 1024
-    return float("nan")
 
 
 def child(months: str, n_years: int, folder: Path) -> dict:
@@ -57,12 +49,9 @@ def child(months: str, n_years: int, folder: Path) -> dict:
 
 
 def run(months: str, n_years: int, folder: Path) -> dict:
-    out = subprocess.run([sys.executable, __file__, "--child", months, str(n_years), str(folder)],
-                         capture_output=True, text=True)
-    if out.returncode:
-        sys.exit(f"the {months} build failed:\n{out.stderr}")
+    result = run_child(__file__, "--child", months, n_years, folder)
     shutil.rmtree(folder, ignore_errors=True)
-    return json.loads(out.stdout.strip().splitlines()[-1])
+    return result
 
 
 def main() -> None:
@@ -97,9 +86,9 @@ def main() -> None:
     rounds = ", ".join(f"{a['seconds'] / d['seconds']:.2f}" for a, d in
                        zip(results["fixed_angle"], results["fixed_day"], strict=True))
     print(f"  ratio fixed-angle / fixed-day = {ratio:.2f} (per round: {rounds}; target <= "
-          f"{TARGET_RATIO:g}: {'met' if ratio <= TARGET_RATIO else 'NOT met'})")
+          f"{TARGET_RATIO:g}: {verdict(ratio <= TARGET_RATIO)})")
     print(f"  peak memory of the fixed-angle build {peak['fixed_angle']:.0f} MiB (target < "
-          f"{TARGET_MIB:g} MiB: {'met' if peak['fixed_angle'] < TARGET_MIB else 'NOT met'})")
+          f"{TARGET_MIB:g} MiB: {verdict(peak['fixed_angle'] < TARGET_MIB)})")
 
 
 if __name__ == "__main__":
