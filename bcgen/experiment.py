@@ -34,11 +34,11 @@ from pathlib import Path
 
 import numpy as np
 
+from bcgen.cf.provenance import provenance_attrs
 from bcgen.grids import Grid, gaussian_grid, grid_from_file, regular_grid, zonal_grid
 from bcgen.orbit import SOLUTIONS, OrbitalElements
 from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.spec import ExperimentSpec
-from bcgen.writer import provenance_attrs
 
 __all__ = ["BuildResult", "Experiment", "manifest_name", "resolve_grid"]
 

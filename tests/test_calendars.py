@@ -60,9 +60,9 @@ def test_gregorian_is_deprecated_alias_of_standard():
 def test_gregorian_is_read_alike_by_spec_command_line_and_writer(capsys):
     # CF 1.13 §4.4.3: "A deprecated alternative name for this calendar is gregorian". One
     # behaviour everywhere: read as standard, with the same DeprecatedCalendarNameWarning.
+    from bcgen.cf import climatology_time_axis
     from bcgen.cli import main
     from bcgen.spec import parse_spec_text
-    from bcgen.writer import climatology_time_axis
 
     text = "experiment: {name: g}\nepoch: 6ka\ncalendar:\n  name: gregorian\nproducts: [orbit]\n"
     message = r"calendar name 'gregorian' is deprecated in CF 1.13; read as 'standard'"

@@ -1,4 +1,4 @@
-"""Tests of bcgen.writer and bcgen.cf: round trips, CF compliance, atomic writes, provenance."""
+"""Tests of bcgen.cf (time axes, provenance) and bcgen.io: round trips, CF checks, atomic writes."""
 
 from __future__ import annotations
 
@@ -15,15 +15,12 @@ import pytest
 import xarray as xr
 from io_faults import FailingBackend
 
-from bcgen import cf, writer
+from bcgen import cf
+from bcgen.cf import climatology_time_axis, provenance_attrs, time_axis
 from bcgen.errors import CalendarError, DeprecatedCalendarNameWarning, OutputError
 from bcgen.grids import gaussian_grid, regular_grid, zonal_grid
 from bcgen.io import default_chunks, set_backend, write_netcdf
-from bcgen.writer import (
-    climatology_time_axis,
-    provenance_attrs,
-    time_axis,
-)
+from bcgen.solar_calendar import calendars
 
 CFTIME = xr.coders.CFDatetimeCoder(use_cftime=True)
 SPEC = "# demo spec\nexperiment: demo\nepoch: 6ka  # ϖ in degrees\n"
@@ -366,15 +363,15 @@ def test_time_axis_errors(call, error, message):
 
 def test_calendar_names():
     with pytest.warns(DeprecatedCalendarNameWarning):  # deprecated alias, CF §4.4.1
-        assert writer.cf_calendar_name("gregorian") == "standard"
-    assert writer.cf_calendar_name("365_day") == "365_day"
+        assert calendars.cf_calendar_name("gregorian") == "standard"
+    assert calendars.cf_calendar_name("365_day") == "365_day"
     axis = climatology_time_axis([[-2, 30]], "julian", year=2)
     assert axis.time.attrs["units"] == "days since 0002-01-01 00:00:00"
     # Year lengths: CF §4.4.1 (all_leap 366 days; 1600 is a Gregorian leap year).
-    assert writer.year_length_days("all_leap", 1) == 366
-    assert writer.year_length_days("proleptic_gregorian", 1600) == 366
-    assert writer.year_length_days("proleptic_gregorian", 1700) == 365
-    assert writer.year_length_days("julian", 1700) == 366
+    assert calendars.year_length_days("all_leap", 1) == 366
+    assert calendars.year_length_days("proleptic_gregorian", 1600) == 366
+    assert calendars.year_length_days("proleptic_gregorian", 1700) == 365
+    assert calendars.year_length_days("julian", 1700) == 366
 
 
 # --- provenance -------------------------------------------------------------------------------

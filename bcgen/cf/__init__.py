@@ -1,10 +1,14 @@
-"""CF knowledge as data (:mod:`bcgen.cf.attributes`) and the one CF reader (:mod:`bcgen.cf.reader`).
+"""Everything bcgen knows of the CF Conventions, one module a job.
 
-Everything bcgen knows of the CF Conventions lives here: the attributes of every
-variable it writes, and how a file written by anyone (a model's output, a grid file, a
-file bcgen built) is read: the time axis with or without bounds, latitude and
-longitude found by CF rules, and time units. Calendar names and year lengths are the
-calendar authority's (:mod:`bcgen.solar_calendar.calendars`).
+- :mod:`bcgen.cf.attributes`: the attributes of every variable bcgen writes (data only);
+- :mod:`bcgen.cf.time_axes`: time axes on a model calendar (a repeating year, a series);
+- :mod:`bcgen.cf.provenance`: the global attributes that record what made a file;
+- :mod:`bcgen.cf.reader`: how a file written by anyone (a model's output, a grid file, a
+  file bcgen built) is read: the time axis with or without bounds, latitude and
+  longitude found by CF rules, and time units.
+
+Calendar names and year lengths are the calendar authority's
+(:mod:`bcgen.solar_calendar.calendars`); writing files is :mod:`bcgen.io`'s job.
 """
 
 from bcgen.cf.attributes import (
@@ -21,6 +25,7 @@ from bcgen.cf.attributes import (
     coordinate_attrs,
     variable_attrs,
 )
+from bcgen.cf.provenance import CONVENTIONS, CYCLIC_COMMENT, provenance_attrs
 from bcgen.cf.reader import (
     TIME_UNIT_DAYS,
     bounds_variable,
@@ -29,10 +34,13 @@ from bcgen.cf.reader import (
     find_time_dim,
     time_unit_days,
 )
+from bcgen.cf.time_axes import climatology_time_axis, time_axis
 
 __all__ = [
     "BOUNDS_DIM",
+    "CONVENTIONS",
     "COORDINATES",
+    "CYCLIC_COMMENT",
     "LATITUDE_UNITS",
     "LONGITUDE_UNITS",
     "PRECESSION_INDEX_ATTRS",
@@ -43,10 +51,13 @@ __all__ = [
     "VERTICES_DIM",
     "TimeKind",
     "bounds_variable",
+    "climatology_time_axis",
     "coordinate_attrs",
     "coordinate_kind",
     "find_coordinates",
     "find_time_dim",
+    "provenance_attrs",
+    "time_axis",
     "time_unit_days",
     "variable_attrs",
 ]

@@ -1,7 +1,7 @@
 """CF knowledge as plain data: attributes of every variable bcgen writes.
 
 This module holds tables only (plus two tiny lookup helpers); the logic that uses
-them lives in :mod:`bcgen.grids` and :mod:`bcgen.writer`, the reader of CF files in
+them lives in :mod:`bcgen.grids` and :mod:`bcgen.cf.time_axes`, the reader of CF files in
 :mod:`bcgen.cf.reader`.
 
 Sources

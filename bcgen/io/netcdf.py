@@ -141,7 +141,7 @@ def write_netcdf(
     Parameters
     ----------
     dataset : xarray.Dataset
-        The data, with CF attributes (see :mod:`bcgen.cf`, :func:`bcgen.writer.provenance_attrs`).
+        The data, with CF attributes (see :mod:`bcgen.cf`, :func:`bcgen.cf.provenance_attrs`).
     path : str or os.PathLike
         The output file.
     force : bool

@@ -18,6 +18,7 @@ import numpy as np
 import xarray as xr
 
 from bcgen.cf import PRECESSION_INDEX_ATTRS, variable_attrs
+from bcgen.cf.time_axes import climatology_time_axis, time_axis
 from bcgen.errors import SpecError
 from bcgen.insolation import daily_insolation, instantaneous_insolation, monthly_insolation
 from bcgen.orbit import SOLUTIONS
@@ -26,7 +27,6 @@ from bcgen.solar_calendar.months import fixed_angle_months, fixed_day_months
 from bcgen.solar_calendar.position import SolarYear
 from bcgen.timeslice.context import BuildContext
 from bcgen.timeslice.values import in_units, template_values
-from bcgen.writer import climatology_time_axis, time_axis
 
 #: Size of the slabs in which latitude-longitude fields are spread and written.
 _SLAB_BYTES = 16 * 2**20

@@ -47,6 +47,7 @@ from pathlib import Path
 import numpy as np
 
 from bcgen import __version__
+from bcgen.cf.time_axes import time_axis
 from bcgen.epochs import format_epoch
 from bcgen.errors import OutputError, SpecError
 from bcgen.experiment import BuildResult, manifest_name
@@ -62,7 +63,6 @@ from bcgen.transient.manifest import ManifestWriter, decide, read_manifest, reco
 from bcgen.transient.pipeline import ChunkProducer
 from bcgen.transient.progress import Progress
 from bcgen.transient.series import SERIES, RunContext, Series
-from bcgen.writer import time_axis
 
 __all__ = ["GasTable", "TransientBuildResult", "build_transient", "load_gas_table", "plan_files"]
 
@@ -329,7 +329,7 @@ class _FileWriter:
         self.job, self.n_steps, self.step, self.variables = job, n_steps, 0, None
         sf.define_dimension("time", n_steps)
         sf.define_dimension("bnds", 2)
-        # Units, calendar and the other attributes of the time axis from bcgen.writer.
+        # Units, calendar and the other attributes of the time axis from bcgen.cf.time_axes.
         axis = time_axis(first_bounds, ctx.calendar.name, ctx.reference_year)
         sf.define_variable("time", "f8", ("time",), dict(axis["time"].attrs))
         sf.define_variable("time_bnds", "f8", ("time", "bnds"))
@@ -348,7 +348,7 @@ class _FileWriter:
     def chunk(self, n_years: int, bounds: np.ndarray, values: dict) -> None:
         """Write the time steps and values of a chunk of model years."""
         sf, series = self.sf, self.series[self.job.product]
-        # The time of a step is the middle of its bounds, as bcgen.writer.time_axis sets it.
+        # The time of a step is the middle of its bounds, as bcgen.cf.time_axis sets it.
         sf.write_chunk("time", self.step, bounds.mean(axis=1))
         sf.write_chunk("time_bnds", self.step, bounds)
         for name in list(values):

@@ -11,7 +11,7 @@ Model years and epochs (:class:`bcgen.spec.TransientSpec`): model year
 ``start_epoch + k × acceleration`` years.
 
 Time axis: one axis for the whole run, ``days since <first_model_year>-01-01``
-on the model calendar, each step with its bounds (:func:`bcgen.writer.time_axis`).
+on the model calendar, each step with its bounds (:func:`bcgen.cf.time_axis`).
 In calendars with leap years each model year has its own days (365 or 366
 daily steps, its own month lengths), and its insolation is computed for that
 year of the calendar, exactly as a time slice dated in that year would be.
