@@ -30,7 +30,8 @@ from typing import Literal
 
 import numpy as np
 
-from bcgen.cf import BOUNDS_DIM, LATITUDE_UNITS, LONGITUDE_UNITS, VERTICES_DIM, coordinate_attrs
+from bcgen.cf import BOUNDS_DIM, VERTICES_DIM, coordinate_attrs
+from bcgen.cf.reader import find_coordinates
 from bcgen.errors import GridError, InputFileError
 
 GridKind = Literal["regular", "gaussian", "zonal", "file", "curvilinear"]
@@ -360,9 +361,11 @@ def zonal_grid(
 def grid_from_file(path, lat_name: str | None = None, lon_name: str | None = None) -> Grid:
     """Read the grid of a model file (NetCDF).
 
-    Latitude and longitude are found by ``standard_name`` (``latitude``,
-    ``longitude``) or by units (``degrees_north`` and the aliases of CF §4.1,
-    ``degrees_east`` and those of §4.2), unless named explicitly. They may be
+    Latitude and longitude are found by the CF rules of bcgen's one reader
+    (:func:`bcgen.cf.reader.find_coordinates`): ``standard_name`` (``latitude``,
+    ``longitude``), else units (``degrees_north`` and the spellings of CF §4.1,
+    ``degrees_east`` and those of §4.2, case aside), else ``axis`` (``Y``, ``X``), else
+    the name (``lat``, ``latitude``; ``lon``, ``longitude``), unless named explicitly. They may be
     1-D (a rectilinear grid) or 2-D with the same dimensions (curvilinear). The
     file's bounds variables (CF ``bounds`` attribute) are used when present;
     otherwise 1-D bounds are computed as midpoints and 2-D grids have none. A
@@ -393,10 +396,8 @@ def grid_from_file(path, lat_name: str | None = None, lon_name: str | None = Non
         reason = " ".join(str(exc).split()) or type(exc).__name__
         raise InputFileError(f"grid file {path} is not a readable NetCDF file ({reason})") from None
     with ds:
-        lat = _find_axis(ds, path, "latitude", LATITUDE_UNITS, lat_name, "lat_name")
-        lon = _find_axis(
-            ds, path, "longitude", LONGITUDE_UNITS, lon_name, "lon_name", required=False
-        )
+        lat = _find_axis(ds, path, "latitude", lat_name, "lat_name")
+        lon = _find_axis(ds, path, "longitude", lon_name, "lon_name", required=False)
         lat_v, lat_b = _axis_in_degrees(ds, path, lat, "latitude")
         if lon is None:
             if lat_v.ndim != 1:
@@ -585,30 +586,32 @@ def _checked(path: str, make_grid) -> Grid:
         raise GridError(f"grid file {path}: {detail}") from None
 
 
-def _find_axis(ds, path, standard_name, units_set, explicit, option, required=True):
+def _find_axis(ds, path, kind, explicit, option, required=True):
+    """Return the one latitude (longitude) variable of a grid file, by bcgen's CF rules.
+
+    :func:`bcgen.cf.reader.find_coordinates`: ``standard_name``, then units, ``axis``,
+    name, case aside where CF allows; among several found by the same rule, the one
+    coordinate variable (a 1-D variable named as its dimension) is taken.
+    """
     if explicit is not None:
         if explicit not in ds.variables:
             raise GridError(f"grid file {path}: no variable {explicit!r} ({option})")
         return explicit
-    names = [n for n, v in ds.variables.items() if v.attrs.get("standard_name") == standard_name]
-    if not names:
-        names = [
-            n for n, v in ds.variables.items() if str(v.attrs.get("units", "")).strip() in units_set
-        ]
+    names = find_coordinates(ds, kind, strongest=True)
     if len(names) > 1:
         coords = [n for n in names if ds[n].dims == (n,)]
         names = coords if len(coords) == 1 else names
     if len(names) > 1:
         raise GridError(
-            f"grid file {path}: several {standard_name} variables ({', '.join(names)}); "
+            f"grid file {path}: several {kind} variables ({', '.join(names)}); "
             f"choose one with {option}"
         )
     if not names:
         if not required:
             return None
         raise GridError(
-            f"grid file {path}: no {standard_name} variable (expected standard_name "
-            f"'{standard_name}' or units '{_UNITS[standard_name]}'); name it with {option}"
+            f"grid file {path}: no {kind} variable (expected standard_name "
+            f"'{kind}' or units '{_UNITS[kind]}'); name it with {option}"
         )
     return names[0]
 

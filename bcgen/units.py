@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from bcgen.cf import LATITUDE_UNITS, LONGITUDE_UNITS
+from bcgen.cf.reader import is_cf_angle_units
 from bcgen.errors import BcgenError
 
 
@@ -45,13 +45,12 @@ def angle_to_degrees(values, units, *, where: str, kind: str,
         The error class to raise.
     """
     expected = "degrees_north" if kind == "latitude" else "degrees_east"
-    cf_names = LATITUDE_UNITS if kind == "latitude" else LONGITUDE_UNITS
     values = np.asarray(values, dtype=float)
     text = "" if units is None else str(units).strip()
     if not text:
         raise error(f"{where}: no units attribute; expected units = \"{expected}\" (CF 1.11 "
                     f"§4.1-4.2), or the angle unit the values are in, such as \"radians\"")
-    if text in cf_names:
+    if is_cf_angle_units(text, kind):
         degrees = values
         declared_degrees = True
     else:

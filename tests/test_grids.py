@@ -283,6 +283,36 @@ def test_grid_from_file_by_units_aliases(tmp_path, lat_units):
     assert g.dims == ("nav_lat", "nav_lon")
 
 
+def test_grid_from_file_finds_axes_by_the_cf_reader_rules(tmp_path):
+    # CF 1.11 §4.1-4.2: the units strings of latitude and longitude, whatever their case
+    # (UDUNITS names are case-insensitive), then the axis attribute (§4: Y, X), then the
+    # name; the same rules as bcgen.cf.reader for model and built files.
+    ds = xr.Dataset(coords={"nav_lat": ("nav_lat", [-45.0, 45.0], {"units": "Degrees_North"}),
+                            "nav_lon": ("nav_lon", [0.0, 180.0], {"units": "DEGREES_EAST"})})
+    g = grid_from_file(_write(ds, tmp_path / "case.nc"))
+    assert g.dims == ("nav_lat", "nav_lon") and g.lat_deg.tolist() == [-45.0, 45.0]
+    ds = xr.Dataset(coords={"j": ("j", [-45.0, 45.0], {"axis": "Y", "units": "degrees"}),
+                            "lon": ("lon", [0.0, 180.0], {"units": "degrees"})})
+    assert grid_from_file(_write(ds, tmp_path / "axis.nc")).dims == ("j", "lon")
+
+
+def test_grid_from_file_standard_name_wins_over_units_and_bounds_are_no_axes(tmp_path):
+    # CF 1.11 §7.1: a bounds variable is not a coordinate, even with latitude units; a
+    # variable with standard_name latitude is taken before one that only has its units.
+    c = _as_curvilinear(regular_grid(30))
+    ds = xr.Dataset(
+        {"lat_c": (("j", "i", "nv"), c.lat_bounds_deg, {"units": "degrees_north"}),
+         "lon_c": (("j", "i", "nv"), c.lon_bounds_deg, {"units": "degrees_east"}),
+         "edge": (("j", "i"), c.lat_deg, {"units": "degrees_north"})},
+        coords={"nav_lat": (("j", "i"), c.lat_deg, {"standard_name": "latitude",
+                                                    "units": "degrees_north", "bounds": "lat_c"}),
+                "nav_lon": (("j", "i"), c.lon_deg, {"units": "degrees_east",
+                                                    "bounds": "lon_c"})},
+    )
+    g = grid_from_file(_write(ds, tmp_path / "c.nc"))
+    assert g.is_curvilinear and g.lat_bounds_deg is not None and g.lon_bounds_deg is not None
+
+
 def test_grid_from_file_ignores_rotated_pole_degrees_and_reads_zonal(tmp_path):
     ds = xr.Dataset(
         coords={

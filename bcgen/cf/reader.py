@@ -6,7 +6,8 @@ Model output (``bcgen convert``, ``bcgen validate``), grid files and files bcgen
 - a coordinate is the latitude (longitude, time) by its ``standard_name``, its units
   (CF 1.11 §4.1: ``degrees_north`` and its spellings, case aside; §4.4: ``<unit> since
   <date>``), its ``axis`` attribute (``Y``, ``X``, ``T``) or, last, its name (``lat``,
-  ``latitude``; ``lon``, ``longitude``), in that order (:func:`coordinate_kind`);
+  ``latitude``; ``lon``, ``longitude``), in that order (:func:`coordinate_kind`,
+  :func:`find_coordinates`); units of latitude and longitude by :func:`is_cf_angle_units`;
 - a time axis may have bounds (``bounds``, CF §7.1) or climatology bounds
   (``climatology``, CF §7.4) or neither (:func:`bounds_variable`);
 - time units are ``<unit> since <date>`` with the UDUNITS unit names of days, hours,
@@ -57,6 +58,25 @@ def time_unit_days(units, where: str) -> float:
     return TIME_UNIT_DAYS[match[1].lower()]
 
 
+#: The CF rules by which a coordinate is recognised, strongest first (CF 1.11 §4).
+COORDINATE_RULES = ("standard_name", "units", "axis", "name")
+
+_AXES = {"time": "T", "latitude": "Y", "longitude": "X"}
+_NAMES = {"time": (), "latitude": ("lat", "latitude"), "longitude": ("lon", "longitude")}
+
+
+def _rule_hits(var, name: str | None) -> dict[str, tuple[bool, bool, bool, bool]]:
+    attrs = var.attrs
+    std = attrs.get("standard_name")
+    units = str(attrs.get("units", "")).strip().lower()
+    axis = str(attrs.get("axis", "")).upper()
+    name = str(var.name if name is None else name).lower()
+    units_match = {"time": " since " in units, "latitude": units in _LAT_UNITS,
+                   "longitude": units in _LON_UNITS}
+    return {kind: (std == kind, units_match[kind], axis == _AXES[kind], name in _NAMES[kind])
+            for kind in _AXES}
+
+
 def coordinate_kind(var, name: str | None = None) -> CoordinateKind | None:
     """Tell whether a variable is the time, the latitude or the longitude, by CF rules.
 
@@ -73,26 +93,63 @@ def coordinate_kind(var, name: str | None = None) -> CoordinateKind | None:
     >>> coordinate_kind(xr.DataArray([0.0], dims="y", attrs={"units": "Degrees_North"}))
     'latitude'
     """
-    attrs = var.attrs
-    std = attrs.get("standard_name")
-    units = str(attrs.get("units", "")).strip().lower()
-    axis = str(attrs.get("axis", "")).upper()
-    name = str(var.name if name is None else name).lower()
-    if std == "time" or axis == "T" or " since " in units:
-        return "time"
-    if std == "latitude" or units in _LAT_UNITS or axis == "Y" or name in ("lat", "latitude"):
-        return "latitude"
-    if std == "longitude" or units in _LON_UNITS or axis == "X" or name in ("lon", "longitude"):
-        return "longitude"
+    for kind, hits in _rule_hits(var, name).items():
+        if any(hits):
+            return kind
     return None
 
 
-def find_coordinates(ds, kind: CoordinateKind, dims=None) -> list[str]:
-    """Names of the variables of ``ds`` that are ``kind`` (those on a subset of ``dims``)."""
-    return [
-        str(n) for n, v in ds.variables.items()
-        if (dims is None or set(v.dims) <= set(dims)) and coordinate_kind(v, str(n)) == kind
-    ]
+def coordinate_rule(var, kind: CoordinateKind, name: str | None = None) -> int | None:
+    """Index in :data:`COORDINATE_RULES` of the strongest rule making ``var`` the ``kind``.
+
+    None when the variable is not that coordinate (:func:`coordinate_kind` differs).
+    """
+    if coordinate_kind(var, name) != kind:
+        return None
+    return _rule_hits(var, name)[kind].index(True)
+
+
+def find_coordinates(ds, kind: CoordinateKind, dims=None, *, strongest: bool = False
+                     ) -> list[str]:
+    """Names of the variables of ``ds`` that are ``kind``, by the strongest CF rule first.
+
+    Bounds variables (named by another variable's ``bounds`` or ``climatology``
+    attribute) are not coordinates (CF 1.11 §7.1).
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+    kind : {"time", "latitude", "longitude"}
+    dims : iterable of str, optional
+        Keep only the variables on a subset of these dimensions.
+    strongest : bool
+        Keep only those found by the strongest rule any of them meets (a variable with
+        ``standard_name = "latitude"`` hides one that only has latitude units).
+    """
+    bounds = {bounds_variable(v) for v in ds.variables.values()} - {None}
+    ranked = []
+    for n, v in ds.variables.items():
+        if str(n) in bounds or (dims is not None and not set(v.dims) <= set(dims)):
+            continue
+        rule = coordinate_rule(v, kind, str(n))
+        if rule is not None:
+            ranked.append((rule, str(n)))
+    ranked.sort(key=lambda item: item[0])  # stable: the file's order within a rule
+    if strongest and ranked:
+        ranked = [item for item in ranked if item[0] == ranked[0][0]]
+    return [n for _, n in ranked]
+
+
+def is_cf_angle_units(units, kind: CoordinateKind) -> bool:
+    """Tell whether ``units`` is one of CF's spellings of degrees north (east), case aside.
+
+    CF 1.11 §4.1 (``degrees_north``, ``degree_N`` ...) and §4.2 (``degrees_east`` ...).
+
+    >>> is_cf_angle_units("Degrees_North", "latitude"), is_cf_angle_units("degrees", "latitude")
+    (True, False)
+    """
+    text = str(units or "").strip().lower()
+    return text in (_LAT_UNITS if kind == "latitude" else _LON_UNITS)
 
 
 def bounds_variable(var) -> str | None:

@@ -66,7 +66,7 @@ import cftime
 import numpy as np
 
 from bcgen.cf import LATITUDE_UNITS
-from bcgen.cf.reader import coordinate_kind, time_unit_days
+from bcgen.cf.reader import coordinate_kind, is_cf_angle_units, time_unit_days
 from bcgen.errors import BcgenError, BcgenWarning, InputFileError
 from bcgen.solar_calendar.calendars import ModelCalendar, canonical_calendar
 from bcgen.textfile import content_lines
@@ -88,7 +88,6 @@ TABLE_COLUMNS: dict[str, str] = {
 }
 
 _POINT_COLUMN = re.compile(r"^insolation_wm2_lat(-?\d+(?:\.\d*)?)_lon(-?\d+(?:\.\d*)?)$")
-_LAT_UNITS = {u.lower() for u in LATITUDE_UNITS}
 
 
 class AmbiguousTimeWarning(BcgenWarning):
@@ -434,7 +433,7 @@ def _latitudes_deg(coord, where: str, notes: list[str]) -> np.ndarray:
     if units is None:
         notes.append(f"latitude coordinate {name!r} has no units attribute; read as "
                      f"degrees_north")
-    elif str(units).strip().lower() not in _LAT_UNITS:
+    elif not is_cf_angle_units(units, "latitude"):
         raise InputFileError(f"{where}: latitude coordinate {name!r} has units {units!r}; "
                              f"expected degrees_north (CF §4.1: "
                              f"{', '.join(sorted(LATITUDE_UNITS))})")
