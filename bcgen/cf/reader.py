@@ -152,6 +152,16 @@ def is_cf_angle_units(units, kind: CoordinateKind) -> bool:
     return text in (_LAT_UNITS if kind == "latitude" else _LON_UNITS)
 
 
+def missing_calendar_error(where, name: str) -> InputFileError:
+    """Return the error for a time coordinate without a ``calendar`` attribute.
+
+    CF 1.11 §4.4.1 makes ``standard`` the default, but that is rarely a model's calendar:
+    bcgen never guesses it, on any route (convert, validate).
+    """
+    return InputFileError(f"{where}: time coordinate '{name}' has no calendar attribute; "
+                          "expected the model's CF calendar (e.g. calendar = \"noleap\")")
+
+
 def bounds_variable(var) -> str | None:
     """Name of a time axis's bounds: ``climatology`` (CF §7.4) or ``bounds`` (§7.1), or None."""
     return var.attrs.get("climatology") or var.attrs.get("bounds")

@@ -24,7 +24,7 @@ import cftime
 import numpy as np
 import xarray as xr
 
-from bcgen.cf.reader import find_time_dim
+from bcgen.cf.reader import find_time_dim, missing_calendar_error
 from bcgen.convert.timeaxis import read_time_axis
 from bcgen.errors import InputFileError
 from bcgen.sizes import check_input_count
@@ -47,8 +47,7 @@ def _open_one(path: Path, chunks=None) -> xr.Dataset:
                 and isinstance(var.values[0], cftime.datetime)
                 and "calendar" not in var.encoding and "calendar" not in var.attrs):
             ds.close()
-            raise InputFileError(f"{path}: time coordinate '{name}' has no calendar attribute; "
-                                 "expected the model's CF calendar (e.g. calendar = \"noleap\")")
+            raise missing_calendar_error(path, name)
     return ds
 
 

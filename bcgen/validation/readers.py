@@ -66,7 +66,12 @@ import cftime
 import numpy as np
 
 from bcgen.cf import LATITUDE_UNITS
-from bcgen.cf.reader import coordinate_kind, is_cf_angle_units, time_unit_days
+from bcgen.cf.reader import (
+    coordinate_kind,
+    is_cf_angle_units,
+    missing_calendar_error,
+    time_unit_days,
+)
 from bcgen.errors import BcgenError, BcgenWarning, InputFileError
 from bcgen.solar_calendar.calendars import ModelCalendar, canonical_calendar
 from bcgen.textfile import content_lines
@@ -475,8 +480,7 @@ def _read_time(ds, dim: str, where: str, notes: list[str]):
     factor = time_unit_days(units, where)
     raw_calendar = time.attrs.get("calendar")
     if raw_calendar is None:  # CF's default ('standard') is rarely a model's: never guessed
-        raise InputFileError(f"{where}: time coordinate '{dim}' has no calendar attribute; "
-                             "expected the model's CF calendar (e.g. calendar = \"noleap\")")
+        raise missing_calendar_error(where, dim)
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", BcgenWarning)
