@@ -20,6 +20,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from bcgen.epochs import MAX_EPOCH_YEARS
 from bcgen.errors import (
     BcgenError,
     EpochError,
@@ -32,8 +33,6 @@ from bcgen.errors import (
 #: Up to it, every insolation bcgen computes stays a finite float64.
 MAX_SOLAR_CONSTANT_WM2 = 5000.0
 
-#: Largest distance of an epoch from 1950 CE, years (as :data:`bcgen.epochs.MAX_EPOCH_YEARS`).
-MAX_EPOCH_YEARS = 1e9
 
 #: An obliquity given in degrees but above 0 and at most this is taken for radians (π/2
 #: rounded up): no deliberate experiment tilts the Earth by less than 1.6 degrees without

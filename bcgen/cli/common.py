@@ -16,8 +16,6 @@ from bcgen.solar_calendar.calendars import (
     parse_anchor,
 )
 
-MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
-
 #: Month definitions as command-line choices -> the API's names.
 MONTH_OPTIONS = {"fixed-day": "fixed_day", "fixed-angle": "fixed_angle"}
 

@@ -18,7 +18,6 @@ from bcgen import arguments
 from bcgen.cli.common import (
     EPOCH_SOLUTION,
     EPOCH_SOLUTION_HELP,
-    MONTH_NAMES,
     MONTH_OPTIONS,
     add_calendar_options,
     calendar_from_args,
@@ -35,7 +34,7 @@ from bcgen.insolation import (
     monthly_insolation,
 )
 from bcgen.orbit import PERIHELION_CONVENTIONS, OrbitalElements
-from bcgen.solar_calendar.calendars import ModelCalendar
+from bcgen.solar_calendar.calendars import MONTH_ABBREVIATIONS, ModelCalendar
 
 #: Command-line spelling of the daily methods → the Python API's.
 DAILY_OPTIONS = {"midday": "midday", "day-average": "day_average"}
@@ -186,7 +185,7 @@ def format_text(record: dict, orbit_line: str, calendar_line: str) -> str:
                      f"{record['reference_epoch']}")
     lines.append("# month start (days after 1 January 00:00): "
                  + " ".join(f"{v:.2f}" for v in record["month_start_day"]))
-    lines.append(f"{'lat':>7}" + "".join(f"{m:>8}" for m in MONTH_NAMES) + f"{'annual':>9}")
+    lines.append(f"{'lat':>7}" + "".join(f"{m:>8}" for m in MONTH_ABBREVIATIONS) + f"{'annual':>9}")
     for lat, row, annual in zip(record["latitudes_deg"], record["insolation_wm2"],
                                 record["annual_mean_wm2"], strict=True):
         lines.append(f"{lat:>7.2f}" + "".join(f"{v:>8.2f}" for v in row) + f"{annual:>9.2f}")

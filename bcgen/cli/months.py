@@ -13,7 +13,6 @@ import textwrap
 from bcgen.cli.common import (
     EPOCH_SOLUTION,
     EPOCH_SOLUTION_HELP,
-    MONTH_NAMES,
     add_calendar_options,
     calendar_from_args,
     check_model_year,
@@ -21,6 +20,7 @@ from bcgen.cli.common import (
     json_text,
     orbit_for_epoch,
 )
+from bcgen.solar_calendar.calendars import MONTH_ABBREVIATIONS
 from bcgen.solar_calendar.months import MonthTable, fixed_angle_months
 
 EPILOG = f"""\
@@ -92,7 +92,8 @@ def format_text(table: MonthTable, header: list[str]) -> str:
     )
     for k in range(12):
         lines.append(
-            f"{k + 1:>2} {MONTH_NAMES[k]:<3}{table.start_day[k]:>12.4f}{table.end_day[k]:>12.4f}"
+            f"{k + 1:>2} {MONTH_ABBREVIATIONS[k]:<3}"
+            f"{table.start_day[k]:>12.4f}{table.end_day[k]:>12.4f}"
             f"{table.length_days[k]:>13.4f}{table.start_true_longitude_deg[k]:>26.4f}"
             f"{table.fixed_day_start_day[k]:>21.4f}{table.fixed_day_length_days[k]:>23.4f}"
         )

@@ -53,7 +53,6 @@ import uuid
 import warnings
 from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Literal
 
 import numpy as np
 import xarray as xr
@@ -64,14 +63,12 @@ from bcgen.convert.aggregate import (
     apply_weights,
     overlap_weights,
 )
-from bcgen.convert.interpolation import END_RULES, METHODS, MeanPreservingPlan
+from bcgen.convert.interpolation import END_RULES, METHODS, MeanPreservingPlan, Method
 from bcgen.convert.kernels import RowWeights, bad_columns, joined
 from bcgen.convert.timeaxis import TimeAxis, read_time_axis
 from bcgen.errors import BcgenError, BcgenWarning, OrbitError
 from bcgen.orbit.elements import PERIHELION_CONVENTIONS, OrbitalElements
 from bcgen.solar_calendar.calendars import Anchor, ModelCalendar, parse_anchor
-
-Method = Literal["killworth1996", "epstein1991"]
 
 #: Prefix of the global attributes that record a conversion.
 ATTR_PREFIX = "month_conversion_"

@@ -31,8 +31,8 @@ from bcgen.errors import BcgenError
 from bcgen.insolation import insolation_at_true_longitude_wm2
 from bcgen.labels import latitude_label
 from bcgen.plot.sources import MonthLengths, MonthlyField, OrbitsThroughTime, SourceError
+from bcgen.solar_calendar.calendars import MONTH_ABBREVIATIONS
 
-MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
 #: Colormap of fields: lightness increases monotonically (readable in grey).
 FIELD_CMAP = "cividis"
 #: Colormap of anomalies: diverging, white at zero.
@@ -84,7 +84,7 @@ def _months_cyclic(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 def _month_axis(ax, xlabel: str) -> None:
     ax.set_xlim(0.5, 12.5)
-    ax.set_xticks(np.arange(1, 13), MONTH_NAMES)
+    ax.set_xticks(np.arange(1, 13), MONTH_ABBREVIATIONS)
     ax.set_xlabel(xlabel)
 
 
@@ -393,7 +393,7 @@ def month_lengths_figure(lengths: MonthLengths):
     bottom.set_ylim(-limit, limit)
     bottom.set_ylabel("fixed-angle minus\nfixed-day (days)")
     bottom.grid(axis="y", color="0.85", linewidth=0.6)
-    bottom.set_xticks(x, MONTH_NAMES)
+    bottom.set_xticks(x, MONTH_ABBREVIATIONS)
     bottom.set_xlabel("month")
     s = lengths.settings
     _title(top, f"Month lengths, {lengths.label}: fixed-day and fixed-angle months",

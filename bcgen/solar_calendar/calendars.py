@@ -136,7 +136,8 @@ ANCHOR_KINDS: dict[str, str] = {
 MAX_MODEL_YEAR = 1_000_000
 
 _NO_YEAR_ZERO = NO_YEAR_ZERO_CALENDARS
-_MONTH_NAMES = (
+#: English month names, January first (and their usual three-letter abbreviations).
+MONTH_NAMES = (
     "January",
     "February",
     "March",
@@ -150,6 +151,7 @@ _MONTH_NAMES = (
     "November",
     "December",
 )
+MONTH_ABBREVIATIONS = tuple(name[:3] for name in MONTH_NAMES)
 
 
 
@@ -306,7 +308,7 @@ class Anchor:
     def describe(self) -> str:
         """One line for headers and metadata, e.g. ``March equinox at 03-21 12:00``."""
         what = "March equinox" if self.kind == "march_equinox" else "perihelion"
-        return f"{what} at {self.label} ({_MONTH_NAMES[self.month - 1]} {self.day})"
+        return f"{what} at {self.label} ({MONTH_NAMES[self.month - 1]} {self.day})"
 
 
 _ANCHOR_RE = re.compile(r"^\s*(\d{1,2})-(\d{1,2})(?:(?:\s+|T)(\d{1,2}):(\d{2}))?\s*$")
@@ -412,7 +414,7 @@ class ModelCalendar:
                 )
                 raise CalendarError(
                     f"anchor date {a.label} does not exist in {where} "
-                    f"({_MONTH_NAMES[a.month - 1]} has {length} days"
+                    f"({MONTH_NAMES[a.month - 1]} has {length} days"
                     f"{' in common years' if self.is_leap(2000) else ''})"
                 ) from None
 

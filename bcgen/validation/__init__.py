@@ -49,7 +49,7 @@ from bcgen.validation.readers import (
     read_model_outputs,
     read_orbit_table,
 )
-from bcgen.validation.reference import CONVENTIONS, ForwardModel, Setup
+from bcgen.validation.reference import DAILY_CONVENTIONS, ForwardModel, Setup
 
 Verdict = Literal["consistent", "inconsistent"]
 
@@ -57,8 +57,10 @@ Verdict = Literal["consistent", "inconsistent"]
 class ValidateOptionError(BcgenError, ValueError):
     """An impossible option of ``bcgen validate`` (a negative tolerance or noise level)."""
 
-#: The convention preferred when the output cannot tell them apart (see convention.py).
-DEFAULT_DAILY_METHOD = "day_average"
+#: The convention of a model's daily means preferred when its output cannot tell them apart
+#: (see convention.py); what bcgen itself writes by default is the spec's
+#: ``bcgen.spec.schema.DEFAULT_DAILY_METHOD``.
+PREFERRED_MODEL_DAILY_METHOD = "day_average"
 
 #: On a consistent output a finding is listed only if it leaves at most this fraction of the
 #: RMS misfit.
@@ -138,7 +140,7 @@ def setup_from_spec(spec, daily_method: str | None = None) -> Setup:
     """Return the experiment a model is checked against, from a spec (path or ExperimentSpec).
 
     The one place where validation reads a spec. ``daily_method`` sets the
-    reference's convention; otherwise it is :data:`DEFAULT_DAILY_METHOD` until
+    reference's convention; otherwise it is :data:`PREFERRED_MODEL_DAILY_METHOD` until
     :func:`validate_output` determines it. ``spec_daily_method`` keeps the
     spec's ``insolation.daily_method`` when the spec states it (a default is
     not a statement).
@@ -159,7 +161,7 @@ def setup_from_spec(spec, daily_method: str | None = None) -> Setup:
         orbit=experiment.orbit,
         solar_constant_wm2=experiment.solar_constant_wm2,
         calendar=experiment.calendar,
-        daily_method=daily_method or DEFAULT_DAILY_METHOD,
+        daily_method=daily_method or PREFERRED_MODEL_DAILY_METHOD,
         epoch_label=spec.epoch or "",
         spec_daily_method=_stated_daily_method(spec),
     )
@@ -430,9 +432,9 @@ def _stated_convention(output: ModelOutput, setup: Setup, daily_method, timestep
     """Return (method, step in days, source) when the convention is stated, else None."""
     step = None if timestep_minutes is None else float(timestep_minutes) / 1440.0
     if daily_method is not None:
-        if daily_method not in CONVENTIONS:
+        if daily_method not in DAILY_CONVENTIONS:
             raise ValidateOptionError(f"--daily-method: expected one of "
-                                      f"{', '.join(CONVENTIONS)}, got {daily_method!r}")
+                                      f"{', '.join(DAILY_CONVENTIONS)}, got {daily_method!r}")
         if daily_method == "timestep_mean" and step is None:
             raise ValidateOptionError("--daily-method timestep_mean needs --timestep-minutes "
                                       "(the model's time step)")

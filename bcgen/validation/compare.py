@@ -63,7 +63,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from bcgen.labels import band_label, latitude_label
-from bcgen.validation.dates import MONTH_NAMES, days_in_words
+from bcgen.solar_calendar.calendars import MONTH_NAMES
+from bcgen.validation.dates import days_in_words
 from bcgen.validation.readers import ModelOutput
 
 #: Latitude band edges, degrees north (bands 30° wide).

@@ -1,7 +1,7 @@
 """Which daily-mean convention a model's output follows: stated, or fitted.
 
 A model forms a daily mean in one of three legitimate ways
-(:data:`bcgen.validation.reference.CONVENTIONS`): the daily-mean formula at the
+(:data:`bcgen.validation.reference.DAILY_CONVENTIONS`): the daily-mean formula at the
 middle of the day (``midday``), the exact mean over the day (``day_average``),
 or the mean over its time steps (``timestep_mean``, which tends to the exact
 mean: with steps of 3 hours or less it differs from it by less than

@@ -14,10 +14,7 @@ import warnings
 
 import cftime
 
-from bcgen.solar_calendar.calendars import ModelCalendar
-
-MONTH_NAMES = ("January", "February", "March", "April", "May", "June", "July", "August",
-               "September", "October", "November", "December")
+from bcgen.solar_calendar.calendars import MONTH_NAMES, ModelCalendar
 
 #: One sentence for reports: how day numbers are counted.
 DAY_NUMBERS = ("day numbers count from 0 at 1 January 00:00 (day 79.50 is 21 March 12:00 in "

@@ -131,13 +131,12 @@ from bcgen.epochs import format_epoch
 from bcgen.orbit import solve as solve_orbit
 from bcgen.orbit.elements import OrbitalElements
 from bcgen.validation.compare import max_abs_allowed_wm2, noise_estimate, rms_allowed_wm2
+from bcgen.validation.convention import SIGNIFICANT_DELTA_BIC
 from bcgen.validation.dates import date_of_day, day_in_words
 from bcgen.validation.reference import ForwardModel, orbit_with
 
 #: Differences below this (W m-2) are numerical precision, not a misfit.
 MISFIT_FLOOR_WM2 = 0.01
-#: ΔBIC at or below which an explanation counts as significant.
-SIGNIFICANT_DELTA_BIC = -10.0
 #: Range and step of the scan for anchor shifts, days.
 SHIFT_RANGE_DAYS = 60.0
 SHIFT_STEP_DAYS = 1.5

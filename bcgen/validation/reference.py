@@ -29,7 +29,7 @@ t where bcgen's is at t'. Both are exact for a uniformly advancing mean anomaly
 Daily-mean conventions
     A value covering [t₁, t₂) is the time mean of the zonal-mean insolation
     over it, built from the daily means of the days it overlaps, in one of the
-    legitimate conventions of :data:`CONVENTIONS` (the engine's methods):
+    legitimate conventions of :data:`DAILY_CONVENTIONS` (the engine's methods):
     ``midday`` (the formula at the middle of each day), ``day_average`` (the
     exact mean over the day) or ``timestep_mean`` (the mean over the model's
     time steps, which tends to the day average). Instantaneous values (orbit
@@ -53,7 +53,7 @@ from bcgen.validation.readers import ModelOutput
 _FIXED_LENGTH = ("noleap", "all_leap", "360_day")
 
 #: The legitimate daily-mean conventions a model's output may follow (engine methods).
-CONVENTIONS: dict[str, str] = {name: INTERVAL_MEAN_METHODS[name]
+DAILY_CONVENTIONS: dict[str, str] = {name: INTERVAL_MEAN_METHODS[name]
                                for name in ("midday", "day_average", "timestep_mean")}
 
 
@@ -70,7 +70,7 @@ class Setup:
     calendar : ModelCalendar
         Calendar (with its anchor) the spec names.
     daily_method : {"midday", "day_average", "timestep_mean"}
-        The daily-mean convention of the reference (:data:`CONVENTIONS`).
+        The daily-mean convention of the reference (:data:`DAILY_CONVENTIONS`).
     epoch_label : str
         The epoch as the spec writes it (``6ka``), or ``""``.
     timestep_days : float or None
@@ -91,9 +91,9 @@ class Setup:
         if self.orbit.shape != ():
             raise BcgenError("the experiment's orbit must be one set of elements (a time "
                              "slice); validate one model year of a transient run at a time")
-        if self.daily_method not in CONVENTIONS:
+        if self.daily_method not in DAILY_CONVENTIONS:
             raise BcgenError(f"unknown daily method {self.daily_method!r}; expected one of "
-                             f"{', '.join(CONVENTIONS)}")
+                             f"{', '.join(DAILY_CONVENTIONS)}")
         if self.daily_method == "timestep_mean" and not self.timestep_days:
             raise BcgenError("daily method timestep_mean needs the model's time step "
                              "(--timestep-minutes)")

@@ -59,7 +59,8 @@ import math
 import numpy as np
 
 from bcgen import __version__
-from bcgen.validation.dates import DAY_NUMBERS, MONTH_NAMES
+from bcgen.solar_calendar.calendars import MONTH_NAMES
+from bcgen.validation.dates import DAY_NUMBERS
 
 _ORDER = ("verdict", "max_abs_error_wm2", "rms_error_wm2", "findings")
 
