@@ -320,20 +320,22 @@ def daily_insolation(
     if day.ndim != 1 or not np.all(day == np.round(day)):
         raise InsolationError("days: expected a 1-D sequence of whole day numbers (0 = 1 January)")
     day = day.astype(int)
-    if method == "midday":
-        offsets, weights = np.array([0.5]), np.array([1.0])
-    else:
-        x, w = np.polynomial.legendre.leggauss(DAY_AVERAGE_NODES)
-        offsets, weights = 0.5 * (x + 1.0), 0.5 * w
-    t = day[:, np.newaxis] + offsets  # (n_days, k)
-    solar_year = SolarYear(expand_orbit(orbit, 2), calendar, year=year)
-    lam = np.broadcast_to(solar_year.true_longitude_rad(t), orbit.shape + t.shape)
-    values = _daily_from_longitude(lat.ravel(), lam, orbit, s0)  # orbit + (nlat, n_days, k)
     if method == "day_average":
-        values = values @ weights
-        _refine_days_with_polar_edges(values, orbit, calendar, year, lat.ravel(), day, s0)
+        # The exact mean over each day [n, n + 1): the interval mean, with its split of the
+        # days in which a latitude enters or leaves polar night (one orbit at a time).
+        flat = [OrbitalElements(e, eps, varpi) for e, eps, varpi in zip(
+            orbit.eccentricity.reshape(-1), orbit.obliquity_deg.reshape(-1),
+            orbit.perihelion_longitude_deg.reshape(-1), strict=True)]
+        values = np.stack([
+            interval_mean_insolation_wm2(SolarYear(one, calendar, year=year), one, lat.ravel(),
+                                         day, day + 1.0, s0, method="day_average").T
+            for one in flat
+        ]) if flat else np.empty((0, lat.size, day.size))
     else:
-        values = values[..., 0]
+        t = day + 0.5  # the middle of each day
+        solar_year = SolarYear(expand_orbit(orbit, 1), calendar, year=year)
+        lam = np.broadcast_to(solar_year.true_longitude_rad(t), orbit.shape + t.shape)
+        values = _daily_from_longitude(lat.ravel(), lam, orbit, s0)  # orbit + (nlat, n_days)
     return DailyInsolation(
         values.reshape(orbit.shape + lat.shape + day.shape),
         day,
@@ -356,55 +358,6 @@ def polar_edge_longitudes_rad(latitude_rad, obliquity_rad) -> np.ndarray:
         s = np.cos(latitude_rad) / np.sin(obliquity_rad)
     root = np.arcsin(np.where(s <= 1.0, s, np.nan))
     return np.stack([root, np.pi - root, np.pi + root, 2.0 * np.pi - root], axis=-1)
-
-
-def _refine_days_with_polar_edges(values, orbit, calendar, year, lat_deg, day, s0) -> None:
-    """Redo, in place, the day averages of the days in which a latitude crosses a polar-night edge.
-
-    There the daily mean has a kink in time, which slows Gauss-Legendre
-    quadrature down; those few days (at most four per latitude and year) are
-    integrated again in two pieces split at the edge, each with the mapped
-    rule of :mod:`bcgen.insolation.quadrature`.
-    """
-    lat = np.deg2rad(lat_deg)
-    edges = polar_edge_longitudes_rad(lat, expand_orbit(orbit, 1).obliquity_rad)  # O+(nlat, 4)
-    solar = SolarYear(expand_orbit(orbit, 2), calendar, year=year)
-    length = float(calendar.year_length_days(year))
-    none = np.isnan(edges)
-    edges = np.where(none, 0.0, edges)
-    times = np.concatenate(
-        [np.where(none, np.nan, solar.time_of_true_longitude_days(edges, near_days=near))
-         for near in (0.0, 0.5 * length, length)],
-        axis=-1,
-    )  # the same edges near the start, middle and end of the year
-    times = times.reshape(-1, lat.size, times.shape[-1])
-    valid = np.isfinite(times)
-    which = np.floor(np.where(valid, times, -1.0)).astype(int)
-    pos = np.clip(np.searchsorted(day, which), 0, day.size - 1)
-    valid &= day[pos] == which
-    i_orbit, i_lat, i_edge = np.nonzero(valid)
-    if i_orbit.size == 0:
-        return
-    i_day = pos[i_orbit, i_lat, i_edge]
-    start = day[i_day].astype(float)
-    split = times[i_orbit, i_lat, i_edge] - start  # fraction of the day before the edge
-    g, wg = mapped_gauss_legendre(DAY_AVERAGE_NODES)
-    t = np.concatenate([start[:, None] + split[:, None] * g,
-                        start[:, None] + split[:, None] + (1.0 - split[:, None]) * g], axis=-1)
-    w = np.concatenate([split[:, None] * wg, (1.0 - split[:, None]) * wg], axis=-1)
-    flat = OrbitalElements(
-        orbit.eccentricity.reshape(-1)[i_orbit],
-        orbit.obliquity_deg.reshape(-1)[i_orbit],
-        orbit.perihelion_longitude_deg.reshape(-1)[i_orbit],
-    )[:, np.newaxis]
-    lam = SolarYear(flat, calendar, year=year).true_longitude_rad(t)
-    sin_dec = sin_declination(lam, flat.obliquity_rad)
-    cos_dec = np.sqrt(1.0 - sin_dec * sin_dec)
-    phi = lat[i_lat][:, np.newaxis]
-    q = daily_factor(np.sin(phi), np.cos(phi), sin_dec, cos_dec)
-    q *= distance_factor(lam, flat.eccentricity, flat.perihelion_longitude_rad)
-    view = values.reshape(-1, lat.size, day.size)
-    view[i_orbit, i_lat, i_day] = (s0 / np.pi) * np.sum(q * w, axis=-1)
 
 
 def _daily_from_longitude(
