@@ -5,7 +5,8 @@ calendars or specs:
 
 - :mod:`bcgen.io.atomic`: a file is written under a hidden temporary name in its
   target folder and renamed into place only when complete; never over an existing file
-  without ``force``; :func:`write_text_atomic`, :func:`prepare_output_folder`.
+  without ``force``; :func:`write_file_atomic`, :func:`write_text_atomic`,
+  :func:`prepare_output_folder`.
 - :mod:`bcgen.io.diagnose`: one line saying why a write failed (a full disk is named
   even when the netCDF library reports it as something else).
 - :mod:`bcgen.io.netcdf`: :func:`write_netcdf` (an xarray Dataset, chunked and
@@ -43,6 +44,7 @@ from bcgen.io.atomic import (
     prepare_output_folder,
     remove_quietly,
     sha256_of,
+    write_file_atomic,
     write_text_atomic,
 )
 from bcgen.io.backend import NetCDFBackend, current_backend, set_backend
@@ -65,5 +67,6 @@ __all__ = [
     "sha256_of",
     "write_failure",
     "write_netcdf",
+    "write_file_atomic",
     "write_text_atomic",
 ]

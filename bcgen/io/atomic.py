@@ -76,18 +76,18 @@ def remove_quietly(path) -> None:
             time.sleep(0.05)
 
 
-def write_text_atomic(path, text: str, *, force: bool = False) -> Path:
-    """Write a text file through a temporary file in the same folder; never a partial file."""
+def write_file_atomic(path, write, *, force: bool = False) -> Path:
+    """Write ``path`` through a temporary file beside it; never a partial file.
+
+    ``write(tmp)`` fills the temporary (a :class:`~pathlib.Path`), which is renamed into
+    place when complete; on any failure, an interrupt included, no file is left behind and
+    an existing ``path`` is untouched. Without ``force`` an existing file is never replaced.
+    """
     path = Path(path)
-    if path.exists() and not force:
-        raise OutputError(f"{path} already exists; use --force to overwrite it")
     tmp = None
     try:
         tmp = create_temporary(path)
-        with open(tmp, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
+        write(tmp)
         move_into_place(tmp, path, force)
         tmp = None
     except OSError as exc:
@@ -96,6 +96,21 @@ def write_text_atomic(path, text: str, *, force: bool = False) -> Path:
         if tmp is not None:
             remove_quietly(tmp)
     return path
+
+
+def write_text_atomic(path, text: str, *, force: bool = False) -> Path:
+    """Write a text file through a temporary file in the same folder; never a partial file."""
+    path = Path(path)
+    if path.exists() and not force:
+        raise OutputError(f"{path} already exists; use --force to overwrite it")
+
+    def write(tmp: Path) -> None:
+        with open(tmp, "w", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+            fh.flush()
+            os.fsync(fh.fileno())
+
+    return write_file_atomic(path, write, force=force)
 
 
 def prepare_output_folder(directory) -> Path:

@@ -6,7 +6,7 @@ from pathlib import Path
 from typing import Literal
 
 from bcgen.errors import OutputError
-from bcgen.io import create_temporary, move_into_place, remove_quietly, write_failure
+from bcgen.io import write_file_atomic
 
 FigureFormat = Literal["png", "pdf"]
 #: File suffixes and the format each selects.
@@ -80,17 +80,6 @@ def save_figure(fig, path, *, force: bool = False, dpi: int = 150) -> Path:
     check_dpi(dpi)
     metadata = {"Creator": f"bcgen {__version__}"} if fmt == "pdf" else {
         "Software": f"bcgen {__version__}"}
-    tmp = None
-    try:
-        tmp = create_temporary(path)
-        fig.savefig(tmp, format=fmt, dpi=dpi, metadata=metadata)
-        move_into_place(tmp, path, force)
-        tmp = None
-    except OutputError:
-        raise
-    except OSError as exc:
-        raise OutputError(write_failure(path, exc)) from None
-    finally:
-        if tmp is not None:
-            remove_quietly(tmp)
+    write_file_atomic(path, lambda tmp: fig.savefig(tmp, format=fmt, dpi=dpi, metadata=metadata),
+                      force=force)
     return path
