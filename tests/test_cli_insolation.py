@@ -7,6 +7,7 @@ import sys
 import numpy as np
 import pytest
 from cli_checks import one_error_line
+from published_tables import CMIP6_PICONTROL_TSI_WM2, PMIP4
 
 from bcgen.cli import main
 
@@ -25,15 +26,17 @@ def test_json_for_the_mid_holocene(capsys):
     assert record["months"] == list(range(1, 13))
     values = np.array(record["insolation_wm2"])
     assert values.shape == (4, 12) and np.all(values >= 0)
-    assert record["solar_constant_wm2"] == 1360.747  # CMIP6 piControl (Matthes et al. 2017)
+    # CMIP6 piControl (Matthes et al. 2017)
+    assert record["solar_constant_wm2"] == CMIP6_PICONTROL_TSI_WM2
     assert record["calendar"] == "noleap"
     assert record["anchor"] == {"kind": "march_equinox", "date": "03-21 12:00", "day": 79.5}
     assert record["month_definition"] == "fixed-day" and record["daily_method"] == "midday"
     orbit = record["orbit"]
     # midHolocene protocol orbit (PMIP3/PMIP4 design pages; Otto-Bliesner et al. 2017).
-    assert round(orbit["eccentricity"], 6) == 0.018682
-    assert round(orbit["obliquity_deg"], 3) == 24.105
-    assert round(orbit["perihelion_longitude_deg"], 2) == 0.87
+    assert round(orbit["eccentricity"], 6) == float(PMIP4["midHolocene"].eccentricity)
+    assert round(orbit["obliquity_deg"], 3) == float(PMIP4["midHolocene"].obliquity_deg)
+    assert round(orbit["perihelion_longitude_deg"], 2) == float(
+        PMIP4["midHolocene"].perihelion_minus_180_deg)
     assert "perihelion - 180" in orbit["perihelion_longitude_convention"]
     assert orbit["sun_longitude_at_perihelion_deg"] == pytest.approx(
         orbit["perihelion_longitude_deg"] + 180.0)
@@ -41,7 +44,7 @@ def test_json_for_the_mid_holocene(capsys):
     # orbit the command reports, and the month-length-weighted mean of its own monthly values
     # (mean of daily means at midday, so only close to the exact value: 0.05 W m-2).
     e, eps = orbit["eccentricity"], np.deg2rad(orbit["obliquity_deg"])
-    polar = 1360.747 * np.sin(eps) / (np.pi * np.sqrt(1 - e * e))
+    polar = CMIP6_PICONTROL_TSI_WM2 * np.sin(eps) / (np.pi * np.sqrt(1 - e * e))
     assert record["annual_mean_wm2"][0] == pytest.approx(polar, rel=1e-9)
     assert record["annual_mean_wm2"][3] == pytest.approx(polar, rel=1e-9)
     lengths = np.array(record["month_length_days"])
@@ -53,7 +56,7 @@ def test_text_table_for_people(capsys):
     assert status == 0 and err == ""
     lines = out.splitlines()
     header = [line for line in lines if line.startswith("#")]
-    assert any("solar constant: 1360.747 W m-2" in line for line in header)
+    assert any(f"solar constant: {CMIP6_PICONTROL_TSI_WM2} W m-2" in line for line in header)
     assert any("March equinox at 03-21 12:00" in line for line in header)
     assert any("middle of each model day" in line for line in header)
     table = [line for line in lines if not line.startswith("#")]
@@ -169,8 +172,10 @@ def test_reference_orbit_is_berger1978(capsys):
     record = json.loads(out)
     assert record["orbit"]["solution"] == record["reference_orbit"]["solution"] == "berger1978"
     # piControl orbit (Otto-Bliesner et al. 2017): e = 0.016764, perihelion - 180 = 100.33.
-    assert round(record["reference_orbit"]["eccentricity"], 6) == 0.016764
-    assert round(record["reference_orbit"]["perihelion_longitude_deg"], 2) == 100.33
+    assert round(record["reference_orbit"]["eccentricity"], 6) == float(
+        PMIP4["piControl"].eccentricity)
+    assert round(record["reference_orbit"]["perihelion_longitude_deg"], 2) == float(
+        PMIP4["piControl"].perihelion_minus_180_deg)
 
 
 def test_help_says_the_orbit_is_berger1978_and_has_no_solution_option(capsys):
@@ -192,7 +197,8 @@ def test_help_cites_the_solar_constant_and_shows_an_example(capsys):
     with pytest.raises(SystemExit):
         main(["insolation", "--help"])
     out = capsys.readouterr().out
-    assert "1360.747" in out and "CMIP6 piControl" in out and "Matthes et al. 2017" in out
+    assert str(CMIP6_PICONTROL_TSI_WM2) in out and "CMIP6 piControl" in out
+    assert "Matthes et al. 2017" in out
     assert "bcgen insolation 6ka --lat 90 65 0 -90" in out
 
 

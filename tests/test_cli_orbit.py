@@ -94,9 +94,9 @@ def test_text_states_units_and_conventions(capsys):
     ]
     assert [r[0] for r in rows] == ["1850CE", "6ka", "21ka"]
     # midHolocene (PMIP design page; Otto-Bliesner et al. 2017): e 0.018682, ε 24.105, ϖ 0.87.
-    assert float(rows[1][2]) == 0.018682
-    assert round(float(rows[1][3]), 3) == 24.105
-    assert round(float(rows[1][4]), 2) == 0.87
+    assert rows[1][2] == PMIP4["midHolocene"].eccentricity
+    assert round(float(rows[1][3]), 3) == float(PMIP4["midHolocene"].obliquity_deg)
+    assert round(float(rows[1][4]), 2) == float(PMIP4["midHolocene"].perihelion_minus_180_deg)
 
 
 def test_help_shows_examples(capsys):

@@ -4,6 +4,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from published_tables import CMIP6_PICONTROL_TSI_WM2
 
 from bcgen.errors import BcgenError
 from bcgen.insolation import (
@@ -18,7 +19,7 @@ from bcgen.insolation import (
 from bcgen.orbit import solve
 from bcgen.solar_calendar import Anchor, ModelCalendar, SolarYear
 
-S0 = 1360.747
+S0 = CMIP6_PICONTROL_TSI_WM2
 EXACT_REL = 1e-9
 
 eccentricities = st.floats(0.0, 0.1)  # the tested range for paleo orbits
