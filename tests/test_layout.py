@@ -171,10 +171,10 @@ def test_the_vocabularies_named_above_are_each_defined_once():
 
 
 #: Public names that several modules define on purpose: the interface each member of a
-#: registry implements (an orbital solution: NAME, REFERENCE, solve; a subcommand: register,
-#: run, EPILOG, format_text) and a script's entry point.
-INTERFACE_NAMES = {"NAME", "REFERENCE", "solve", "register", "run", "EPILOG", "format_text",
-                   "main"}
+#: registry implements (an orbital solution: NAME, REFERENCE, VALID_YEARS, solve; a
+#: subcommand: register, run, EPILOG, format_text) and a script's entry point.
+INTERFACE_NAMES = {"NAME", "REFERENCE", "VALID_YEARS", "solve", "register", "run", "EPILOG",
+                   "format_text", "main"}
 #: Known second homes, each to be folded into one (owned by modules under other work).
 KNOWN_TWICE = {"ARCSEC", "J2000_YEARS_FROM_1950", "compare", "interpolate"}
 
