@@ -1,25 +1,31 @@
 """``python -m bcgen`` and the ``bcgen`` console script.
 
-:func:`console` notes SIGINT and SIGTERM before anything else is imported, so that a
-Ctrl-C in the first moments of a command is a clean stop too (see :mod:`bcgen.cli.stop`).
+SIGINT and SIGTERM are noted from the moment this module is imported, before anything
+else of the command is, so that a Ctrl-C in the first moments of a command is a clean
+stop too (see :mod:`bcgen.cli.stop`). Only the command imports this module.
 """
 
 import signal
 
 
+def _note(signum, frame) -> None:
+    _note.noted.append(signum)
+
+
+_note.noted = []
+for _signum in (signal.SIGINT, signal.SIGTERM):
+    if signal.getsignal(_signum) in (signal.default_int_handler, signal.SIG_DFL):
+        try:
+            signal.signal(_signum, _note)
+        except ValueError:  # imported outside the main thread: nothing to note there
+            break
+
+
 def console() -> None:
     """Entry point of the ``bcgen`` console script."""
-
-    def note(signum, frame) -> None:
-        note.noted.append(signum)
-
-    note.noted = []
-    for signum in (signal.SIGINT, signal.SIGTERM):
-        if signal.getsignal(signum) in (signal.default_int_handler, signal.SIG_DFL):
-            signal.signal(signum, note)
     from bcgen.cli import console_main, stop
 
-    stop.hold_at_start(note)
+    stop.hold_at_start(_note)
     console_main()
 
 
