@@ -45,6 +45,13 @@ def _inputs(folder: Path) -> list[str]:
     return sorted(str(p) for p in (folder / "model").glob("*.nc"))
 
 
+def _read(path: Path) -> str:
+    try:
+        return path.read_text()
+    except OSError:
+        return ""
+
+
 def _one_line(err: str) -> str:
     lines = err.strip().splitlines()
     assert len(lines) == 1, err
@@ -114,11 +121,10 @@ def test_a_second_conversion_into_the_folder_is_refused(run_files, tmp_path, bcg
     first = subprocess.Popen(argv, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     try:
         deadline = time.monotonic() + 120
-        while not (out / ".bcgen.lock").exists() and time.monotonic() < deadline:
-            assert first.poll() is None, first.communicate()
-            time.sleep(0.002)
+        while time.monotonic() < deadline and '"pid"' not in _read(out / ".bcgen.lock"):
+            assert first.poll() is None, first.communicate()  # (the pid is written just
+            time.sleep(0.002)  # after the lock is taken: pause the holder only then)
         first.send_signal(signal.SIGSTOP)
-        time.sleep(0.2)  # the holder writes its pid just after taking the lock
         before, inputs = snapshot(out), snapshot(run_files)
         second = subprocess.run(argv, capture_output=True, text=True, timeout=120)
         assert second.returncode == 2
