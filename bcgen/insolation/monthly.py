@@ -138,7 +138,25 @@ def _integrate_daily_factor_block(lat, lo, hi, eps) -> np.ndarray:
         return daily_factor(sin_lat, cos_lat, sin_dec, np.sqrt(1.0 - sin_dec * sin_dec))
 
     kinks = _kinks_in_longitude(lat, eps, lo)
-    return integrate_between_kinks(q, lo, hi, kinks, params=(np.sin(lat), np.cos(lat), np.sin(eps)))
+    return integrate_between_kinks(q, lo, hi, kinks, params=(np.sin(lat), np.cos(lat), np.sin(eps)),
+                                   closed_form=_polar_day_or_night)
+
+
+def _polar_day_or_night(start, width, sin_lat, cos_lat, sin_eps):
+    """∫ q dλ over pieces wholly in polar night (0) or polar day (closed form).
+
+    The polar-night edges are kinks, so a piece lies in one regime throughout; its
+    midpoint tells which. In polar night H0 = 0 and q = 0; in polar day H0 = π and
+    q = π sin φ sin δ = π sin φ sin ε sin λ, whose integral is
+    π sin φ sin ε (cos λ1 − cos λ2). Other pieces are left to the quadrature.
+    """
+    sin_dec = sin_eps * np.sin(start + 0.5 * width)
+    x = sin_lat * sin_dec
+    y = cos_lat * np.sqrt(1.0 - sin_dec * sin_dec)
+    night, day = x <= -y, x >= y  # cos H0 = -x / y at or beyond ±1
+    integral = np.where(day, np.pi * sin_lat * sin_eps * (np.cos(start) - np.cos(start + width)),
+                        0.0)
+    return night | day, integral
 
 
 def integrate_arcs_over_latitudes(latitude_rad, start_rad, end_rad, obliquity_rad) -> np.ndarray:
@@ -156,6 +174,11 @@ def integrate_arcs_over_latitudes(latitude_rad, start_rad, end_rad, obliquity_ra
     """
     lat = np.asarray(latitude_rad, dtype=float)
     lo, hi, eps = (np.asarray(v, dtype=float) for v in (start_rad, end_rad, obliquity_rad))
+    arcs = hi > lo  # empty arcs (the second piece of a month that does not cross the anchor)
+    if not arcs.all():
+        out = np.zeros((lo.size, lat.size))
+        out[arcs] = integrate_arcs_over_latitudes(lat, lo[arcs], hi[arcs], eps[arcs])
+        return out
     out = np.empty((lo.size, lat.size))
     sin_eps = np.sin(eps)
     smooth = np.cos(lat) >= sin_eps.max(initial=0.0) + SMOOTH_MARGIN
@@ -441,24 +464,78 @@ def monthly_insolation(
     else:
         table = fixed_angle_months(orbit, calendar, reference=reference, year=year)
         averaging = MONTHLY_AVERAGING[months]
+    if months == "fixed_angle":
+        values = time_mean_over_months_wm2(orbit, calendar, lat, table.start_day,
+                                           table.end_day, s0, year=year)
+        return MonthlyInsolation(values, lat, table, months, averaging, s0)
     flat = flatten_orbit(orbit)
     start = table.start_day.reshape(-1, 12)
     end = table.end_day.reshape(-1, 12)
     values = np.empty((flat.shape[0], lat.size, 12))
-    # Per orbit: a year of daily values, or 12 months of two arcs (the quadrature inside
-    # works in blocks of its own).
-    per_orbit = lat.size * (366 if months == "fixed_day" else 24)
-    for block in orbit_blocks(flat.shape[0], per_orbit):
-        if months == "fixed_day":
-            daily = daily_insolation(flat[block], calendar, lat.ravel(), s0, year=year,
-                                     method=daily_method)
-            values[block] = _mean_over_day_months(daily.insolation_wm2, start[block],
-                                                  end[block])
-        else:
-            values[block] = _fixed_angle_means(flat[block], calendar, year, start[block],
-                                               end[block], lat.ravel(), s0)
+    for block in orbit_blocks(flat.shape[0], lat.size * 366):  # a year of daily values
+        daily = daily_insolation(flat[block], calendar, lat.ravel(), s0, year=year,
+                                 method=daily_method)
+        values[block] = _mean_over_day_months(daily.insolation_wm2, start[block], end[block])
     values = values.reshape(orbit.shape + lat.shape + (12,))
     return MonthlyInsolation(values, lat, table, months, averaging, s0)
+
+
+def time_mean_over_months_wm2(
+    orbit: OrbitalElements,
+    calendar,
+    latitude_deg,
+    start_day,
+    end_day,
+    solar_constant_wm2: float = CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+    year: int = 1,
+) -> np.ndarray:
+    """Exact time-mean TOA insolation over 12 months of fractional days (W m-2).
+
+    The energy over each month's arc of true longitude (Kepler's second law, see the
+    module notes) divided by its length in days: what :func:`monthly_insolation` gives
+    for fixed-angle months, for months computed beforehand (for instance once for the
+    time bounds and the values of a transient chunk).
+
+    Parameters
+    ----------
+    orbit : OrbitalElements
+        Orbital elements (leading axes of the result).
+    calendar : ModelCalendar or str
+        Model calendar with its anchor.
+    latitude_deg : float or array_like
+        Latitudes, degrees north.
+    start_day, end_day : array_like
+        Start and end of each month, days after 1 January 00:00 of ``year``, shape
+        ``orbit.shape + (12,)`` (for instance ``MonthTable.start_day`` and ``end_day``);
+        each month shorter than an orbital year.
+    solar_constant_wm2 : float
+        S0, W m-2.
+    year : int
+        Model year of the table.
+
+    Returns
+    -------
+    numpy.ndarray
+        W m-2, shape ``orbit.shape + latitude_deg.shape + (12,)``.
+    """
+    calendar = as_calendar(calendar)
+    lat = check_latitude_deg(latitude_deg)
+    s0 = float(check_solar_constant(solar_constant_wm2))
+    flat = flatten_orbit(orbit)
+    start = np.asarray(start_day, dtype=float)
+    end = np.asarray(end_day, dtype=float)
+    if start.shape != orbit.shape + (12,) or end.shape != start.shape:
+        raise InsolationError(
+            f"months of shape {start.shape} and {end.shape} do not match the orbit's shape "
+            f"{orbit.shape} + (12,)"
+        )
+    start, end = start.reshape(-1, 12), end.reshape(-1, 12)
+    values = np.empty((flat.shape[0], lat.size, 12))
+    # 12 months of at most two arcs per orbit (the quadrature inside works in blocks of its own).
+    for block in orbit_blocks(flat.shape[0], lat.size * 24):
+        values[block] = _fixed_angle_means(flat[block], calendar, year, start[block],
+                                           end[block], lat.ravel(), s0)
+    return values.reshape(orbit.shape + lat.shape + (12,))
 
 
 def flatten_orbit(orbit: OrbitalElements) -> OrbitalElements:

@@ -32,7 +32,7 @@ from bcgen.experiment import Experiment
 from bcgen.grids import Grid
 from bcgen.insolation import daily_insolation, monthly_insolation
 from bcgen.insolation.daily import DAILY_METHODS, DAY_AVERAGE_NODES
-from bcgen.insolation.monthly import MONTHLY_AVERAGING
+from bcgen.insolation.monthly import MONTHLY_AVERAGING, time_mean_over_months_wm2
 from bcgen.io import SeriesFile
 from bcgen.orbit import OrbitalElements
 from bcgen.solar_calendar.calendars import FIXED_YEAR_DAYS
@@ -579,9 +579,20 @@ class MonthlyFixedAngleSeries(MonthlyFixedDaySeries):
         )
         return [*names, "month_start_true_longitude"]
 
-    def months(self, years: np.ndarray) -> MonthTable:
-        """Fixed-angle months of model years (each with its orbit and its calendar year)."""
+    def chunk_years(self) -> int:  # noqa: D102
+        # 12 months of at most two arcs per model year instead of a year of daily values
+        n_unique = self.ctx.unique_latitudes_deg[0].size
+        return max(1, COMPUTE_BUDGET_BYTES // (n_unique * 24 * 8 * _TEMPORARIES))
+
+    def months(self, years: np.ndarray) -> tuple[OrbitalElements, MonthTable]:
+        """Orbits and fixed-angle months of model years (each its own orbit and calendar year).
+
+        The last result is kept: the time bounds and the values of a chunk share it.
+        """
         years = np.asarray(years)
+        key = years.tobytes()
+        if getattr(self, "_months_of", (None,))[0] == key:
+            return self._months_of[1]
         ctx = self.ctx
         orbit = ctx.orbit_of_years(years)
         start = np.empty((years.size, 12))
@@ -594,25 +605,31 @@ class MonthlyFixedAngleSeries(MonthlyFixedDaySeries):
             lam[idx] = table.start_true_longitude_deg
         fixed = np.broadcast_to(np.diff(ctx.calendar.month_starts_days(int(years[0]))),
                                 (years.size, 12))
-        return MonthTable(start, length, lam, np.zeros_like(start), fixed, "fixed_angle")
+        table = MonthTable(start, length, lam, np.zeros_like(start), fixed, "fixed_angle")
+        self._months_of = (key, (orbit, table))
+        return orbit, table
 
     def bounds(self, years: np.ndarray) -> np.ndarray:
         """(12 T, 2) bounds of the fixed-angle months of ``years``, days since the first year."""
-        table = self.months(years)
+        table = self.months(years)[1]
         starts = self.ctx.year_start_days(years)[:, np.newaxis]
         return np.stack([table.start_day + starts, table.end_day + starts], axis=-1).reshape(-1, 2)
 
-    def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:  # noqa: D102
-        values = super().compute(years)
-        values["month_start_true_longitude"] = self.months(years).start_true_longitude_deg.ravel()
-        return values
-
-    def by_latitude(self, orbit, lat, year):  # noqa: D102
+    def compute(self, years: np.ndarray) -> dict[str, np.ndarray]:
+        """Rows (12 T, n_unique_latitudes) of exact time means over each year's own months."""
         ctx = self.ctx
-        return monthly_insolation(
-            orbit, ctx.calendar, lat, ctx.spec.solar_constant_wm2, months="fixed_angle",
-            reference=ctx.reference_orbit, year=year,
-        ).insolation_wm2
+        lat, _ = ctx.unique_latitudes_deg
+        orbit, table = self.months(years)
+        values = np.empty((years.size, 12, lat.size))
+        end = table.end_day
+        for idx in _groups_of_equal_years(ctx, years):
+            means = time_mean_over_months_wm2(orbit[idx], ctx.calendar, lat,
+                                              table.start_day[idx], end[idx],
+                                              ctx.spec.solar_constant_wm2,
+                                              year=int(years[idx[0]]))
+            values[idx] = means.transpose(0, 2, 1)
+        return {"insolation": values.reshape(-1, lat.size),
+                "month_start_true_longitude": table.start_true_longitude_deg.ravel()}
 
 
 #: The month table of every model year: variable name -> (MonthTable field, attributes).
