@@ -439,6 +439,11 @@ class InsolationSeries(Series):
             for j, i in enumerate(idx):
                 rows[offsets[i] : offsets[i + 1]] = values[j].T
             del values
+        return self.scaled(years, counts, rows)
+
+    def scaled(self, years: np.ndarray, counts, rows: np.ndarray) -> dict[str, np.ndarray]:
+        """Scale rows (``counts`` time steps per year) to the solar constant of each year."""
+        ctx = self.ctx
         if not ctx.solar_constant_scaled:
             return {"insolation": rows}
         # Insolation is proportional to S: each model year takes the S of its own epoch.
@@ -628,7 +633,7 @@ class MonthlyFixedAngleSeries(MonthlyFixedDaySeries):
                                               ctx.spec.solar_constant_wm2,
                                               year=int(years[idx[0]]))
             values[idx] = means.transpose(0, 2, 1)
-        return {"insolation": values.reshape(-1, lat.size),
+        return {**self.scaled(years, 12, values.reshape(-1, lat.size)),
                 "month_start_true_longitude": table.start_true_longitude_deg.ravel()}
 
 
