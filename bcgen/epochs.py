@@ -33,6 +33,7 @@ epochs and STEP a duration, for example ``130ka..115ka/1ka`` or
 from __future__ import annotations
 
 import re
+from decimal import Context, Decimal
 from typing import Literal
 
 import numpy as np
@@ -56,6 +57,15 @@ _EPOCH_RE = re.compile(
     re.IGNORECASE,
 )
 _DURATION_SCALE = {"yr": 1.0, "a": 1.0, "ka": 1e3, "kyr": 1e3, "ma": 1e6, "myr": 1e6}
+#: Decimal arithmetic wide enough to scale or shift any double exactly, so that an epoch's
+#: number is rounded to binary once (``0.1ka`` is exactly -100 years, ``1950.1CE`` exactly
+#: the double nearest 0.1).
+_EXACT = Context(prec=1200, Emax=10_000, Emin=-10_000)
+
+
+def _exact_years(number: str, scale: float = 1.0, shift: float = 0.0) -> float:
+    """Compute ``number * scale + shift`` exactly in decimal and round it once to a double."""
+    return float(_EXACT.add(_EXACT.multiply(Decimal(number), Decimal(scale)), Decimal(shift)))
 
 
 def _fail(text: str, why: str, forms: str = ACCEPTED_FORMS) -> EpochError:
@@ -110,11 +120,11 @@ def parse_epoch(text: str) -> float:
     if unit in _DURATION_SCALE or unit == "bp":
         if value < 0:
             raise _fail(text, "an age before present cannot be negative; write a CE year instead")
-        years = -value * _DURATION_SCALE.get(unit, 1.0) + 0.0  # + 0.0: no -0.0
+        years = -_exact_years(match["num"], _DURATION_SCALE.get(unit, 1.0)) + 0.0  # no -0.0
     elif unit in ("ce", "ad"):
         if value < 1:
             raise _fail(text, "CE years start at 1 (there is no year 0)")
-        years = value - 1950.0  # a decimal year (2000.5CE) is a fraction of a year
+        years = _exact_years(match["num"], shift=-1950.0)  # 2000.5CE: a fraction of a year
     elif value != int(value) or value < 1:
         raise _fail(text, "BCE years are whole numbers from 1 (there is no year 0)")
     else:
@@ -229,12 +239,12 @@ def format_epoch(years_from_1950: float, style: EpochStyle = "auto") -> str:
         style = "ka" if t <= 0 and t % 1000 == 0 else "ce" if whole and t > -1950 else "bp"
     if t > 0 or (style == "ce" and whole):
         if not whole:
-            return _decimal_ce(t)
+            return _readable(t, Decimal(1), Decimal(1950), "CE")
         year = int(round(t)) + 1950  # astronomical numbering: year 0 is 1 BCE
         return f"{year}CE" if year >= 1 else f"{1 - year} BCE"
     if style == "ka":
-        return _shortest(-t / 1000 + 0.0, lambda v: -v * 1000.0 + 0.0, t) + "ka"
-    return _shortest(-t + 0.0, lambda v: -v + 0.0, t) + " BP"
+        return _readable(t, Decimal(-1000), Decimal(0), "ka")
+    return _readable(t, Decimal(-1), Decimal(0), " BP")
 
 
 def _epoch_number(years_from_1950) -> float:
@@ -252,21 +262,18 @@ def _epoch_number(years_from_1950) -> float:
     return t + 0.0
 
 
-def _shortest(value: float, back, target: float) -> str:
-    """Write ``value`` in 12 digits if that reads back to ``target``, else exactly."""
-    text = f"{value:.12g}"
-    return text if back(float(text)) == target else repr(value)
+def _readable(t: float, per_unit: Decimal, origin: Decimal, suffix: str) -> str:
+    """Shortest text ``N<suffix>`` that :func:`parse_epoch` reads back to exactly ``t``.
 
-
-def _decimal_ce(t: float) -> str:
-    """Write ``t`` as a decimal CE year that :func:`parse_epoch` reads back to ``t``."""
-    year = t + 1950.0
-    for candidate in (year, *np.nextafter(year, [np.inf, -np.inf]),
-                      *np.nextafter(np.nextafter(year, [np.inf, -np.inf]), [np.inf, -np.inf])):
-        for text in (f"{float(candidate):.12g}", repr(float(candidate))):
-            if float(text) - 1950.0 == t:
-                return f"{text}CE"
-    return f"{year!r}CE"  # within one unit in the last place (cannot be made exact)
+    ``N = t / per_unit + origin`` (years per unit of the number, and the year the number
+    counts from): 12 significant digits when they read back to ``t``, else ``t``'s own
+    shortest decimal (``repr``) shifted and scaled exactly in decimal arithmetic.
+    """
+    exact = _EXACT.add(_EXACT.divide(Decimal(repr(t)), per_unit), origin)
+    for number in (f"{float(exact):.12g}", format(exact.normalize(_EXACT), "f")):
+        if parse_epoch(number + suffix) == t:
+            return number + suffix
+    raise AssertionError(f"no text reads back to the epoch {t!r}")  # exact arithmetic: unreachable
 
 
 def epoch_labels(text: str) -> list[str]:

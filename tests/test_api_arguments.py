@@ -102,15 +102,19 @@ def test_cli_and_api_say_the_same(run_cli):
 
 
 @settings(max_examples=300, deadline=None)
-@given(st.floats(-1e9, 1e9, allow_nan=False))
-def test_format_epoch_reads_back(years):
-    # Exact for every epoch up to 1950 CE; after it a decimal CE year carries the value to
-    # the float spacing of the CE year (IEEE 754), the grammar's resolution there.
-    back = bcgen.parse_epoch(bcgen.format_epoch(years))
-    if years <= 0 or years == round(years):
-        assert back == years
-    else:
-        assert abs(back - years) <= 2 * np.spacing(years + 1950.0)
+@given(st.floats(-1e9, 1e9, allow_nan=False), st.sampled_from(["auto", "ka", "bp", "ce"]))
+def test_format_epoch_reads_back(years, style):
+    # Exact for every epoch and style (issue 12): the text carries the epoch's shortest
+    # decimal, scaled and shifted in exact decimal arithmetic on both sides.
+    assert bcgen.parse_epoch(bcgen.format_epoch(years, style)) == years
+
+
+@pytest.mark.parametrize("years", [0.1, 1e-7, 10.5, 5e-324, -5e-324, -6000.1, -0.1])
+def test_format_epoch_reads_back_where_a_ce_year_cannot_hold_the_value(years):
+    # 1950 + 0.1 is not a double that is 0.1 away from 1950: the decimal CE year must be
+    # read as a decimal, not as a double, to give back 0.1 (IEEE 754 rounding).
+    for style in ("auto", "ka", "bp", "ce"):
+        assert bcgen.parse_epoch(bcgen.format_epoch(years, style)) == years
 
 
 @pytest.mark.parametrize("s0", ["800", "1600"])
