@@ -46,6 +46,11 @@ CASES = [
     ("monthly-solar-constant-inf",
      lambda: bcgen.monthly_insolation(ORBIT, "noleap", [65.0], solar_constant_wm2=math.inf),
      r"^solar_constant_wm2: expected a positive number of W m-2; got inf$"),
+    ("daily-solar-constants-several",
+     lambda: bcgen.daily_insolation(ORBIT, "noleap", [10.0, 20.0],
+                                    solar_constant_wm2=np.array([1360.0, 1361.0, 1362.0])),
+     r"^solar_constant_wm2: expected one positive number of W m-2 \(this function takes one "
+     r"solar constant\), got an array of shape \(3,\)$"),
     ("annual-latitude-text", lambda: bcgen.annual_mean_insolation_wm2(ORBIT, "x"),
      r"^latitude_deg: expected latitudes in degrees north, got the string 'x'$"),
     ("instantaneous-shapes",

@@ -85,6 +85,15 @@ def check_solar_constant(solar_constant_wm2, name: str = "solar_constant_wm2") -
     return arguments.solar_constant_wm2(solar_constant_wm2, name)
 
 
+def check_one_solar_constant(solar_constant_wm2, name: str = "solar_constant_wm2") -> float:
+    """Return one solar constant as a float, refusing an array of several (same rules)."""
+    s0 = check_solar_constant(solar_constant_wm2, name)
+    if s0.size != 1:
+        raise InsolationError(f"{name}: expected one positive number of W m-2 (this function "
+                              f"takes one solar constant), got an array of shape {s0.shape}")
+    return float(s0.reshape(()))
+
+
 def check_method(method: str) -> str:
     """Refuse an unknown daily method, listing the known ones."""
     if method not in DAILY_METHODS:
@@ -315,7 +324,7 @@ def daily_insolation(
     check_method(method)
     calendar = as_calendar(calendar)
     lat = check_latitude_deg(latitude_deg)
-    s0 = float(check_solar_constant(solar_constant_wm2))
+    s0 = check_one_solar_constant(solar_constant_wm2)
     day = days_of_year(calendar, year) if days is None else np.asarray(days)
     if day.ndim != 1 or not np.all(day == np.round(day)):
         raise InsolationError("days: expected a 1-D sequence of whole day numbers (0 = 1 January)")
@@ -566,7 +575,7 @@ def interval_mean_insolation_wm2(
     if orbit.shape != ():
         raise InsolationError("orbit: interval means take one set of orbital elements")
     lat = check_latitude_deg(latitude_deg).ravel()
-    s0 = float(check_solar_constant(solar_constant_wm2))
+    s0 = check_one_solar_constant(solar_constant_wm2)
     start = np.atleast_1d(np.asarray(start_days, dtype=float))
     end = np.atleast_1d(np.asarray(end_days, dtype=float))
     if start.shape != end.shape or start.ndim != 1 or np.any(~(end >= start)):

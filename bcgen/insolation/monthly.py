@@ -46,6 +46,7 @@ from bcgen.insolation.daily import (
     as_calendar,
     check_latitude_deg,
     check_method,
+    check_one_solar_constant,
     check_solar_constant,
     daily_factor,
     daily_insolation,
@@ -457,7 +458,7 @@ def monthly_insolation(
     check_method(daily_method)
     calendar = as_calendar(calendar)
     lat = check_latitude_deg(latitude_deg)
-    s0 = float(check_solar_constant(solar_constant_wm2))
+    s0 = check_one_solar_constant(solar_constant_wm2)
     if months == "fixed_day":
         table = fixed_day_months(orbit, calendar, year=year)
         averaging = f"{MONTHLY_AVERAGING[months]}; daily values: {DAILY_METHODS[daily_method]}"
@@ -520,7 +521,7 @@ def time_mean_over_months_wm2(
     """
     calendar = as_calendar(calendar)
     lat = check_latitude_deg(latitude_deg)
-    s0 = float(check_solar_constant(solar_constant_wm2))
+    s0 = check_one_solar_constant(solar_constant_wm2)
     flat = flatten_orbit(orbit)
     start = np.asarray(start_day, dtype=float)
     end = np.asarray(end_day, dtype=float)
