@@ -229,3 +229,31 @@ def test_cli_converts_each_file_of_a_transient_run_into_the_same_split(synthetic
     assert status == 2
     assert "model year 23 is not covered by the transient run" in err
     assert len(err.strip().splitlines()) == 1
+
+
+def test_each_output_file_records_the_orbits_of_its_own_model_years(synthetic, tmp_path,
+                                                                    run_cli):
+    # A file converted with a model year of margin on each side must still describe only
+    # the model years it holds: its first and last year and their orbits.
+    s, orbits, ds = synthetic
+    (tmp_path / "run.yaml").write_text(SPEC_TEXT)
+    paths = _write_split(ds, tmp_path / "model", 8)  # model years 1-8, 9-16, 17-23
+    status, out, err = run_cli(["convert", *map(str, paths), "-o", str(tmp_path / "fa"),
+                                "--spec", str(tmp_path / "run.yaml")])
+    assert status == 0, err
+    for path, (first, last) in zip(paths, [(1, 8), (9, 16), (17, 23)], strict=True):
+        with xr.open_dataset(tmp_path / "fa" / path.name) as part:
+            assert sorted(set(part["model_year"].values)) == list(range(first, last + 1))
+            assert (f"({last - first + 1} model years, {first}-{last})"
+                    in part.attrs["month_conversion_orbit"])
+            for which, year in (("first", first), ("last", last)):
+                # SPEC_TEXT: model year 1 is 127 ka (127,000 years before 1950), each
+                # further model year 500 years later.
+                epoch = -127000.0 + 500.0 * (year - 1)
+                assert part.attrs[f"orbit_{which}_year_years_from_1950"] == epoch
+                # That epoch's orbit (the fixture's, solved over all years at once: the
+                # same to rounding).
+                assert part.attrs[f"orbit_{which}_year_eccentricity"] == pytest.approx(
+                    orbits.eccentricity[year - 1], rel=1e-12)
+                assert part.attrs[f"orbit_{which}_year_perihelion_longitude_deg"] == (
+                    pytest.approx(orbits.perihelion_longitude_deg[year - 1], rel=1e-12))

@@ -357,9 +357,8 @@ def _convert_each(args, ds, dim, years, edges, ordered, targets, orbit, referenc
         part = ds.isel({dim: slice(window[0], window[-1] + 1)})
         out = to_fixed_angle_months(part, orbit, reference=reference, anchor=anchor,
                                     calendar=calendar, method=args.method, cyclic=False,
-                                    min_valid_fraction=args.min_valid_fraction, source=label)
-        model_year = out["model_year"].values
-        out = out.isel({dim: np.flatnonzero((model_year >= y0) & (model_year <= y1))})
+                                    min_valid_fraction=args.min_valid_fraction, source=label,
+                                    model_years=(y0, y1))  # and their orbits recorded
         out.attrs["month_conversion_input_file"] = ordered[i].name
         show = sys.stderr.isatty() and client is None and not args.quiet
         with _progress(show):

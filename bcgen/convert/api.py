@@ -392,6 +392,20 @@ def _orbit_attrs(prefix: str, orbit: OrbitalElements) -> dict[str, object]:
     return attrs
 
 
+def _orbit_record(orbits: OrbitalElements, years: list[int]) -> dict[str, object]:
+    """Global attributes of the orbits of ``years``: one orbit, or the first and last year's."""
+    if np.all(orbits.eccentricity == orbits.eccentricity[0]) and np.all(
+            orbits.obliquity_deg == orbits.obliquity_deg[0]) and np.all(
+            orbits.perihelion_longitude_deg == orbits.perihelion_longitude_deg[0]):
+        return _orbit_attrs("orbit_", orbits[0])
+    attrs: dict[str, object] = {f"{ATTR_PREFIX}orbit": (
+        f"each model year has its own orbit ({len(years)} model years, {years[0]}-"
+        f"{years[-1]}); the first year's and the last year's are recorded")}
+    attrs.update(_orbit_attrs("orbit_first_year_", orbits[0]))
+    attrs.update(_orbit_attrs("orbit_last_year_", orbits[-1]))
+    return attrs
+
+
 def _ascii(text: str) -> str:
     return text.replace("ϖ", "varpi").replace("°", " deg").encode("ascii", "replace").decode()
 
@@ -522,6 +536,7 @@ def to_fixed_angle_months(
     cyclic: bool | None = None,
     min_valid_fraction: float = DEFAULT_MIN_VALID_FRACTION,
     source: str = "input",
+    model_years: tuple[int, int] | None = None,
 ) -> xr.Dataset:
     """Means over fixed-angle months from fixed-day monthly or daily means.
 
@@ -554,6 +569,10 @@ def to_fixed_angle_months(
         Missing-data rule, see :mod:`bcgen.convert.aggregate`.
     source : str
         Name of the input for error messages.
+    model_years : (int, int), optional
+        First and last model year to return (a series only): the other years of ``ds``
+        only serve as neighbours of these (the interpolation reads across year ends),
+        and the global attributes record the orbits of these years alone. Default: all.
 
     Returns
     -------
@@ -573,23 +592,25 @@ def to_fixed_angle_months(
     orbits = _orbits_of_years(orbit, years, source)
     start, end, month, year = _fixed_angle_targets(axis, cal, orbits, reference, years)
     keep = _select_covered(axis, start, end, min_valid_fraction)
+    recorded = np.ones(len(years), dtype=bool)
+    if model_years is not None:
+        if axis.cyclic:
+            raise ConversionError(f"{source}: model_years applies to a series, not to a "
+                                  "climatology")
+        first, last = (int(y) for y in model_years)
+        keep &= (year >= first) & (year <= last)
+        recorded = (np.asarray(years) >= first) & (np.asarray(years) <= last)
     if not keep.any():
-        raise ConversionError(f"{source}: no fixed-angle month is covered by the data")
+        raise ConversionError(f"{source}: no fixed-angle month is covered by the data"
+                              + ("" if model_years is None else
+                                 f" in model years {model_years[0]}-{model_years[1]}"))
     start, end, month, year = start[keep], end[keep], month[keep], year[keep]
     attrs = {f"{ATTR_PREFIX}months": "fixed-angle months: each month spans the arc of true "
              "solar longitude that the fixed-day month spans in the reference orbit",
              f"{ATTR_PREFIX}calendar": cal.name,
              f"{ATTR_PREFIX}anchor": cal.anchor.describe()}
-    if np.all(orbits.eccentricity == orbits.eccentricity[0]) and np.all(
-            orbits.obliquity_deg == orbits.obliquity_deg[0]) and np.all(
-            orbits.perihelion_longitude_deg == orbits.perihelion_longitude_deg[0]):
-        attrs.update(_orbit_attrs("orbit_", orbits[0]))
-    else:
-        attrs[f"{ATTR_PREFIX}orbit"] = (
-            f"each model year has its own orbit ({len(years)} model years, {years[0]}-"
-            f"{years[-1]}); the first year's and the last year's are recorded")
-        attrs.update(_orbit_attrs("orbit_first_year_", orbits[0]))
-        attrs.update(_orbit_attrs("orbit_last_year_", orbits[-1]))
+    attrs.update(_orbit_record(orbits[recorded], [y for y, r in zip(years, recorded,
+                                                                    strict=True) if r]))
     attrs.update(_orbit_attrs("reference_orbit_", reference))
     attrs[f"{ATTR_PREFIX}annual_mean"] = ANNUAL_MEAN_NOTE
     out = _convert(ds, dataclasses.replace(axis, calendar=cal), start, end,
