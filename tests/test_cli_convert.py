@@ -16,6 +16,7 @@ import numpy as np
 import pytest
 import xarray as xr
 from cf_checker import assert_cf_compliant
+from published_tables import PMIP4
 
 from bcgen.cli import main
 from bcgen.solar_calendar.calendars import ModelCalendar
@@ -148,16 +149,20 @@ def test_explicit_elements_and_conventions_agree(tmp_path, capsys):
     src = tmp_path / "clim.nc"
     write_series(src, month_edges())
     a, b = tmp_path / "a.nc", tmp_path / "b.nc"
-    common = ["--eccentricity", "0.018682", "--obliquity-deg", "24.105"]
-    assert main(["convert", str(src), "-o", str(a), *common, "--perihelion-deg", "0.87",
+    # PMIP4 midHolocene orbit (Otto-Bliesner et al. 2017, Table 1; tests/published_tables.py)
+    mh = PMIP4["midHolocene"]
+    varpi = mh.perihelion_minus_180_deg
+    sun = f"{float(varpi) + 180:.2f}"  # the Sun's longitude at perihelion, ϖ + 180°
+    common = ["--eccentricity", mh.eccentricity, "--obliquity-deg", mh.obliquity_deg]
+    assert main(["convert", str(src), "-o", str(a), *common, "--perihelion-deg", varpi,
                  "--perihelion-convention", "perihelion_longitude"]) == 0
     # the same orbit stated as the Sun's longitude at perihelion (ϖ + 180°)
-    assert main(["convert", str(src), "-o", str(b), *common, "--perihelion-deg", "180.87",
+    assert main(["convert", str(src), "-o", str(b), *common, "--perihelion-deg", sun,
                  "--perihelion-convention", "sun_longitude_at_perihelion"]) == 0
     with xr.open_dataset(a) as x, xr.open_dataset(b) as y:
         np.testing.assert_array_equal(x["tas"].values, y["tas"].values)
-        assert x.attrs["orbit_perihelion_longitude_deg"] == pytest.approx(0.87)
-        assert y.attrs["orbit_sun_longitude_at_perihelion_deg"] == pytest.approx(180.87)
+        assert x.attrs["orbit_perihelion_longitude_deg"] == pytest.approx(float(varpi))
+        assert y.attrs["orbit_sun_longitude_at_perihelion_deg"] == pytest.approx(float(sun))
 
 
 def test_spec_gives_orbit_anchor_and_reference(tmp_path, capsys):
