@@ -15,10 +15,9 @@ from __future__ import annotations
 
 import argparse
 import os
-import time
-import tracemalloc
 
 import numpy as np
+from measure import best_of, traced_peak_mib, verdict
 
 from bcgen.orbit import nbody
 
@@ -28,20 +27,6 @@ def bare(t: np.ndarray, grid: np.ndarray, columns: dict) -> list[np.ndarray]:
     e, eps, es, ec = (np.interp(t, grid, columns[name]) for name in
                       ("eccentricity", "obliquity_deg", "e_sin_varpi", "e_cos_varpi"))
     return [e, eps, np.degrees(np.arctan2(es, ec))]
-
-
-def seconds(func) -> float:
-    start = time.perf_counter()
-    func()
-    return time.perf_counter() - start
-
-
-def peak_mib(func) -> float:
-    tracemalloc.start()
-    func()
-    peak = tracemalloc.get_traced_memory()[1]
-    tracemalloc.stop()
-    return peak / 2**20
 
 
 def main() -> None:
@@ -68,10 +53,7 @@ def main() -> None:
     for case, t in cases.items():
         runs[case, "bcgen"] = lambda t=t: nbody.solve(t)
         runs[case, "bare"] = lambda t=t: bare(t, grid, columns)
-    best = dict.fromkeys(runs, np.inf)
-    for _ in range(args.repeat):
-        for key, run in runs.items():
-            best[key] = min(best[key], seconds(run))
+    best = best_of(runs, args.repeat)
     print(f"epochs: {args.epochs:,} per case; table rows: {n:,} (0-{-oldest / 1e6:g} Myr BP); "
           f"best of {args.repeat}, interleaved; load average {os.getloadavg()[0]:.1f} on "
           f"{os.cpu_count()} CPUs")
@@ -79,9 +61,9 @@ def main() -> None:
         ratio = best[case, "bcgen"] / best[case, "bare"]
         print(f"  {case:<8} bcgen nbody.solve {best[case, 'bcgen']:7.3f} s   bare np.interp "
               f"{best[case, 'bare']:7.3f} s   ratio {ratio:5.2f}; target <= 1.5: "
-              f"{'met' if ratio <= 1.5 else 'NOT met'}")
-    print(f"peak memory (random): bcgen {peak_mib(runs['random', 'bcgen']):.1f} MiB, bare "
-          f"{peak_mib(runs['random', 'bare']):.1f} MiB")
+              f"{verdict(ratio <= 1.5)}")
+    print(f"peak memory (random): bcgen {traced_peak_mib(runs['random', 'bcgen']):.1f} MiB, bare "
+          f"{traced_peak_mib(runs['random', 'bare']):.1f} MiB")
 
 
 if __name__ == "__main__":
