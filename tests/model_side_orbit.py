@@ -28,6 +28,7 @@ from dataclasses import dataclass, replace
 from importlib import resources
 
 import numpy as np
+from published_tables import CMIP6_PICONTROL_TSI_WM2
 
 # The published constants of the Berger (1978) series, typed once in bcgen's orbit module
 # (data, not physics): ε* (deg), the precession rate ψ̄ (arcsec per year) and ζ (deg).
@@ -94,7 +95,7 @@ class ModelOrbit:
     perihelion_deg: float
     year_days: float = 365.0
     equinox_day: float = 80.5
-    solar_constant_wm2: float = 1360.747
+    solar_constant_wm2: float = CMIP6_PICONTROL_TSI_WM2  # Matthes et al. 2017
     day_number_offset: float = 0.0
 
     @classmethod

@@ -66,15 +66,42 @@ CMIP6_PICONTROL_TSI_WM2 = 1360.747
 
 # The PMIP2/PMIP3 "0 ka" orbit, the 1950 CE orbit of Berger (1978) (e, obliquity, perihelion
 # - 180 in degrees), with the solar constant of PMIP1-PMIP3, 1365 W m-2 (PMIP3 design pages;
-# Bonfils et al. 1998 use the same orbit and S0 in the check table below).
-PMIP_1950_ORBIT = (0.016724, 23.446, 102.04)
+# Bonfils et al. 1998 use the same orbit and S0 in the check table below). That these are the
+# 1950 CE (0 ka BP) values is from memory; Berger, Loutre & Yin (2010), QSR 29, 1968-1982,
+# Table 1a use the same 0 ka orbit (a secondary source). As text (the printed digits) and
+# as numbers.
+PMIP_1950_ORBIT_DIGITS = ("0.016724", "23.446", "102.04")
+PMIP_1950_ORBIT = tuple(float(v) for v in PMIP_1950_ORBIT_DIGITS)
 PMIP_SOLAR_CONSTANT_WM2 = 1365.0
+
+# The PMIP3 last-millennium design page (wiki.lsce.ipsl.fr/pmip3): "1850 values ecc =
+# 0.01676, obl = 23.459°, peri-180° = 100.327°" (e, obliquity and perihelion - 180 in degrees,
+# as text: the printed digits).
+PMIP3_1850_ORBIT_DIGITS = ("0.01676", "23.459", "100.327")
 
 # Meeus (1998), "Astronomical Algorithms", 2nd ed., Example 30.a (Kepler's equation): for
 # e = 0.1 and mean anomaly M = 5 degrees the eccentric anomaly is E = 5.554589 degrees, and the
 # true anomaly that follows from it is 6.139762 degrees.
 MEEUS_30A = {"eccentricity": 0.1, "mean_anomaly_deg": 5.0, "eccentric_anomaly_deg": 5.554589,
              "true_anomaly_deg": 6.139762}
+
+# Meeus (1998), "Astronomical Algorithms", 2nd ed., Example 25.a (the Sun on 1992 October
+# 13.0 TD), from memory: mean anomaly M = 278.99397 degrees, e = 0.016711668, equation of the
+# centre C = -1.89732 degrees, radius vector R = 0.99766 au, with R = a (1 - e^2) / (1 + e cos
+# v) and a = 1.000001018 au.
+MEEUS_25A = {"mean_anomaly_deg": 278.99397, "eccentricity": 0.016711668,
+             "equation_of_centre_deg": -1.89732, "radius_au": 0.99766,
+             "semi_major_axis_au": 1.000001018}
+
+# Mean elements of the Earth-Moon barycentre at J2000, referred to the J2000 ecliptic and
+# equinox: Simon, J. L., Bretagnon, P., Chapront, J., Chapront-Touzé, M., Francou, G. &
+# Laskar, J. (1994), A&A 282, 663-683, section 5.8 / Table 5.8.1 (values from memory:
+# a = 1.0000010178 au, e = 0.0167086342, ϖ = 102.93734808°, λ = 100.46645683°;
+# rates per thousand Julian years: e -0.0004203654, ϖ +11612.3529″).
+SIMON_A_AU = 1.0000010178
+SIMON_E = 0.0167086342
+SIMON_VARPI_DEG = 102.93734808
+SIMON_LAMBDA_DEG = 100.46645683
 
 # The mean tropical year at J2000, days (365 d 5 h 48 min 45 s; the Astronomical Almanac,
 # from memory).

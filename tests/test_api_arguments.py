@@ -18,11 +18,16 @@ import pytest
 import xarray as xr
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from published_tables import PMIP4, PMIP_SOLAR_CONSTANT_WM2
 
 import bcgen
 from bcgen.errors import BcgenError
 
 ORBIT = bcgen.solve(-6000.0)  # Berger (1978) orbit of 6 ka
+# A 6 ka orbit for the fixed solution: the PMIP4 midHolocene e and ϖ (Otto-Bliesner et al.
+# 2017, Table 1; tests/published_tables.py). The refusals checked here do not depend on them.
+MH = PMIP4["midHolocene"]
+MH_E, MH_VARPI_DEG = float(MH.eccentricity), float(MH.perihelion_minus_180_deg)
 
 
 CASES = [
@@ -62,8 +67,9 @@ CASES = [
      lambda: bcgen.instantaneous_insolation(ORBIT, "noleap", math.inf, 10.0, 0.0),
      r"^t_days: expected finite model times in days, got inf$"),
     ("fixed-obliquity-radians",
-     lambda: bcgen.solve(None, "fixed", eccentricity=0.0187, obliquity_deg=0.4207,
-                         perihelion_deg=0.87, perihelion_convention="perihelion_longitude"),
+     lambda: bcgen.solve(None, "fixed", eccentricity=MH_E, obliquity_deg=0.4207,
+                         perihelion_deg=MH_VARPI_DEG,
+                         perihelion_convention="perihelion_longitude"),
      r"^obliquity 0\.4207 degrees looks like radians \(24\.10 degrees\)"),
     ("format-epoch-text", lambda: bcgen.format_epoch("6ka"),
      r"^an epoch in years from 1950 CE must be a number; got '6ka'"),
@@ -143,10 +149,12 @@ def test_cli_spec_and_api_warn_alike_of_an_implausible_solar_constant(run_cli, s
 def test_a_plausible_solar_constant_does_not_warn():
     with warnings.catch_warnings():
         warnings.simplefilter("error", bcgen.errors.ImplausibleValueWarning)
-        bcgen.monthly_insolation(ORBIT, "noleap", [65.0], solar_constant_wm2=1361.0)
+        # the PMIP1-PMIP3 solar constant (PMIP3 design pages; tests/published_tables.py)
+        bcgen.monthly_insolation(ORBIT, "noleap", [65.0],
+                                 solar_constant_wm2=PMIP_SOLAR_CONSTANT_WM2)
 
 
-FIXED_OPTIONS = ["--eccentricity", "0.0187", "--perihelion-deg", "0.87",
+FIXED_OPTIONS = ["--eccentricity", MH.eccentricity, "--perihelion-deg", MH.perihelion_minus_180_deg,
                  "--perihelion-convention", "perihelion_longitude"]
 
 
@@ -157,8 +165,8 @@ def test_cli_and_api_refuse_a_non_earth_obliquity_alike(run_cli, obliquity):
     status, _, err = run_cli(["orbit", "6ka", "--solution", "fixed", "--obliquity-deg",
                               obliquity, *FIXED_OPTIONS])
     with pytest.raises(BcgenError) as info:
-        bcgen.solve(None, "fixed", eccentricity=0.0187, obliquity_deg=obliquity,
-                    perihelion_deg=0.87, perihelion_convention="perihelion_longitude")
+        bcgen.solve(None, "fixed", eccentricity=MH_E, obliquity_deg=obliquity,
+                    perihelion_deg=MH_VARPI_DEG, perihelion_convention="perihelion_longitude")
     api = str(info.value)
     assert api == (f"obliquity {obliquity:g} degrees is outside Earth's range (about 22-24.5 "
                    "degrees in the last few million years); pass idealized=True for a "
@@ -173,8 +181,8 @@ def test_idealized_lets_a_non_earth_obliquity_through_on_both_routes(run_cli):
                                 "--idealized", "--format", "json", *FIXED_OPTIONS])
     assert status == 0, err
     assert "30" in out
-    orbit = bcgen.solve(None, "fixed", eccentricity=0.0187, obliquity_deg=30.0,
-                        perihelion_deg=0.87, perihelion_convention="perihelion_longitude",
+    orbit = bcgen.solve(None, "fixed", eccentricity=MH_E, obliquity_deg=30.0,
+                        perihelion_deg=MH_VARPI_DEG, perihelion_convention="perihelion_longitude",
                         idealized=True)
     assert float(orbit.obliquity_deg) == 30.0
 

@@ -19,7 +19,11 @@ import numpy as np
 import pytest
 import xarray as xr
 from cf_checker import assert_cf_compliant
-from published_tables import PMIP1_SPEC_HEAD, PMIP1_TODAY_WM2  # Bonfils et al. 1998
+from published_tables import (
+    PMIP1_SPEC_HEAD,  # Bonfils et al. 1998
+    PMIP1_TODAY_WM2,
+    PMIP4,  # Otto-Bliesner et al. 2017; Kageyama et al. 2017
+)
 
 from bcgen import build
 from bcgen.cli import main
@@ -29,6 +33,10 @@ from bcgen.spec import load_spec, parse_spec_text
 CONFIGS = Path(__file__).resolve().parent.parent / "configs"
 PROTOCOLS = sorted((CONFIGS / "protocols").glob("*.yaml"))
 TIME_SLICE_CONFIGS = [CONFIGS / "demo.yaml", *PROTOCOLS]
+#: The PMIP4 midHolocene row (Otto-Bliesner et al. 2017, Table 1; tests/published_tables.py).
+MH = PMIP4["midHolocene"]
+#: Its perihelion as the Sun's longitude at perihelion, ϖ + 180 (Berger 1978), as written.
+MH_SUN_AT_PERIHELION = f"{float(MH.perihelion_minus_180_deg) + 180:.2f}"
 
 
 @pytest.fixture(scope="module")
@@ -98,8 +106,8 @@ def test_round_trip_with_xarray(built):
         assert float(ds.insolation.min()) >= 0.0
     with xr.open_dataset(by_product["greenhouse_gases"]) as ds:
         # Units 1e-6 / 1e-9 (UDUNITS-2) with the protocol's values.
-        assert float(ds.co2) == pytest.approx(264.4) and ds.co2.attrs["units"] == "1e-6"
-        assert float(ds.ch4) == pytest.approx(597) and ds.ch4.attrs["units"] == "1e-9"
+        assert float(ds.co2) == pytest.approx(MH.gases["co2"]) and ds.co2.attrs["units"] == "1e-6"
+        assert float(ds.ch4) == pytest.approx(MH.gases["ch4"]) and ds.ch4.attrs["units"] == "1e-9"
 
 
 def test_fixed_angle_bounds_are_fractional_and_cover_the_year(built):
@@ -170,7 +178,9 @@ def test_cli_build_prints_summary_and_exit_status(tmp_path, capsys):
 def test_cli_build_exit_1_when_published_values_disagree(tmp_path, capsys):
     text = (CONFIGS / "protocols" / "midHolocene.yaml").read_text()
     # A deliberately wrong published value: perihelion 180 degrees off (the classic mistake).
-    bad = text.replace("perihelion_deg: 0.87", "perihelion_deg: 180.87")
+    bad = text.replace(f"perihelion_deg: {MH.perihelion_minus_180_deg}",
+                       f"perihelion_deg: {MH_SUN_AT_PERIHELION}")
+    assert bad != text
     spec_file = tmp_path / "wrong.yaml"
     spec_file.write_text(bad)
     status = main(["build", str(spec_file), "-o", str(tmp_path / "out")])
@@ -239,8 +249,8 @@ def test_other_grids_and_calendars_pass_the_cf_checker(tmp_path, name):
 def test_gas_amounts_are_written_as_the_protocol_prints_them(built):
     # PMIP4-CMIP6 protocol gases (Otto-Bliesner et al. 2017), read back exactly: the
     # conversion to a mole fraction and back must not leave 284.29999999999995 for 284.3.
-    expected = {"piControl": (284.3, 808.2, 273.0), "midHolocene": (264.4, 597, 262),
-                "lig127k": (275, 685, 255), "lgm": (190, 375, 200)}
+    expected = {name: tuple(PMIP4[name].gases.values())
+                for name in ("piControl", "midHolocene", "lig127k", "lgm")}
     for name, (co2, ch4, n2o) in expected.items():
         result, folder = built[name]
         path = next(folder / f["file"] for f in result.files
@@ -249,13 +259,11 @@ def test_gas_amounts_are_written_as_the_protocol_prints_them(built):
             assert (float(ds.co2), float(ds.ch4), float(ds.n2o)) == (co2, ch4, n2o), name
 
 
-TEMPLATE_SPEC = """
-experiment: {{name: tmpl}}
-epoch: 6ka
-greenhouse_gases: {{co2: {{value: 264.4, units: ppm}}}}
-templates: [{template}]
-products: [orbit, templates]
-"""
+TEMPLATE_SPEC = (
+    "\nexperiment: {{name: tmpl}}\nepoch: 6ka\n"
+    "greenhouse_gases: {{co2: {{value: " + MH.co2_ppm + ", units: ppm}}}}\n"
+    "templates: [{template}]\nproducts: [orbit, templates]\n"
+)
 
 
 def test_a_template_needing_an_unset_gas_is_refused_before_anything_is_written(tmp_path):
@@ -283,7 +291,8 @@ def test_user_template_renders_values_in_both_perihelion_conventions(tmp_path):
                                      if f["product"] == "templates")).read_text()
     # PMIP4 midHolocene: perihelion - 180 = 0.87 (Otto-Bliesner et al. 2017); the Sun's
     # longitude at perihelion is that + 180 (geocentric vs heliocentric: common practice).
-    assert text == "varpi = 0.87\nlambda_p = 180.87\nco2 = 264.4\n"
+    assert text == (f"varpi = {MH.perihelion_minus_180_deg}\nlambda_p = {MH_SUN_AT_PERIHELION}\n"
+                    f"co2 = {MH.co2_ppm}\n")
 
 
 def test_metadata_template_sets_global_attributes_of_every_file(tmp_path):

@@ -7,7 +7,12 @@ import sys
 import numpy as np
 import pytest
 from cli_checks import one_error_line
-from published_tables import CMIP6_PICONTROL_TSI_WM2, PMIP4
+from published_tables import (
+    CMIP6_PICONTROL_TSI_WM2,
+    PMIP3_1850_ORBIT_DIGITS,
+    PMIP4,
+    PMIP_SOLAR_CONSTANT_WM2,
+)
 
 from bcgen.cli import main
 
@@ -88,7 +93,7 @@ def test_fixed_angle_months_against_1850_reference(capsys):
     record = json.loads(out)
     assert record["reference_epoch"] == "1850CE"
     # piControl orbit (Otto-Bliesner et al. 2017; PMIP3 last-millennium page: 0.01676, 100.327).
-    assert round(record["reference_orbit"]["eccentricity"], 5) == 0.01676
+    assert round(record["reference_orbit"]["eccentricity"], 5) == float(PMIP3_1850_ORBIT_DIGITS[0])
     lengths = np.array(record["month_length_days"])
     assert lengths.sum() == pytest.approx(365.0, abs=1e-9)  # noleap months tile the year
     # 127 ka: perihelion near the June solstice, so the boreal summer months are short
@@ -99,9 +104,12 @@ def test_fixed_angle_months_against_1850_reference(capsys):
 def test_solar_constant_scales_the_values(capsys):
     _, out, _ = run(capsys, "21ka", "--lat", "45", "--format", "json")
     base = np.array(json.loads(out)["insolation_wm2"])
-    _, out, _ = run(capsys, "21ka", "--lat", "45", "--solar-constant", "1365", "--format", "json")
+    # PMIP's 1365 W m-2 against the default, the CMIP6 piControl 1360.747 (published_tables)
+    s0 = f"{PMIP_SOLAR_CONSTANT_WM2:g}"
+    _, out, _ = run(capsys, "21ka", "--lat", "45", "--solar-constant", s0, "--format", "json")
     scaled = np.array(json.loads(out)["insolation_wm2"])
-    np.testing.assert_allclose(scaled, base * 1365 / 1360.747, rtol=1e-12)
+    np.testing.assert_allclose(scaled, base * PMIP_SOLAR_CONSTANT_WM2 / CMIP6_PICONTROL_TSI_WM2,
+                               rtol=1e-12)
 
 
 def test_equinox_and_calendar_options(capsys):

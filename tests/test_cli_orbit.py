@@ -15,6 +15,11 @@ from published_tables import PMIP4
 from bcgen.cli import main
 from bcgen.errors import EpochError
 
+#: The PMIP4 midHolocene orbit (Otto-Bliesner et al. 2017, Table 1; tests/published_tables.py)
+#: as the digits printed, and its perihelion as the Sun's longitude, ϖ + 180 (Berger 1978).
+MH = PMIP4["midHolocene"]
+MH_SUN_AT_PERIHELION = f"{float(MH.perihelion_minus_180_deg) + 180:.2f}"
+
 KEYS = [
     "epoch",
     "years_bp",
@@ -94,9 +99,9 @@ def test_text_states_units_and_conventions(capsys):
     ]
     assert [r[0] for r in rows] == ["1850CE", "6ka", "21ka"]
     # midHolocene (PMIP design page; Otto-Bliesner et al. 2017): e 0.018682, ε 24.105, ϖ 0.87.
-    assert rows[1][2] == PMIP4["midHolocene"].eccentricity
-    assert round(float(rows[1][3]), 3) == float(PMIP4["midHolocene"].obliquity_deg)
-    assert round(float(rows[1][4]), 2) == float(PMIP4["midHolocene"].perihelion_minus_180_deg)
+    assert rows[1][2] == MH.eccentricity
+    assert round(float(rows[1][3]), 3) == float(MH.obliquity_deg)
+    assert round(float(rows[1][4]), 2) == float(MH.perihelion_minus_180_deg)
 
 
 def test_help_shows_examples(capsys):
@@ -116,11 +121,11 @@ def test_fixed_solution_from_the_command_line(capsys):
         "--solution",
         "fixed",
         "--eccentricity",
-        "0.018682",
+        MH.eccentricity,
         "--obliquity-deg",
-        "24.105",
+        MH.obliquity_deg,
         "--perihelion-deg",
-        "180.87",
+        MH_SUN_AT_PERIHELION,
         "--perihelion-convention",
         "sun_longitude_at_perihelion",
         "--format",
@@ -129,9 +134,9 @@ def test_fixed_solution_from_the_command_line(capsys):
     assert status == 0
     (record,) = json.loads(out)
     assert record["solution"] == "fixed"
-    assert record["perihelion_longitude_deg"] == pytest.approx(0.87)
-    assert record["sun_longitude_at_perihelion_deg"] == pytest.approx(180.87)
-    assert record["eccentricity"] == 0.018682
+    assert record["perihelion_longitude_deg"] == pytest.approx(float(MH.perihelion_minus_180_deg))
+    assert record["sun_longitude_at_perihelion_deg"] == pytest.approx(float(MH_SUN_AT_PERIHELION))
+    assert record["eccentricity"] == float(MH.eccentricity)
 
 
 def test_fixed_solution_needs_the_convention(capsys):
@@ -141,18 +146,18 @@ def test_fixed_solution_needs_the_convention(capsys):
         "--solution",
         "fixed",
         "--eccentricity",
-        "0.018682",
+        MH.eccentricity,
         "--obliquity-deg",
-        "24.105",
+        MH.obliquity_deg,
         "--perihelion-deg",
-        "0.87",
+        MH.perihelion_minus_180_deg,
     )
     assert status == 2
     assert "missing --perihelion-convention" in one_error_line(err)
 
 
 def test_fixed_values_need_the_fixed_solution(capsys):
-    status, _, err = run(capsys, "6ka", "--eccentricity", "0.018682")
+    status, _, err = run(capsys, "6ka", "--eccentricity", MH.eccentricity)
     assert status == 2
     assert "--eccentricity: only used with --solution fixed" in one_error_line(err)
 
@@ -209,8 +214,9 @@ def test_absurd_and_ambiguous_epochs_are_errors_not_results(capsys, epoch, why):
 @pytest.mark.parametrize("value", ["inf", "-inf", "nan"])
 def test_non_finite_fixed_perihelion_is_one_line(capsys, value):
     status, out, err = run(
-        capsys, "6ka", "--solution", "fixed", "--eccentricity", "0.018682", "--obliquity-deg",
-        "24.105", f"--perihelion-deg={value}", "--perihelion-convention", "perihelion_longitude",
+        capsys, "6ka", "--solution", "fixed", "--eccentricity", MH.eccentricity,
+        "--obliquity-deg", MH.obliquity_deg, f"--perihelion-deg={value}",
+        "--perihelion-convention", "perihelion_longitude",
     )
     assert status == 2 and out == ""
     line = one_error_line(err)  # no numpy RuntimeWarning line before it

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from published_tables import MEEUS_30A
+from published_tables import MEEUS_25A, MEEUS_30A
 
 from bcgen.errors import OrbitError
 from bcgen.solar_calendar.kepler import (
@@ -68,12 +68,14 @@ def test_meeus_high_eccentricity_radians():
 
 def test_meeus_example_25a_equation_of_centre():
     # Meeus, Astronomical Algorithms, 2nd ed., Example 25.a (Sun, 1992 Oct 13.0 TD), from
-    # memory: M = 278.99397°, e = 0.016711668, equation of the centre C = -1.89732°, radius
-    # vector R = 0.99766 au with R = 1.000001018 (1 - e²)/(1 + e cos v).
-    m, e = deg(278.99397), 0.016711668
+    # memory (tests/published_tables.py): M, e, the equation of the centre C and the radius
+    # vector R = a (1 - e²)/(1 + e cos v).
+    ex = MEEUS_25A
+    m, e = deg(ex["mean_anomaly_deg"]), ex["eccentricity"]
     v = mean_to_true(m, e)
-    assert abs(np.rad2deg(v - m) - (-1.89732)) < 1e-5
-    assert abs(1.000001018 * (1 - e * e) / (1 + e * np.cos(v)) - 0.99766) < 5e-6
+    assert abs(np.rad2deg(v - m) - ex["equation_of_centre_deg"]) < 1e-5
+    assert abs(ex["semi_major_axis_au"] * (1 - e * e) / (1 + e * np.cos(v))
+               - ex["radius_au"]) < 5e-6
 
 
 # --- analytic results -------------------------------------------------------------------------

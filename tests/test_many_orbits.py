@@ -14,6 +14,7 @@ import bcgen.insolation.metrics as metrics_module
 import bcgen.insolation.monthly as monthly_module
 import bcgen.insolation.quadrature as quadrature_module
 from bcgen.insolation import (
+    CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
     annual_mean_insolation_wm2,
     caloric_half_years,
     insolation_at_true_longitude_wm2,
@@ -128,7 +129,10 @@ def test_caloric_threshold_splits_the_sampled_year_in_halves():
     # year is dark (threshold 0).
     orbits = solve(-np.linspace(0.0, 800000.0, 41))
     halves = caloric_half_years(orbits, LATITUDES, samples=730)
-    for index, q, duration in metrics_module._sampled_rows(orbits, LATITUDES, 1360.747, 730):
+    # The same S0 as caloric_half_years's default (the package's CMIP6 piControl value).
+    rows = metrics_module._sampled_rows(orbits, LATITUDES, CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+                                        730)
+    for index, q, duration in rows:
         share = metrics_module._Segments(q, duration).share_above(
             halves.threshold_wm2.reshape(-1)[index])
         dark = halves.threshold_wm2.reshape(-1)[index] == 0.0

@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
+from published_tables import PMIP4, PMIP_1950_ORBIT
 
 import bcgen
 from bcgen.errors import InputFileError, OrbitError
@@ -15,6 +16,12 @@ from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS, OrbitalElements, conv
 from bcgen.orbit.elements import wrap_angle
 
 ANGLE_TOLERANCE_DEG = 1e-9
+# The PMIP 1950 orbit (PMIP3 design pages; tests/published_tables.py): e, obliquity, ϖ, and
+# the Sun's longitude at perihelion ϖ + 180 (Berger 1978).
+E_1950, OBLIQUITY_1950_DEG, VARPI_1950_DEG = PMIP_1950_ORBIT
+SUN_1950_DEG = VARPI_1950_DEG + 180.0
+# The PMIP4 piControl (1850 CE) orbit (Otto-Bliesner et al. 2017; tests/published_tables.py).
+PI_E, PI_OBLIQUITY_DEG, PI_VARPI_DEG = PMIP4["piControl"].orbit
 
 
 def angular_distance_deg(a, b):
@@ -25,12 +32,13 @@ def angular_distance_deg(a, b):
 def test_sun_longitude_at_perihelion_is_varpi_plus_180():
     # Berger 1978: the Sun's geocentric longitude at perihelion is ϖ + 180°,
     # e.g. 102.04 + 180 = 282.04° (perihelion about 3 January) for the PMIP 1950 orbit.
-    sun = convert_perihelion(102.04, "perihelion_longitude", "sun_longitude_at_perihelion")
-    assert sun == pytest.approx(282.04, abs=1e-12)
-    orbit = OrbitalElements(0.016724, 23.446, 102.04)
-    assert orbit.sun_longitude_at_perihelion_deg == pytest.approx(282.04, abs=1e-12)
+    sun = convert_perihelion(VARPI_1950_DEG, "perihelion_longitude",
+                             "sun_longitude_at_perihelion")
+    assert sun == pytest.approx(SUN_1950_DEG, abs=1e-12)
+    orbit = OrbitalElements(*PMIP_1950_ORBIT)
+    assert orbit.sun_longitude_at_perihelion_deg == pytest.approx(SUN_1950_DEG, abs=1e-12)
     assert orbit.perihelion("sun_longitude_at_perihelion", "rad") == pytest.approx(
-        np.deg2rad(282.04), abs=1e-14
+        np.deg2rad(SUN_1950_DEG), abs=1e-14
     )
 
 
@@ -120,22 +128,23 @@ def test_fixed_values_in_either_convention():
     a = bcgen.solve(
         [-6000.0, 0.0],
         "fixed",
-        eccentricity=0.016724,
-        obliquity_deg=23.446,
-        perihelion_deg=282.04,
+        eccentricity=E_1950,
+        obliquity_deg=OBLIQUITY_1950_DEG,
+        perihelion_deg=SUN_1950_DEG,
         perihelion_convention="sun_longitude_at_perihelion",
     )
-    np.testing.assert_allclose(a.perihelion_longitude_deg, [102.04, 102.04], atol=1e-12)
+    np.testing.assert_allclose(a.perihelion_longitude_deg, [VARPI_1950_DEG] * 2, atol=1e-12)
     assert a.solution == "fixed" and a.shape == (2,)
     b = bcgen.solve(
         None,
         "fixed",
-        eccentricity=0.016724,
-        obliquity_deg=23.446,
-        perihelion_deg=102.04,
+        eccentricity=E_1950,
+        obliquity_deg=OBLIQUITY_1950_DEG,
+        perihelion_deg=VARPI_1950_DEG,
         perihelion_convention="perihelion_longitude",
     )
-    assert b.years_from_1950 is None and b.perihelion_longitude_deg == pytest.approx(102.04)
+    assert b.years_from_1950 is None and b.perihelion_longitude_deg == pytest.approx(
+        VARPI_1950_DEG)
 
 
 def test_fixed_never_guesses_the_convention():
@@ -225,13 +234,15 @@ def test_table_in_other_units_and_conventions(tmp_path):
         tmp_path / "orbit.csv",
         ["year_ce", "eccentricity", "obliquity_rad", "sun_longitude_at_perihelion_deg"],
         [
-            [1850, 0.016764, np.deg2rad(23.459), 280.33],
-            [1950, 0.016724, np.deg2rad(23.446), 282.04],
+            # PMIP4 piControl (1850) and the PMIP 1950 orbit (tests/published_tables.py),
+            # perihelion as the Sun's longitude, ϖ + 180
+            [1850, PI_E, np.deg2rad(PI_OBLIQUITY_DEG), PI_VARPI_DEG + 180.0],
+            [1950, E_1950, np.deg2rad(OBLIQUITY_1950_DEG), SUN_1950_DEG],
         ],
     )
     orbit = bcgen.solve(0.0, "table", path=csv_path)
-    assert orbit.perihelion_longitude_deg == pytest.approx(102.04)
-    assert orbit.obliquity_deg == pytest.approx(23.446)
+    assert orbit.perihelion_longitude_deg == pytest.approx(VARPI_1950_DEG)
+    assert orbit.obliquity_deg == pytest.approx(OBLIQUITY_1950_DEG)
 
 
 def test_netcdf_table_matches_csv_table(tmp_path, wrap_table):

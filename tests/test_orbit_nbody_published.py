@@ -10,6 +10,7 @@ import warnings
 import erfa
 import numpy as np
 import pytest
+from published_tables import SIMON_A_AU, SIMON_E, SIMON_LAMBDA_DEG, SIMON_VARPI_DEG
 
 import bcgen
 from bcgen.orbit import berger1978, nbody, precession
@@ -78,15 +79,8 @@ def test_emb_follows_de421_from_1900_to_2050(j2000_state, direction, years):
     assert worst < DE421_ARCSEC
 
 
-# Mean elements of the Earth-Moon barycentre at J2000, referred to the J2000 ecliptic and
-# equinox: Simon, J. L., Bretagnon, P., Chapront, J., Chapront-Touzé, M., Francou, G. &
-# Laskar, J. (1994), A&A 282, 663-683, section 5.8 / Table 5.8.1 (values from memory:
-# a = 1.0000010178 au, e = 0.0167086342, ϖ = 102.93734808°, λ = 100.46645683°;
-# rates per thousand Julian years: e -0.0004203654, ϖ +11612.3529″).
-SIMON_A_AU = 1.0000010178
-SIMON_E = 0.0167086342
-SIMON_VARPI_DEG = 102.93734808
-SIMON_LAMBDA_DEG = 100.46645683
+# Mean elements of the Earth-Moon barycentre at J2000 (Simon et al. 1994, A&A 282, 663-683,
+# Table 5.8.1), SIMON_A_AU ... SIMON_LAMBDA_DEG: typed in tests/published_tables.py.
 
 
 def test_osculating_elements_at_j2000_against_simon_1994(j2000_state):

@@ -9,7 +9,7 @@ import warnings
 import erfa
 import numpy as np
 import pytest
-from published_tables import PMIP4
+from published_tables import PMIP3_1850_ORBIT_DIGITS, PMIP4, PMIP_1950_ORBIT_DIGITS
 
 import bcgen
 from bcgen.errors import OrbitError, OutsideValidityWarning
@@ -51,22 +51,26 @@ def test_pmip4_protocol_orbits(epoch, ecc, obl, peri):
 
 def test_pmip3_last_millennium_1850_orbit():
     # PMIP3 last-millennium design page (wiki.lsce.ipsl.fr/pmip3): "1850 values
-    # ecc = 0.01676, obl = 23.459°, peri-180° = 100.327°" [confirmed].
+    # ecc = 0.01676, obl = 23.459°, peri-180° = 100.327°" [confirmed]
+    # (tests/published_tables.py).
+    ecc, obl, peri = PMIP3_1850_ORBIT_DIGITS
     orbit = bcgen.solve(bcgen.parse_epoch("1850CE"))
-    assert_published(orbit.eccentricity, "0.01676")
-    assert_published(orbit.obliquity_deg, "23.459")
-    assert_published(orbit.perihelion_longitude_deg, "100.327")
+    assert_published(orbit.eccentricity, ecc)
+    assert_published(orbit.obliquity_deg, obl)
+    assert_published(orbit.perihelion_longitude_deg, peri)
 
 
 def test_pmip3_preindustrial_1950_orbit():
     # PMIP2/PMIP3 pre-industrial control design pages (wiki.lsce.ipsl.fr/pmip3):
     # e = 0.016724, obliquity 23.446°, perihelion - 180 = 102.04° [confirmed]; that these
     # are the 1950 CE (0 ka BP) values is from memory; Berger, Loutre & Yin (2010),
-    # QSR 29, 1968-1982, Table 1a uses the same 0 ka orbit [secondary].
+    # QSR 29, 1968-1982, Table 1a uses the same 0 ka orbit [secondary]
+    # (tests/published_tables.py).
+    ecc, obl, peri = PMIP_1950_ORBIT_DIGITS
     orbit = bcgen.solve(bcgen.parse_epoch("1950CE"))
-    assert_published(orbit.eccentricity, "0.016724")
-    assert_published(orbit.obliquity_deg, "23.446")
-    assert_published(orbit.perihelion_longitude_deg, "102.04")
+    assert_published(orbit.eccentricity, ecc)
+    assert_published(orbit.obliquity_deg, obl)
+    assert_published(orbit.perihelion_longitude_deg, peri)
 
 
 def _vondrak2011_obliquity_deg(julian_epoch: float) -> float:

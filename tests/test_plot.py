@@ -18,7 +18,13 @@ import pytest
 matplotlib.use("Agg")  # no display in tests
 
 from cli_checks import one_error_line  # noqa: E402
-from published_tables import PMIP1_SPEC_HEAD, PMIP1_TODAY_WM2  # noqa: E402
+from published_tables import (  # noqa: E402
+    CMIP6_PICONTROL_TSI_WM2,
+    PMIP1_SPEC_HEAD,
+    PMIP1_TODAY_WM2,
+    PMIP4,
+    PMIP_SOLAR_CONSTANT_WM2,
+)
 
 from bcgen.cli import main  # noqa: E402
 from bcgen.plot import (  # noqa: E402
@@ -117,7 +123,8 @@ def test_a_built_file_reproduces_the_pmip1_table(built):
     # (+ float32 storage).
     field = monthly_field(built["fixed_day"])
     assert field.months == "fixed_day" and field.label == "pmip1-today (0ka)"
-    assert field.settings.solar_constant_wm2 == 1365.0  # read back from the spec in the file
+    # read back from the spec in the file (PMIP1_SPEC_HEAD: S0 = 1365)
+    assert field.settings.solar_constant_wm2 == PMIP_SOLAR_CONSTANT_WM2
     for lat, row in PMIP1_TODAY_WM2.items():
         i = int(np.flatnonzero(field.latitude_deg == lat)[0])
         np.testing.assert_allclose(field.insolation_wm2[i], row, atol=0.011)
@@ -134,7 +141,8 @@ def test_a_reference_epoch_takes_the_conventions_of_a_file(built):
     # 1950CE computed "like" the PMIP1 file (S0 1365, noleap, 21 March noon, Berger 1978,
     # whose 1950 orbit is the table's within its digits): the anomaly is near zero.
     field, ref = field_pair("0ka", built["fixed_day"])
-    assert ref.settings.solar_constant_wm2 == field.settings.solar_constant_wm2 == 1365.0
+    assert (ref.settings.solar_constant_wm2 == field.settings.solar_constant_wm2
+            == PMIP_SOLAR_CONSTANT_WM2)
     np.testing.assert_array_equal(field.latitude_deg, ref.latitude_deg)
     assert np.max(np.abs(field.insolation_wm2 - ref.insolation_wm2)) < 0.2
 
@@ -174,7 +182,7 @@ def test_insolation_figure_from_an_epoch():
     check_field_axes(fig)
     title = texts(fig)
     assert "6ka" in title and "fixed-day months" in title and "noleap" in title
-    assert "S0 = 1360.747 W m-2" in title  # CMIP6 piControl TSI (Matthes et al. 2017)
+    assert f"S0 = {CMIP6_PICONTROL_TSI_WM2} W m-2" in title  # CMIP6 piControl (Matthes 2017)
     assert fig.axes[0].get_ylim() == (-90.0, 90.0)
 
 
@@ -252,9 +260,9 @@ def test_orbit_figure_from_a_range():
     # 6 ka and lgm design pages: 0.018682 and 22.949 deg; Otto-Bliesner et al. 2017).
     ecc, obl = axes[0].lines[0], axes[1].lines[0]
     assert np.interp(6.0, ecc.get_xdata()[::-1], ecc.get_ydata()[::-1]) == pytest.approx(
-        0.018682, abs=5e-6)
+        float(PMIP4["midHolocene"].eccentricity), abs=5e-6)
     assert np.interp(21.0, obl.get_xdata()[::-1], obl.get_ydata()[::-1]) == pytest.approx(
-        22.949, abs=5e-4)
+        float(PMIP4["lgm"].obliquity_deg), abs=5e-4)
     q = axes[3].lines
     assert len(q) == 2 and q[0].get_linestyle() != q[1].get_linestyle()
     assert q[0].get_marker() != q[1].get_marker()

@@ -10,6 +10,7 @@ from __future__ import annotations
 import matplotlib
 import numpy as np
 import pytest
+from published_tables import CMIP6_PICONTROL_TSI_WM2
 
 matplotlib.use("Agg")  # no display in tests
 
@@ -115,7 +116,7 @@ def test_units_are_written_one_way():
         assert "W m-2" in words
 
 
-def _solstice_insolation(orbit, lat_deg, lam_deg, s0=1360.747):
+def _solstice_insolation(orbit, lat_deg, lam_deg, s0=CMIP6_PICONTROL_TSI_WM2):
     """Daily-mean insolation at true longitude lam (Berger 1978, eqs. for Q and H0; the
     distance from the ellipse, a/r = (1 + e cos v)/(1 - e^2), v = lam - perihelion - 180)."""
     e = np.asarray(orbit.eccentricity)

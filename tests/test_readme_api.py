@@ -16,6 +16,7 @@ import sys
 from pathlib import Path
 
 import pytest
+from published_tables import PMIP4
 
 import bcgen
 import bcgen.orbit
@@ -62,9 +63,13 @@ def test_the_end_to_end_example_prints_the_published_orbit(tmp_path, monkeypatch
     exec(compile(block, "README.md", "exec"), {"__name__": "__readme__"})
     out = capsys.readouterr().out
     # PMIP4 midHolocene: e 0.018682, obliquity 24.105, perihelion - 180 = 0.87
-    # (Otto-Bliesner et al. 2017, Table 1); the Sun's longitude at perihelion is 180 more.
-    assert "e = 0.018682, obliquity = 24.105 deg, perihelion longitude = 0.87 deg" in out
-    assert "Sun's longitude at perihelion: 180.87 deg" in out
+    # (Otto-Bliesner et al. 2017, Table 1; tests/published_tables.py); the Sun's longitude at
+    # perihelion is 180 more.
+    mh = PMIP4["midHolocene"]
+    sun = f"{float(mh.perihelion_minus_180_deg) + 180:.2f}"
+    assert (f"e = {mh.eccentricity}, obliquity = {mh.obliquity_deg} deg, perihelion longitude = "
+            f"{mh.perihelion_minus_180_deg} deg") in out
+    assert f"Sun's longitude at perihelion: {sun} deg" in out
     for step in ("parse_epoch", "solve", "fixed_angle_months", "monthly_insolation",
                  "parse_spec_text", "build", "to_fixed_angle_months"):
         assert f"bcgen.{step}(" in block, step

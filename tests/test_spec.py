@@ -15,7 +15,12 @@ from pathlib import Path
 import numpy as np
 import pytest
 import yaml
-from published_tables import PMIP4
+from published_tables import (
+    CMIP6_PICONTROL_TSI_WM2,
+    PMIP4,
+    PMIP_1950_ORBIT,
+    PMIP_1950_ORBIT_DIGITS,
+)
 
 from bcgen.errors import SpecError
 from bcgen.spec import (
@@ -70,7 +75,7 @@ def test_protocol_config_carries_the_published_values(path):
     ) == (ecc, obl, peri)
     assert {g.name: g.value for g in spec.greenhouse_gases if g.name in gases} == gases
     assert spec.gas("co2").units == "ppm" and spec.gas("ch4").units == "ppb"
-    assert spec.solar_constant_wm2 == 1360.747
+    assert spec.solar_constant_wm2 == CMIP6_PICONTROL_TSI_WM2
     # PMIP: vernal equinox on 21 March at 12:00 (Otto-Bliesner et al. 2017)
     assert (spec.calendar.anchor, spec.calendar.date) == ("march_equinox", "03-21 12:00")
 
@@ -237,22 +242,24 @@ def test_perihelion_anchor_needs_its_date():
 # --- the orbit ----------------------------------------------------------------------------------
 def test_fixed_orbit_in_either_convention():
     # Berger 1978: the Sun's longitude at perihelion is varpi + 180 degrees
+    # (the PMIP 1950 orbit, PMIP3 design pages; tests/published_tables.py)
+    e, obliquity, varpi = PMIP_1950_ORBIT
     a = OrbitSpec(
         "fixed",
-        eccentricity=0.016724,
-        obliquity_deg=23.446,
-        perihelion_deg=102.04,
+        eccentricity=e,
+        obliquity_deg=obliquity,
+        perihelion_deg=varpi,
         perihelion_convention="perihelion_longitude",
     ).resolve(None)
     b = OrbitSpec(
         "fixed",
-        eccentricity=0.016724,
-        obliquity_deg=23.446,
-        perihelion_deg=282.04,
+        eccentricity=e,
+        obliquity_deg=obliquity,
+        perihelion_deg=varpi + 180.0,
         perihelion_convention="sun_longitude_at_perihelion",
     ).resolve(None)
-    assert float(b.perihelion_longitude_deg) == pytest.approx(102.04, abs=1e-12)
-    assert float(a.perihelion_longitude_deg) == pytest.approx(102.04, abs=1e-12)
+    assert float(b.perihelion_longitude_deg) == pytest.approx(varpi, abs=1e-12)
+    assert float(a.perihelion_longitude_deg) == pytest.approx(varpi, abs=1e-12)
 
 
 def test_idealized_lifts_the_earth_range_check():
@@ -277,11 +284,12 @@ def test_idealized_lifts_the_earth_range_check():
 
 def test_reference_orbit_is_the_1950_orbit():
     # PMIP2/PMIP3 "0 ka" (1950) orbit 0.016724, 23.446, 102.04 (PMIP3 design pages; the
-    # 1950 identification from memory), to the digits printed
+    # 1950 identification from memory; tests/published_tables.py), to the digits printed
     orbit = InsolationSpec().resolve_reference_orbit()
-    assert ExpectedValue(0.016724, 6).agrees(float(orbit.eccentricity))
-    assert ExpectedValue(23.446, 3).agrees(float(orbit.obliquity_deg))
-    assert ExpectedValue(102.04, 2).agrees(float(orbit.perihelion_longitude_deg), 360.0)
+    e, obliquity, varpi = PMIP_1950_ORBIT
+    assert ExpectedValue(e, 6).agrees(float(orbit.eccentricity))
+    assert ExpectedValue(obliquity, 3).agrees(float(orbit.obliquity_deg))
+    assert ExpectedValue(varpi, 2).agrees(float(orbit.perihelion_longitude_deg), 360.0)
 
 
 def test_expected_values_keep_their_written_digits():
@@ -299,10 +307,13 @@ def test_expected_values_keep_their_written_digits():
 def test_table_solution_resolves_relative_to_the_spec(tmp_path):
     folder = tmp_path / "specs"
     folder.mkdir()
-    # values: the PMIP 0 ka and 6 ka orbits (PMIP3 design pages), as a two-row table
+    # values: the PMIP 0 ka and 6 ka orbits (PMIP3 design pages; tests/published_tables.py),
+    # as a two-row table
+    mh = PMIP4["midHolocene"]
     (folder / "orbit.csv").write_text(
         "age_ka_bp,eccentricity,obliquity_deg,perihelion_longitude_deg\n"
-        "0,0.016724,23.446,102.04\n6,0.018682,24.105,0.87\n"
+        f"0,{','.join(PMIP_1950_ORBIT_DIGITS)}\n"
+        f"6,{mh.eccentricity},{mh.obliquity_deg},{mh.perihelion_minus_180_deg}\n"
     )
     text = (
         "experiment: {name: t}\nepoch: 6ka\norbit: {solution: table, table: orbit.csv}\n"
@@ -311,7 +322,8 @@ def test_table_solution_resolves_relative_to_the_spec(tmp_path):
     (folder / "t.yaml").write_text(text)
     spec = load_spec(folder / "t.yaml")
     assert spec.orbit.table == folder / "orbit.csv"
-    assert float(spec.resolve_orbit().obliquity_deg) == pytest.approx(24.105, abs=1e-12)
+    assert float(spec.resolve_orbit().obliquity_deg) == pytest.approx(float(mh.obliquity_deg),
+                                                                      abs=1e-12)
 
 
 # --- transient runs -----------------------------------------------------------------------------
@@ -354,7 +366,7 @@ MINIMAL = "experiment: {name: m}\nepoch: 6ka\nproducts: [orbit]\n"
 
 def test_minimal_spec_takes_the_defaults():
     spec = parse_spec_text(MINIMAL)
-    assert spec.solar_constant_wm2 == 1360.747
+    assert spec.solar_constant_wm2 == CMIP6_PICONTROL_TSI_WM2
     assert (spec.calendar.name, spec.calendar.date, spec.calendar.model_year) == (
         "noleap",
         "03-21 12:00",

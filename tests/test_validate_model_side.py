@@ -17,6 +17,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from model_side_orbit import ModelOrbit, berger1978_elements
+from published_tables import CMIP6_PICONTROL_TSI_WM2, PMIP4, PMIP_SOLAR_CONSTANT_WM2
 from validate_synthetic import write_netcdf
 
 import bcgen
@@ -25,10 +26,11 @@ from bcgen.spec import load_spec
 from bcgen.spec.grid import GridSpec
 from bcgen.validation import validate
 
-#: PMIP4 lig127k: perihelion - 180 = 275.41 deg, so a model that used the value 180 deg off
-#: has 95.41 (Otto-Bliesner et al. 2017, GMD 10, 3979-4003, Table 1; also in
-#: configs/protocols/lig127k.yaml).
-LIG127K_OPPOSITE_DEG = 95.41
+#: PMIP4 lig127k (Otto-Bliesner et al. 2017, GMD 10, 3979-4003, Table 1; also in
+#: configs/protocols/lig127k.yaml; typed in tests/published_tables.py).
+LIG127K = PMIP4["lig127k"]
+#: Its perihelion - 180 is 275.41 deg, so a model that used the value 180 deg off has 95.41.
+LIG127K_OPPOSITE_DEG = round(float(LIG127K.perihelion_minus_180_deg) - 180.0, 2)
 #: 127 ka in years from 1950 CE.
 EPOCH_YEARS = -127000.0
 #: 13 latitudes from pole to pole (15 degrees apart) keep the tests fast.
@@ -48,7 +50,7 @@ experiment:
 epoch: 127ka
 orbit:
   solution: berger1978
-solar_constant_wm2: 1360.747
+solar_constant_wm2: {s0}
 calendar:
   name: {calendar}
   anchor: march_equinox
@@ -70,7 +72,8 @@ def folder(tmp_path_factory):
 def spec_path(folder: Path, calendar: str) -> Path:
     path = folder / f"spec_{calendar}.yaml"
     if not path.exists():
-        path.write_text(SPEC.format(calendar=calendar), encoding="utf-8")
+        path.write_text(SPEC.format(calendar=calendar, s0=CMIP6_PICONTROL_TSI_WM2),
+                        encoding="utf-8")
     return path
 
 
@@ -83,7 +86,7 @@ def model_routine(mistake: str | None, calendar: str) -> ModelOrbit:
     if mistake == "equinox_day_shift":  # the equinox two days late (23 March)
         return model.with_(equinox_day=model.equinox_day + 2.0)
     if mistake == "solar_constant_ratio":
-        return model.with_(solar_constant_wm2=1365.0)
+        return model.with_(solar_constant_wm2=PMIP_SOLAR_CONSTANT_WM2)
     if mistake == "year_length_mismatch":  # the other calendar's orbital year
         other = "noleap" if calendar == "360_day" else "360_day"
         return model.with_(year_days=YEAR_DAYS[other], equinox_day=EQUINOX_DAY[other])
@@ -132,9 +135,10 @@ def test_model_side_elements_are_berger1978():
     # The routine's elements reproduce the PMIP4 lig127k table to its digits (Otto-Bliesner
     # et al. 2017, Table 1: e 0.039378, obliquity 24.040, perihelion - 180 = 275.41).
     e, obliquity, varpi = berger1978_elements(EPOCH_YEARS)
-    assert e == pytest.approx(0.039378, abs=1e-6)
-    assert obliquity == pytest.approx(24.040, abs=1e-3)
-    assert varpi == pytest.approx(275.41, abs=0.01)
+    published_e, published_obliquity, published_varpi = LIG127K.orbit
+    assert e == pytest.approx(published_e, abs=1e-6)
+    assert obliquity == pytest.approx(published_obliquity, abs=1e-3)
+    assert varpi == pytest.approx(published_varpi, abs=0.01)
 
 
 # --- correct outputs: consistent with default options, the convention reported ---------------
@@ -199,7 +203,9 @@ def _check_first(result, mistake, calendar):
     elif mistake == "equinox_day_shift":
         assert value == pytest.approx(2.0, abs=0.05)  # the construction: 23 March
     elif mistake == "solar_constant_ratio":
-        assert value == pytest.approx(1365.0 / 1360.747, abs=2e-4)  # the construction
+        # the construction: PMIP's 1365 for the spec's CMIP6 1360.747 W m-2
+        assert value == pytest.approx(PMIP_SOLAR_CONSTANT_WM2 / CMIP6_PICONTROL_TSI_WM2,
+                                      abs=2e-4)
     elif mistake == "year_length_mismatch":
         assert value == (365.0 if calendar == "360_day" else 360.0)
     elif mistake == "day_origin_off_by_one":

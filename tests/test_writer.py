@@ -14,6 +14,7 @@ import numpy as np
 import pytest
 import xarray as xr
 from io_faults import FailingBackend
+from published_tables import CMIP6_PICONTROL_TSI_WM2, PMIP4
 
 from bcgen import cf
 from bcgen.cf import climatology_time_axis, provenance_attrs, time_axis
@@ -55,15 +56,21 @@ def _insolation_dataset(grid, bounds, calendar, *, year=1, dtype="f4", time_slic
     return ds
 
 
+#: The PMIP4 midHolocene orbit and gases (Otto-Bliesner et al. 2017, Table 1) and the CMIP6
+#: piControl TSI (Matthes et al. 2017), from tests/published_tables.py.
+MH = PMIP4["midHolocene"]
+
+
 def _orbit_scalars(ds):
+    e, obliquity, varpi = MH.orbit
     for name, value in (
-        ("eccentricity", 0.018682),
-        ("obliquity", 24.105),
-        ("perihelion_longitude", 0.87),
-        ("co2", 264.4),
-        ("ch4", 597.0),
-        ("n2o", 262.0),
-        ("solar_irradiance", 1360.747),
+        ("eccentricity", e),
+        ("obliquity", obliquity),
+        ("perihelion_longitude", varpi),
+        ("co2", MH.gases["co2"]),
+        ("ch4", MH.gases["ch4"]),
+        ("n2o", MH.gases["n2o"]),
+        ("solar_irradiance", CMIP6_PICONTROL_TSI_WM2),
     ):
         ds[name] = ((), value, cf.variable_attrs(name))
     return ds
@@ -124,7 +131,7 @@ def test_climatology_round_trip(tmp_path, calendar):
         assert last == cftime.datetime(2, 1, 1, calendar=calendar)
         np.testing.assert_array_equal(back.lat_bnds.values, grid.lat_bounds_deg)
         np.testing.assert_array_equal(back.lon_bnds.values, grid.lon_bounds_deg)
-        assert back.eccentricity.item() == 0.018682
+        assert back.eccentricity.item() == MH.orbit[0]
 
 
 def test_fixed_angle_months_round_trip_with_fractional_bounds(tmp_path):

@@ -29,6 +29,7 @@ from pathlib import Path
 import cftime
 import numpy as np
 import xarray as xr
+from published_tables import CMIP6_PICONTROL_TSI_WM2
 
 from bcgen.epochs import parse_epoch
 from bcgen.insolation import daily_insolation
@@ -38,8 +39,9 @@ from bcgen.solar_calendar.position import SolarYear
 
 #: 19 latitudes, 10 degrees apart (keeps the tests fast).
 LATS_19 = np.linspace(-90.0, 90.0, 19)
-#: S0 of the synthetic specs: the CMIP6 piControl value (Matthes et al. 2017).
-S0_WM2 = 1360.747
+#: S0 of the synthetic specs: the CMIP6 piControl value (Matthes et al. 2017;
+#: tests/published_tables.py).
+S0_WM2 = CMIP6_PICONTROL_TSI_WM2
 #: Truth of each mistake, as the diagnosis reports it (fitted value expected).
 TRUTH = {
     "perihelion_opposite": None,       # computed from the spec's orbit
