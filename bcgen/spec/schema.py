@@ -55,7 +55,10 @@ from bcgen.geography.options import (
     SHALLOW_POLICIES,
     STRAIT_ACTIONS,
 )
-from bcgen.insolation.daily import DAILY_METHODS  # how the daily mean of a day is formed
+from bcgen.insolation.daily import (  # how the daily mean of a day is formed; the CMIP6 S0
+    CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
+    DAILY_METHODS,
+)
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS
 from bcgen.solar_calendar.calendars import ANCHOR_KINDS, CALENDAR_NAMES, MAX_MODEL_YEAR
 
@@ -180,7 +183,7 @@ RESERVED_ATTRIBUTES = (
 # ---------------------------------------------------------------------------------------------
 # Defaults (each justified in the module docstring)
 # ---------------------------------------------------------------------------------------------
-DEFAULT_SOLAR_CONSTANT_WM2 = 1360.747
+DEFAULT_SOLAR_CONSTANT_WM2 = CMIP6_PICONTROL_SOLAR_CONSTANT_WM2
 DEFAULT_CALENDAR = "noleap"
 DEFAULT_ANCHOR = "march_equinox"
 DEFAULT_ANCHOR_DATE = "03-21 12:00"
@@ -290,6 +293,48 @@ _PERI_CONV = Key(
     noun="perihelion convention",
 )
 
+
+
+def _fixed_only(key: Key) -> Key:
+    """Return the key as one of ``orbit`` that only the ``fixed`` solution reads."""
+    return replace(key, doc=key.doc + "; " + _FIXED_NOTE)
+
+
+def _model_year(doc: str) -> Key:
+    return Key("integer", doc, default=1, minimum=1, maximum=MAX_MODEL_YEAR)
+
+
+def _templates(doc: str) -> Key:
+    """Return a list of templates: bundled names or the paths of the user's own."""
+    return Key(
+        "list",
+        doc + "a bundled name (" + ", ".join(BUNDLED_TEMPLATES) + ") or the path of your own "
+        "template",
+        item=Key("string", "a template"),
+        min_items=1,
+    )
+
+
+#: A point of the globe: latitude and longitude, both required.
+_POINT = Key(
+    "mapping",
+    "a point",
+    keys=_map(lat_deg=replace(_LAT, required=True), lon_deg=replace(_LON, required=True)),
+)
+#: The NetCDF file of a geography input.
+_NETCDF_FILE = Key("path", "NetCDF file, relative to the spec's folder", required=True)
+
+
+def _netcdf_variable(doc: str, variable_doc: str, **more: Key) -> Key:
+    """Return a geography input read from one variable of a NetCDF file (and ``more`` keys)."""
+    return Key(
+        "mapping",
+        doc,
+        keys=_map(
+            file=_NETCDF_FILE, variable=Key("string", variable_doc, required=True), **more
+        ),
+    )
+
 _GAS = Key(
     "mapping",
     "a gas concentration: a value and its units",
@@ -335,13 +380,7 @@ SCHEMA: Mapping[str, Key] = _map(
         keys=_map(
             start_epoch=Key("epoch", "epoch of the first model year", required=True),
             end_epoch=Key("epoch", "epoch of the last model year", required=True),
-            first_model_year=Key(
-                "integer",
-                "the model year that starts the run",
-                default=1,
-                minimum=1,
-                maximum=MAX_MODEL_YEAR,
-            ),
+            first_model_year=_model_year("the model year that starts the run"),
             acceleration=Key(
                 "integer",
                 "orbital acceleration: years of orbit per model year",
@@ -385,10 +424,10 @@ SCHEMA: Mapping[str, Key] = _map(
                 "path",
                 "orbit table (CSV or NetCDF, see bcgen.orbit.table); only with solution 'table'",
             ),
-            eccentricity=replace(_ECC, doc=_ECC.doc + "; " + _FIXED_NOTE),
-            obliquity_deg=replace(_OBL, doc=_OBL.doc + "; " + _FIXED_NOTE),
-            perihelion_deg=replace(_PERI, doc=_PERI.doc + "; " + _FIXED_NOTE),
-            perihelion_convention=replace(_PERI_CONV, doc=_PERI_CONV.doc + "; " + _FIXED_NOTE),
+            eccentricity=_fixed_only(_ECC),
+            obliquity_deg=_fixed_only(_OBL),
+            perihelion_deg=_fixed_only(_PERI),
+            perihelion_convention=_fixed_only(_PERI_CONV),
             idealized=Key(
                 "boolean",
                 "true for a deliberately non-Earth orbit: lifts the check "
@@ -460,13 +499,9 @@ SCHEMA: Mapping[str, Key] = _map(
                 "anchor 'perihelion')",
                 default=DEFAULT_ANCHOR_DATE,
             ),
-            model_year=Key(
-                "integer",
+            model_year=_model_year(
                 "the model year a time slice is dated in (transient runs "
-                "use transient.first_model_year)",
-                default=1,
-                minimum=1,
-                maximum=MAX_MODEL_YEAR,
+                "use transient.first_model_year)"
             ),
         ),
     ),
@@ -558,14 +593,7 @@ SCHEMA: Mapping[str, Key] = _map(
                 "points where instantaneous insolation is tabulated",
                 required=True,
                 min_items=1,
-                item=Key(
-                    "mapping",
-                    "a point",
-                    keys=_map(
-                        lat_deg=replace(_LAT, required=True),
-                        lon_deg=replace(_LON, required=True),
-                    ),
-                ),
+                item=_POINT,
             ),
             days=Key(
                 "list",
@@ -575,22 +603,10 @@ SCHEMA: Mapping[str, Key] = _map(
             ),
         ),
     ),
-    templates=Key(
-        "list",
-        "templates to render: a bundled name ("
-        + ", ".join(BUNDLED_TEMPLATES)
-        + ") or the path of your own template",
-        item=Key("string", "a template"),
-        min_items=1,
-    ),
-    attribute_templates=Key(
-        "list",
+    templates=_templates("templates to render: "),
+    attribute_templates=_templates(
         "metadata templates: each renders to a JSON object of global attributes that is "
-        "added to every NetCDF file of a time-slice build; a bundled name ("
-        + ", ".join(BUNDLED_TEMPLATES)
-        + ") or the path of your own template",
-        item=Key("string", "a template"),
-        min_items=1,
+        "added to every NetCDF file of a time-slice build; "
     ),
     geography=Key(
         "mapping",
@@ -603,7 +619,7 @@ SCHEMA: Mapping[str, Key] = _map(
                 "under the sea): one `variable`, or `orography` and `bathymetry`",
                 required=True,
                 keys=_map(
-                    file=Key("path", "NetCDF file, relative to the spec's folder", required=True),
+                    file=_NETCDF_FILE,
                     variable=Key("string", "the relief variable (units of length)"),
                     orography=Key("string", "surface height on land (0 on the sea), m"),
                     bathymetry=Key("string", "sea depth, positive down (0 on land), m"),
@@ -613,7 +629,7 @@ SCHEMA: Mapping[str, Key] = _map(
                 "mapping",
                 "a reconstruction's surface at the epoch and at 0 ka, for the anomaly method",
                 keys=_map(
-                    file=Key("path", "NetCDF file, relative to the spec's folder", required=True),
+                    file=_NETCDF_FILE,
                     epoch_variable=Key("string", "surface at the epoch (length units)",
                                        required=True),
                     present_variable=Key("string", "surface at 0 ka (length units)",
@@ -627,16 +643,12 @@ SCHEMA: Mapping[str, Key] = _map(
                                            "of sea_level_change_m"),
                 ),
             ),
-            ice=Key(
-                "mapping",
+            ice=_netcdf_variable(
                 "land ice at the epoch",
-                keys=_map(
-                    file=Key("path", "NetCDF file, relative to the spec's folder", required=True),
-                    variable=Key("string", "the ice variable", required=True),
-                    kind=Key("choice", "what the variable holds: thickness (length units) or "
-                             "fraction (area fraction, 1 or %)", default="thickness",
-                             choices=ICE_KINDS, noun="ice kind"),
-                ),
+                "the ice variable",
+                kind=Key("choice", "what the variable holds: thickness (length units) or "
+                         "fraction (area fraction, 1 or %)", default="thickness",
+                         choices=ICE_KINDS, noun="ice kind"),
             ),
             sea_level_change_m=Key("number", "sea level at the epoch minus today's, m "
                                    "(negative in a glacial)", default=0.0,
@@ -653,13 +665,9 @@ SCHEMA: Mapping[str, Key] = _map(
             mean_salinity=Key("number", "present global-mean ocean salinity (for the implied "
                               "salinity change), e.g. 34.7", minimum=0.0,
                               exclusive_minimum=True),
-            salinity=Key(
-                "mapping",
+            salinity=_netcdf_variable(
                 "a salinity climatology (depth, lat, lon) to compute the present mean from",
-                keys=_map(
-                    file=Key("path", "NetCDF file, relative to the spec's folder", required=True),
-                    variable=Key("string", "the salinity variable", required=True),
-                ),
+                "the salinity variable",
             ),
             straits=Key(
                 "list",
@@ -674,9 +682,7 @@ SCHEMA: Mapping[str, Key] = _map(
                         action=Key("choice", "open (carve ocean) or close (make land)",
                                    required=True, choices=STRAIT_ACTIONS, noun="action"),
                         path=Key("list", "points along the strait, in order", min_items=2,
-                                 item=Key("mapping", "a point", keys=_map(
-                                     lat_deg=replace(_LAT, required=True),
-                                     lon_deg=replace(_LON, required=True)))),
+                                 item=_POINT),
                         box=Key("mapping", "cells whose centres lie in a box", keys=_map(
                             lat_min_deg=replace(_LAT, required=True),
                             lat_max_deg=replace(_LAT, required=True),
