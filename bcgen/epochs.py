@@ -50,6 +50,9 @@ ACCEPTED_FORMS = f"{EPOCH_FORMS}, and ranges 'START..END/STEP' such as '130ka..1
 
 #: Largest distance of an epoch from 1950 CE, in years (about a quarter of the Earth's age).
 MAX_EPOCH_YEARS = 1e9
+#: J2000.0 (JD 2451545.0, 1 January 2000 12:00 TT) in years from 1950 CE: years from 1950 CE
+#: are Julian epochs (years of 365.25 days, IAU) minus 1950.
+J2000_YEARS_FROM_1950 = 50.0
 
 _NUMBER = r"(?P<num>[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)"
 _EPOCH_RE = re.compile(

@@ -32,7 +32,7 @@ import numpy as np
 
 from bcgen.epochs import format_epoch
 from bcgen.errors import OrbitError, OutsideValidityWarning
-from bcgen.orbit.elements import OrbitalElements
+from bcgen.orbit.elements import ARCSEC, OrbitalElements
 
 NAME = "berger1978"
 REFERENCE = (
@@ -44,7 +44,6 @@ VALID_YEARS = 1_000_000.0
 OBLIQUITY_CONSTANT_DEG = 23.320556  # ε*, Berger (1978)
 PRECESSION_RATE_ARCSEC_PER_YEAR = 50.439273  # ψ̄, Berger (1978)
 PRECESSION_CONSTANT_DEG = 3.392506  # ζ, Berger (1978)
-ARCSEC = np.pi / (180.0 * 3600.0)
 
 
 @cache

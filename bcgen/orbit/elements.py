@@ -42,6 +42,9 @@ PERIHELION_CONVENTIONS: dict[str, str] = {
 
 _OFFSET_DEG = {"perihelion_longitude": 0.0, "sun_longitude_at_perihelion": 180.0}
 
+#: One second of arc, in radians.
+ARCSEC = np.pi / (180.0 * 3600.0)
+
 
 def convert_perihelion(
     value,

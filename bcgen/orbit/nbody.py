@@ -31,11 +31,8 @@ refused.
 
 References
 ----------
-Laskar, J., Joutel, F. & Boudin, F. (1993): Orbital, precessional, and
-insolation quantities for the Earth from -20 Myr to +10 Myr. A&A 270, 522-533.
-Laskar, J., Robutel, P., Joutel, F., Gastineau, M., Correia, A. C. M. &
-Levrard, B. (2004): A long-term numerical solution for the insolation
-quantities of the Earth. A&A 428, 261-285, doi:10.1051/0004-6361:20041335.
+Laskar et al. (1993) and Laskar et al. (2004), the precession equations: see
+:mod:`bcgen.orbit.precession`.
 Laskar, J., Fienga, A., Gastineau, M. & Manche, H. (2011): La2010: a new
 orbital solution for the long-term motion of the Earth. A&A 532, A89,
 doi:10.1051/0004-6361/201116836.
@@ -54,7 +51,7 @@ from pathlib import Path
 import numpy as np
 
 from bcgen.arguments import real_array
-from bcgen.epochs import format_epoch
+from bcgen.epochs import J2000_YEARS_FROM_1950, format_epoch
 from bcgen.errors import OrbitError, OutsideValidityWarning
 from bcgen.orbit.elements import OrbitalElements
 
@@ -169,11 +166,11 @@ def cache_dir() -> Path:
     return Path(root)
 
 
-#: Epochs evaluated at once by :func:`interpolate`: its work arrays stay in the CPU cache.
+#: Epochs evaluated at once by :func:`interpolate_rows`: its work arrays stay in the CPU cache.
 BLOCK_EPOCHS = 1 << 14
 
 
-def interpolate(table: Table, years_from_1950) -> OrbitalElements:
+def interpolate_rows(table: Table, years_from_1950) -> OrbitalElements:
     """Elements at the epochs, linear between rows (ϖ through its components).
 
     The epochs must be finite and lie within the table (:func:`solve` checks both);
@@ -271,7 +268,7 @@ def solve(years_from_1950, *, dynamical_ellipticity: float = 1.0,
     options = (float(dynamical_ellipticity), float(tidal_dissipation))
     if n_past or n_future or options != (1.0, 1.0):
         table = _evaluated(source, n_past, n_future, *options)
-    return interpolate(table, t)
+    return interpolate_rows(table, t)
 
 
 def _check_validity(newest: float, oldest: float) -> None:
@@ -484,7 +481,7 @@ def _future_columns(source: str, n_rows: int, dynamical_ellipticity: float = 1.0
     ecc_vec, normal = ecc_vec.astype(float), normal.astype(float)
     epochs = gen.FIRST_ROW_YEARS_FROM_1950 - gen.STEP_YEARS * np.arange(-1, n_rows + 1)
     spin = precession.spin_axis(epochs, normal, np.linalg.norm(ecc_vec, axis=-1),
-                                precession.J2000_YEARS_FROM_1950, precession.POLE_J2000,
+                                J2000_YEARS_FROM_1950, precession.POLE_J2000,
                                 dynamical_ellipticity=dynamical_ellipticity,
                                 tidal_dissipation=tidal_dissipation,
                                 eccentricity_j2000=gen.eccentricity_j2000(raw))

@@ -30,6 +30,7 @@ from pathlib import Path
 
 import numpy as np
 
+from bcgen.epochs import J2000_YEARS_FROM_1950
 from bcgen.orbit import nbody_integrate as integ
 from bcgen.orbit import precession
 
@@ -70,7 +71,7 @@ def solve_spin(ecc_vector, orbit_normal, **options) -> np.ndarray:
     t = row_epochs(len(orbit_normal))
     ecc = np.linalg.norm(np.asarray(ecc_vector, dtype=float), axis=-1)
     return precession.spin_axis(t, np.asarray(orbit_normal, dtype=float), ecc,
-                                precession.J2000_YEARS_FROM_1950, precession.POLE_J2000,
+                                J2000_YEARS_FROM_1950, precession.POLE_J2000,
                                 **options)
 
 

@@ -66,6 +66,7 @@ from functools import cache
 
 import numpy as np
 
+from bcgen.epochs import J2000_YEARS_FROM_1950
 from bcgen.errors import OrbitError
 from bcgen.orbit.precession import (
     ICRF_TO_ECLIPTIC_J2000,
@@ -82,7 +83,6 @@ GM_CONSTANTS = ("GMS", "GM1", "GM2", "GMB", "GM4", "GM5", "GM6", "GM7", "GM8")
 EMB_INDEX = BODIES.index("earthmoon")
 
 J2000_JD_TDB = 2451545.0
-J2000_YEARS_FROM_1950 = 50.0
 DAYS_PER_YEAR = 365.25  # Julian year, as in Julian epochs (IAU)
 TIME_STEP_DAYS = 8.0
 ROW_STEP_YEARS = 100.0

@@ -61,7 +61,9 @@ from __future__ import annotations
 
 import numpy as np
 
-ARCSEC = np.pi / (180.0 * 3600.0)
+from bcgen.epochs import J2000_YEARS_FROM_1950
+from bcgen.orbit.elements import ARCSEC
+
 #: Rate of lunisolar precession ψ_A at J2000, IAU 2006 (Capitaine et al. 2003), rad/year.
 LUNISOLAR_PRECESSION_RATE = 5038.481507 * ARCSEC / 100.0
 #: Mean obliquity at J2000, IAU 2006 (Capitaine et al. 2003, ε0 = 84381.406″), rad.
@@ -81,8 +83,6 @@ MOON_RECESSION_KM_PER_YEAR = 3.82e-5
 # Earth/Moon mass ratio and GM of the Earth-Moon pair (DE421 EMRAT and GMB; km³/s²).
 EARTH_MOON_MASS_RATIO = 81.3005690699153
 GM_EARTH_MOON_KM3_S2 = 403503.2363
-
-J2000_YEARS_FROM_1950 = 50.0
 
 #: Rotation from the ICRF (mean equator and equinox J2000) to the J2000 ecliptic (IAU 2006).
 ICRF_TO_ECLIPTIC_J2000 = np.array(
