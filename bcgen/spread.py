@@ -3,7 +3,7 @@
 No orbital solution is exact: the Berger (1978) series is a 1978 fit, the
 ``nbody`` solution has its own model limits. The difference between them at an
 epoch is a plain, honest measure of how well the orbit is known there.
-:func:`compare` gives each solution's elements and the differences of every
+:func:`compare_solutions` gives each solution's elements and the differences of every
 other solution from the chosen one; :func:`insolation_spread` turns a
 difference into daily-mean TOA insolation at a few latitudes, through the
 calendar-free insolation at each true longitude of the Sun (Berger 1978).
@@ -84,10 +84,10 @@ def insolation_spread(a: OrbitalElements, b: OrbitalElements,
     }
 
 
-def compare(years_from_1950: float, chosen: str = "berger1978",
-            chosen_options: dict | None = None,
-            others: tuple[str, ...] = COMPARED_SOLUTIONS,
-            solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2) -> dict:
+def compare_solutions(years_from_1950: float, chosen: str = "berger1978",
+                      chosen_options: dict | None = None,
+                      others: tuple[str, ...] = COMPARED_SOLUTIONS,
+                      solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2) -> dict:
     """Elements of each solution at one epoch and the differences from the chosen one.
 
     Returns a JSON-ready dict: ``chosen``, ``solutions`` (name → elements),
@@ -103,7 +103,7 @@ def compare(years_from_1950: float, chosen: str = "berger1978",
 def spread_record(orbit: OrbitalElements, years_from_1950: float,
                   others: tuple[str, ...] = COMPARED_SOLUTIONS,
                   solar_constant_wm2=CMIP6_PICONTROL_SOLAR_CONSTANT_WM2) -> dict:
-    """Like :func:`compare`, for elements already computed by the chosen solution."""
+    """Like :func:`compare_solutions`, for elements already computed by the chosen solution."""
     chosen = orbit.solution
     orbits: dict[str, OrbitalElements] = {chosen: orbit}
     not_compared: dict[str, str] = {}

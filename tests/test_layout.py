@@ -175,15 +175,13 @@ def test_the_vocabularies_named_above_are_each_defined_once():
 #: subcommand: register, run, EPILOG, format_text) and a script's entry point.
 INTERFACE_NAMES = {"NAME", "REFERENCE", "VALID_YEARS", "solve", "register", "run", "EPILOG",
                    "format_text", "main"}
-#: Known second homes, each to be folded into one (owned by modules under other work).
-KNOWN_TWICE = {"ARCSEC", "J2000_YEARS_FROM_1950", "compare", "interpolate"}
 
 
 def test_each_public_name_is_defined_once():
     definitions = _top_level_definitions()
     twice = {name: modules for name, modules in definitions.items()
              if len(modules) > 1 and not name.startswith("_") and name != "__all__"
-             and name not in INTERFACE_NAMES | KNOWN_TWICE}
+             and name not in INTERFACE_NAMES}
     assert twice == {}
 
 

@@ -235,7 +235,7 @@ def format_text(records: list[dict]) -> str:
 
 
 def format_comparison(labels: list[str], comparisons: list[dict]) -> str:
-    """Format :func:`bcgen.spread.compare` results as a table for people."""
+    """Format :func:`bcgen.spread.compare_solutions` results as a table for people."""
     lines = [
         "# Earth's orbital elements from each solution, and each one's difference from the",
         "# chosen one (angles in degrees; perihelion: heliocentric, from the moving March",
@@ -277,11 +277,11 @@ def _latitude(lat: float) -> str:
 
 
 def _run_compare(args, options, labels, years) -> int:
-    from bcgen.spread import compare
+    from bcgen.spread import compare_solutions
 
     if args.format == "csv":
         raise OrbitError("--compare prints text or json; --format csv is not available with it")
-    comparisons = [compare(t, args.solution, options) for t in np.concatenate(years)]
+    comparisons = [compare_solutions(t, args.solution, options) for t in np.concatenate(years)]
     if args.format == "json":
         records = [{"epoch": label, "years_bp": -float(t), **comp}
                    for label, t, comp in zip(labels, np.concatenate(years), comparisons,

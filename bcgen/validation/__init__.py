@@ -354,8 +354,8 @@ def validate_output(
         output, setup, daily_method, timestep_minutes)
     model = diagnosis.model
     setup = model.setup
-    comparison = _compare.compare(output, model.predict(), band_edges_deg, n_worst,
-                                  calendar=setup.calendar)
+    comparison = _compare.compare_with_reference(output, model.predict(), band_edges_deg,
+                                                 n_worst, calendar=setup.calendar)
     significant = [f for f in found if f.significant]
     if noise_wm2 is None:
         # systematic errors that curve in time inflate the estimate: the least noisy residual

@@ -196,9 +196,9 @@ def rms_allowed_wm2(tolerance_wm2: float, noise_wm2: float) -> float:
     return float(tolerance_wm2 + noise_allowance_wm2(tolerance_wm2, noise_wm2))
 
 
-def compare(output: ModelOutput, reference_wm2: np.ndarray,
-            band_edges_deg=DEFAULT_BAND_EDGES_DEG, n_worst: int = 5,
-            calendar=None) -> Comparison:
+def compare_with_reference(output: ModelOutput, reference_wm2: np.ndarray,
+                           band_edges_deg=DEFAULT_BAND_EDGES_DEG, n_worst: int = 5,
+                           calendar=None) -> Comparison:
     """Compare a model's values with the reference on the same intervals and latitudes.
 
     Parameters
