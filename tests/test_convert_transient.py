@@ -257,3 +257,34 @@ def test_each_output_file_records_the_orbits_of_its_own_model_years(synthetic, t
                     orbits.eccentricity[year - 1], rel=1e-12)
                 assert part.attrs[f"orbit_{which}_year_perihelion_longitude_deg"] == (
                     pytest.approx(orbits.perihelion_longitude_deg[year - 1], rel=1e-12))
+
+
+def test_each_output_file_keeps_its_own_input_files_attributes_and_time_units(synthetic,
+                                                                              tmp_path,
+                                                                              run_cli):
+    # A model writes each file with its own history and may count time from each file's
+    # first year: every output file repeats those of its own input file (so raw time
+    # numbers of an input and its output compare directly), not the first file's.
+    s, orbits, ds = synthetic
+    (tmp_path / "run.yaml").write_text(SPEC_TEXT)
+    (tmp_path / "model").mkdir()
+    paths = []
+    for k, (first, last) in enumerate([(1, 8), (9, 16), (17, 23)]):
+        part = ds.isel(time=slice(12 * (first - 1), 12 * last))
+        part.attrs = {"history": f"model run, file {k + 1} of 3"}
+        units = f"days since {first:04d}-01-01"
+        path = tmp_path / "model" / f"tas_{first:04d}-{last:04d}.nc"
+        part.to_netcdf(path, encoding={v: {"units": units, "calendar": "noleap"}
+                                       for v in ("time", "time_bnds")})
+        paths.append(path)
+    status, out, err = run_cli(["convert", *map(str, paths), "-o", str(tmp_path / "fa"),
+                                "--spec", str(tmp_path / "run.yaml")])
+    assert status == 0, err
+    for k, path in enumerate(paths):
+        with xr.open_dataset(tmp_path / "fa" / path.name, decode_times=False) as part:
+            assert part.attrs["history"].startswith(f"model run, file {k + 1} of 3\n")
+            with xr.open_dataset(path, decode_times=False) as source:
+                assert part["time"].attrs["units"] == source["time"].attrs["units"]
+                # Same origin: the first and last month move by days, not by years.
+                moved = part["time_bnds"].values[[0, -1]] - source["time_bnds"].values[[0, -1]]
+                assert np.all(np.abs(moved) < 31.0)

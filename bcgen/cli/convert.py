@@ -260,9 +260,9 @@ def _run_transient(args, orbit, reference, anchor, calendar, cyclic) -> int:
 
     import numpy as np
 
-    from bcgen.convert.io import open_inputs
-    from bcgen.convert.timeaxis import find_time_dim
+    from bcgen.convert.io import open_series
     from bcgen.errors import OutputError
+    from bcgen.io.paths import refuse_outputs_among_inputs
 
     if cyclic:
         raise BcgenError("--spec: a transient run's output is a series; --cycle climatology "
@@ -271,24 +271,19 @@ def _run_transient(args, orbit, reference, anchor, calendar, cyclic) -> int:
     if folder.exists() and not folder.is_dir():
         raise OutputError(f"{folder}: with a transient spec, -o names a folder for one output "
                           "file per input file; this is a file")
-    ds, label = open_inputs(args.inputs)  # checks each file and the joins between them
     written = []
-    with ds:
-        dim = find_time_dim(ds, label)
-        ordered, counts = _files_in_time_order(args.inputs, dim)
-        targets = [folder / path.name for path in ordered]
-        from bcgen.io.paths import refuse_outputs_among_inputs
-
+    with open_series(args.inputs) as series:  # checks each file and the joins between them
+        dim = series.dim
+        targets = [folder / path.name for path in series.paths]
         refuse_outputs_among_inputs([(str(t), t) for t in targets],
-                                    [(f"input {p}", p) for p in ordered]
+                                    [(f"input {p}", p) for p in series.paths]
                                     + [(f"--spec {args.spec}", args.spec)])
-        years = np.array([d.year for d in ds[dim].values])
-        edges = np.concatenate([[0], np.cumsum(counts)])
+        years = np.array([d.year for d in series.times()])
+        edges = np.concatenate([[0], np.cumsum(series.counts)])
         with _scheduler(args.scheduler) as client, _output_set(folder, targets,
                                                                args.force) as stage:
-            _convert_each(args, ds, dim, years, edges, ordered,
-                          [stage / t.name for t in targets], orbit, reference, anchor,
-                          calendar, label, client, written)
+            _convert_each(args, series, years, edges, [stage / t.name for t in targets],
+                          orbit, reference, anchor, calendar, client, written)
     written = [(folder / path.name, out) for path, out in written]
     names = [str(k) for k, v in written[0][1].data_vars.items()
              if dim in v.dims and k != written[0][1][dim].attrs.get("bounds")]
@@ -325,26 +320,8 @@ def _output_set(folder, targets, force: bool):
         yield stage
 
 
-def _files_in_time_order(paths, dim: str):
-    """Return the input files ordered by their first time, and the time steps of each."""
-    from pathlib import Path
-
-    import cftime
-    import xarray as xr
-
-    found = []
-    for raw in paths:
-        with xr.open_dataset(raw, decode_times=False) as one:
-            t = one[dim]
-            first = cftime.num2date(float(t.values[0]), t.attrs["units"],
-                                    calendar=t.attrs.get("calendar", "standard"))
-            found.append((first, Path(raw), one.sizes[dim]))
-    found.sort(key=lambda item: item[0])
-    return [item[1] for item in found], [item[2] for item in found]
-
-
-def _convert_each(args, ds, dim, years, edges, ordered, targets, orbit, reference, anchor,
-                  calendar, label, client, written) -> None:
+def _convert_each(args, series, years, edges, targets, orbit, reference, anchor, calendar,
+                  client, written) -> None:
     """Convert and write the model years of each input file (see :func:`_run_transient`)."""
     import numpy as np
 
@@ -354,12 +331,13 @@ def _convert_each(args, ds, dim, years, edges, ordered, targets, orbit, referenc
     for i, target in enumerate(targets):
         y0, y1 = int(years[edges[i]]), int(years[edges[i + 1] - 1])
         window = np.flatnonzero((years >= y0 - MARGIN_YEARS) & (years <= y1 + MARGIN_YEARS))
-        part = ds.isel({dim: slice(window[0], window[-1] + 1)})
+        part = series.window(int(window[0]), int(window[-1]) + 1, own=i)
         out = to_fixed_angle_months(part, orbit, reference=reference, anchor=anchor,
                                     calendar=calendar, method=args.method, cyclic=False,
-                                    min_valid_fraction=args.min_valid_fraction, source=label,
+                                    min_valid_fraction=args.min_valid_fraction,
+                                    source=series.label,
                                     model_years=(y0, y1))  # and their orbits recorded
-        out.attrs["month_conversion_input_file"] = ordered[i].name
+        out.attrs["month_conversion_input_file"] = series.paths[i].name
         show = sys.stderr.isatty() and client is None and not args.quiet
         with _progress(show):
             written.append((write_output(out, target, force=args.force), out))

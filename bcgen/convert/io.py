@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Sequence
+from dataclasses import dataclass
 from pathlib import Path
 
 import cftime
@@ -70,13 +71,28 @@ def check_inputs(paths: Sequence[os.PathLike | str]) -> list[Path]:
     check_input_count(len(paths))
     found = []
     for raw in paths:
-        path = Path(raw)
-        if not path.is_file():
-            raise InputFileError(f"{path}: no such file")
+        path = _existing(raw)
         with _open_one(path) as ds:
-            axis = read_time_axis(ds, str(path), cyclic=False)
-            found.append((axis.date(axis.edges_days[0]), axis.date(axis.edges_days[-1]),
-                          axis.calendar.name, axis.kind, path))
+            found.append(_span(ds, path))
+    return [item[4] for item in _in_order(found)]
+
+
+def _existing(raw) -> Path:
+    path = Path(raw)
+    if not path.is_file():
+        raise InputFileError(f"{path}: no such file")
+    return path
+
+
+def _span(ds: xr.Dataset, path: Path) -> tuple:
+    """(start date, end date, calendar, kind, path) of one input file's time axis."""
+    axis = read_time_axis(ds, str(path), cyclic=False)
+    return (axis.date(axis.edges_days[0]), axis.date(axis.edges_days[-1]), axis.calendar.name,
+            axis.kind, path)
+
+
+def _in_order(found: list[tuple]) -> list[tuple]:
+    """Check the files' spans (:func:`_span`) against each other; return them in time order."""
     first_cal, first_path = found[0][2], found[0][4]
     for _, _, cal, kind, path in found:
         if cal != first_cal:
@@ -85,13 +101,13 @@ def check_inputs(paths: Sequence[os.PathLike | str]) -> list[Path]:
         if kind != found[0][3]:
             raise InputFileError(f"{path}: holds {kind} means but {first_path} {found[0][3]} "
                                  "means")
-    found.sort(key=lambda item: item[0])
+    found = sorted(found, key=lambda item: item[0])
     for (_, e0, _, _, p0), (s1, _, _, _, p1) in zip(found[:-1], found[1:], strict=True):
         if s1 != e0:
             what = "a gap" if s1 > e0 else "an overlap"
             raise InputFileError(f"{p1}: starts at {s1} but {p0} ends at {e0} ({what} between "
                                  "files); expected consecutive files")
-    return [item[4] for item in found]
+    return found
 
 
 def conversion_chunks(ds: xr.Dataset, time_dim: str, target_bytes: int = CHUNK_BYTES) -> dict:
@@ -160,6 +176,131 @@ def open_inputs(paths: Sequence[os.PathLike | str], *, chunk_bytes: int = CHUNK_
         raise InputFileError(f"{label}: cannot join the files along time "
                              f"({' '.join(str(exc).split())})") from None
     return ds, label  # one time chunk per file: the conversion reads them in turn
+
+
+def _check_variables(ds: xr.Dataset, dim: str, path, names: set[str], first) -> None:
+    theirs = _time_variables(ds, dim)
+    _check_units(ds, dim, path)
+    if theirs != names:
+        raise InputFileError(
+            f"{path}: holds the variables {', '.join(sorted(theirs)) or 'none'} "
+            f"but {first} holds {', '.join(sorted(names)) or 'none'}; the "
+            "files of one conversion must hold the same variables")
+
+
+@dataclass
+class InputSeries:
+    """The files of one time series, each opened once, for a conversion a file at a time.
+
+    Made by :func:`open_series`. The files stay open, lazily read: their time axes,
+    bounds and other small variables are in memory, the variables to convert are read
+    only when a :meth:`window` of them is computed, and then only the time steps of
+    that window (the steps a window takes from a neighbouring file are read alone, not
+    that file's whole block).
+    """
+
+    paths: list[Path]  #: in time order
+    datasets: list[xr.Dataset]  #: one per file, same order
+    dim: str  #: the time dimension
+    chunks: dict  #: spatial chunks of the variables to convert (time whole)
+    label: str  #: the set's name in messages
+
+    @property
+    def counts(self) -> list[int]:
+        """Time steps of each file."""
+        return [ds.sizes[self.dim] for ds in self.datasets]
+
+    def times(self) -> np.ndarray:
+        """Return the decoded times of the whole series (cftime dates)."""
+        return np.concatenate([ds[self.dim].values for ds in self.datasets])
+
+    def window(self, start: int, stop: int, own: int) -> xr.Dataset:
+        """Time steps ``start:stop`` of the series as one dask-backed dataset.
+
+        One time chunk per file the window touches; the global attributes and the time
+        encoding (units) are those of file ``own``, the file the window is read for.
+        """
+        edges = np.concatenate([[0], np.cumsum(self.counts)])
+        pieces = []
+        for j, ds in enumerate(self.datasets):
+            lo, hi = max(start, edges[j]), min(stop, edges[j + 1])
+            if lo >= hi:
+                continue
+            piece = ds.isel({self.dim: slice(int(lo - edges[j]), int(hi - edges[j]))})
+            names = sorted(_time_variables(piece, self.dim))
+            chunks = {d: c for d, c in self.chunks.items() if d != self.dim}
+            pieces.append(piece.assign(
+                {n: piece[n].chunk({d: c for d, c in chunks.items() if d in piece[n].dims})
+                 for n in names}))
+        part = pieces[0] if len(pieces) == 1 else xr.concat(
+            pieces, self.dim, data_vars="minimal", coords="minimal", compat="override",
+            join="override", combine_attrs="override")
+        part.attrs = dict(self.datasets[own].attrs)
+        part[self.dim].encoding = dict(self.datasets[own][self.dim].encoding)
+        return part
+
+    def close(self) -> None:
+        """Close every file."""
+        for ds in self.datasets:
+            ds.close()
+
+    def __enter__(self) -> InputSeries:
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.close()
+
+
+def open_series(paths: Sequence[os.PathLike | str], *,
+                chunk_bytes: int = CHUNK_BYTES) -> InputSeries:
+    """Open the files of a time series once each, checked as :func:`open_inputs` checks them.
+
+    Parameters
+    ----------
+    paths : sequence of path
+        One file or a multi-file set (any order; put in time order).
+    chunk_bytes : int
+        Target chunk size in bytes (float64 working copy of one chunk of the whole series).
+    """
+    if not paths:
+        raise InputFileError("no input file given")
+    check_input_count(len(paths))
+    opened: list[xr.Dataset] = []
+    try:
+        found = []
+        for raw in paths:
+            path = _existing(raw)
+            ds = _open_one(path)
+            opened.append(ds)
+            _load_small(ds, find_time_dim(ds, str(path)))
+            found.append(_span(ds, path))
+        order = sorted(range(len(found)), key=lambda i: found[i][0])
+        _in_order(found)
+        datasets = [opened[i] for i in order]
+        paths_in_order = [found[i][4] for i in order]
+        first = datasets[0]
+        dim = find_time_dim(first, str(paths_in_order[0]))
+        names = _time_variables(first, dim)
+        for ds, path in zip(datasets, paths_in_order, strict=True):
+            _check_variables(ds, dim, path, names, paths_in_order[0])
+        n_time = sum(ds.sizes[dim] for ds in datasets)
+        probe = first.isel({dim: slice(0, 1)}).isel({dim: np.zeros(n_time, dtype=int)})
+        chunks = conversion_chunks(probe, dim, chunk_bytes)
+    except BaseException:
+        for ds in opened:
+            ds.close()
+        raise
+    label = (str(paths_in_order[0]) if len(paths_in_order) == 1
+             else f"{paths_in_order[0]} ... {paths_in_order[-1]}")
+    return InputSeries(paths_in_order, datasets, dim, chunks, label)
+
+
+def _load_small(ds: xr.Dataset, dim: str) -> None:
+    """Read into memory every variable of ``ds`` but those to convert (time axis, bounds...)."""
+    big = _time_variables(ds, dim)
+    for name in ds.variables:
+        if name not in big:
+            ds[name].load()
 
 
 def _check_units(ds: xr.Dataset, dim: str, path) -> None:
