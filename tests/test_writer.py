@@ -6,6 +6,7 @@ import errno
 import os
 import re
 from datetime import datetime, timezone
+from pathlib import Path
 
 import cftime
 import dask.array as da
@@ -601,6 +602,31 @@ def test_quota_and_a_writable_disk_are_told_apart(tmp_path, small, monkeypatch):
             OutputError, match=r"p\.nc: permission denied \(is the folder writable\?\)$"):
         write_netcdf(small, tmp_path / "p.nc")
     assert list(tmp_path.iterdir()) == []
+
+
+def test_a_file_system_of_no_size_is_not_a_full_disk(tmp_path, small, monkeypatch):
+    # statvfs of a pseudo file system (Linux /proc, /sys) gives 0 blocks in all, so 0 free:
+    # that is not a full disk, and the message must not send the user to free space.
+    real = os.statvfs
+
+    def pseudo(path):
+        st = real(path)
+        return os.statvfs_result((st.f_bsize, st.f_frsize, 0, 0, 0, st.f_files, st.f_ffree,
+                                  st.f_favail, st.f_flag, st.f_namemax))
+
+    monkeypatch.setattr(os, "statvfs", pseudo)
+    with _partial_then(PermissionError(errno.EACCES, "Permission denied")), pytest.raises(
+            OutputError, match=r"ps\.nc: permission denied \(is the folder writable\?\)$"):
+        write_netcdf(small, tmp_path / "ps.nc")
+
+
+@pytest.mark.skipif(not Path("/proc/self").is_dir(), reason="needs Linux /proc")
+def test_writing_into_proc_is_not_called_a_full_disk(small):
+    # /proc exists but takes no new files (ENOENT on create; procfs, Linux man proc(5)).
+    with pytest.raises(OutputError) as info:
+        write_netcdf(small, Path("/proc/bcgen-test.nc"))
+    assert str(info.value) == ("cannot write /proc/bcgen-test.nc: the folder /proc does not "
+                               "take new files (a special file system?)")
 
 
 def test_library_failure_is_one_line_and_leaves_no_file(tmp_path, small, monkeypatch):

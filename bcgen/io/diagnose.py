@@ -31,7 +31,9 @@ def disk_is_full(folder) -> bool:
 
     Looks at ``os.statvfs(folder).f_bavail``, the blocks free to unprivileged users,
     times the fragment size; below :data:`NEARLY_FULL_BYTES` the disk counts as full.
-    False when the file system cannot tell (or on a platform without ``statvfs``).
+    False when the file system cannot tell (or on a platform without ``statvfs``), and for
+    a file system of no size at all (``f_blocks`` 0: /proc, /sys and other pseudo file
+    systems, which hold no files of ours and are never "full").
     """
     statvfs = getattr(os, "statvfs", None)
     if statvfs is None:  # pragma: no cover - not on POSIX
@@ -39,6 +41,8 @@ def disk_is_full(folder) -> bool:
     try:
         st = statvfs(folder)
     except OSError:
+        return False
+    if st.f_blocks == 0:
         return False
     return st.f_bavail * max(st.f_frsize, 1) < NEARLY_FULL_BYTES
 
@@ -57,6 +61,8 @@ def write_failure(path, exc: BaseException) -> str:
         reason = _ERRNO_TEXT[code]
     elif disk_is_full(path.parent):
         reason = _NO_SPACE
+    elif code == errno.ENOENT and path.parent.is_dir():
+        reason = f"the folder {path.parent} does not take new files (a special file system?)"
     elif isinstance(exc, OSError):
         reason = _ERRNO_TEXT.get(code or 0) or exc.strerror or _one_line(exc)
     else:
