@@ -164,9 +164,11 @@ def _range_parts(text: str) -> tuple[float, float, float, int]:
         raise _fail(text, "a range needs a step, as in '130ka..115ka/1ka'")
     start_text, _, end_text = span.partition("..")
     start, end, step = parse_epoch(start_text), parse_epoch(end_text), parse_duration(step_text)
-    n = int(np.floor(abs(end - start) / step + 1e-9)) + 1
-    if n > MAX_RANGE_EPOCHS:
-        raise _fail(text, f"the range has {n} epochs; the limit is {MAX_RANGE_EPOCHS:,}")
+    count = np.floor(abs(end - start) / step + 1e-9) + 1  # a float: may be huge, even inf
+    if not count <= MAX_RANGE_EPOCHS:
+        size = f"{count:,.0f}" if count < 1e15 else "more than 10^15"
+        raise _fail(text, f"the range has {size} epochs; the limit is {MAX_RANGE_EPOCHS:,}")
+    n = int(count)
     direction = 1.0 if end >= start else -1.0
     return start, end, direction * step, n
 

@@ -197,3 +197,13 @@ def test_format_epoch_examples():
 )
 def test_format_then_parse_returns_the_epoch(years, style):
     assert parse_epoch(format_epoch(years, style)) == years
+
+
+@pytest.mark.parametrize(("text", "count"), [
+    ("6ka..0ka/1e-5yr", "600,000,001"),
+    ("6ka..0ka/1e-300yr", "more than 10\\^15"),
+    ("6ka..0ka/1e-320yr", "more than 10\\^15"),  # 6000 / 1e-320 overflows to infinity
+])
+def test_a_range_of_too_many_epochs_is_refused_with_its_size(text, count):
+    with pytest.raises(EpochError, match=rf"the range has {count} epochs; the limit is 50,000,000"):
+        parse_epochs(text)
