@@ -140,8 +140,10 @@ def epochs_years(value, name: str = "years_from_1950",
 
 def fraction(value, name: str) -> float:
     """Check a fraction in (0, 1]."""
-    f = number(value, name, BcgenError, "a fraction in (0, 1]")
-    if not 0.0 < f <= 1.0:
+    given = real_array(value, name, BcgenError, "a fraction in (0, 1]")
+    f = float(given.reshape(())) if given.size == 1 else number(given, name, BcgenError,
+                                                                "a fraction in (0, 1]")
+    if not 0.0 < f <= 1.0:  # NaN included
         raise BcgenError(f"{name}: expected a fraction in (0, 1]; got {f:g}")
     return f
 

@@ -55,11 +55,32 @@ def memory_limit_bytes() -> int:
 
 
 def _human(n: float) -> str:
+    try:
+        n = float(n)
+    except OverflowError:  # an int beyond any double
+        n = math.inf
+    if not n < 2**50 * 1e6:
+        return "more than a million PiB"
     for unit in ("bytes", "KiB", "MiB", "GiB", "TiB", "PiB"):
         if n < 1024 or unit == "PiB":
             return f"{n:.0f} {unit}" if unit == "bytes" else f"{n:.1f} {unit}"
         n /= 1024
     return f"{n:.1f} PiB"  # pragma: no cover
+
+
+def _about(n: float) -> str:
+    """``about 1.2 GiB``, or ``more than a million PiB`` for a size beyond all reason."""
+    text = _human(n)
+    return text if text.startswith("more than") else f"about {text}"
+
+
+def _count(n: float) -> str:
+    """Write a count with thousands separators, or its order when it is beyond all reason."""
+    try:
+        small = float(n) < 1e15
+    except OverflowError:
+        small = False
+    return f"{n:,.0f}" if small else "more than 10^15"
 
 
 def grid_cells(grid) -> tuple[int, str]:
@@ -103,7 +124,7 @@ def check_timeslice(spec, limit: int | None = None) -> None:
         if product in _STEPS:
             n = _STEPS[product] * cells * BYTES_PER_VALUE
             need += n
-            parts.append(f"{product} {_STEPS[product]} x {cells:,} cells")
+            parts.append(f"{product} {_STEPS[product]} x {_count(cells)} cells")
     table = getattr(spec, "timestep_table", None)
     if table is not None and "timestep_table" in spec.products:
         rows = 1440.0 / float(table.timestep_minutes) * len(table.days or range(366)) \
@@ -113,11 +134,11 @@ def check_timeslice(spec, limit: int | None = None) -> None:
         if n > limit:
             raise TooLargeError(
                 f"timestep_table.timestep_minutes {table.timestep_minutes:g}: the table would "
-                f"have {rows:,.0f} rows, about {_human(n)}; the limit is {_human(limit)} (half "
+                f"have {_count(rows)} rows, {_about(n)}; the limit is {_human(limit)} (half "
                 "this machine's memory): use a longer timestep, fewer days or fewer points")
     if need > limit:
         raise TooLargeError(
-            f"{key}: the products need about {_human(need)} of memory ({'; '.join(parts)}); "
+            f"{key}: the products need {_about(need)} of memory ({'; '.join(parts)}); "
             f"the limit is {_human(limit)} (half this machine's memory): use a coarser grid "
             "or fewer gridded products")
 
@@ -127,5 +148,5 @@ def check_transient_step(spec) -> None:
     cells, key = grid_cells(spec.grid)
     if cells > MAX_STEP_CELLS:
         raise TooLargeError(
-            f"{key}: one time step has {cells:,} cells, about {_human(cells * 8.0)} as "
+            f"{key}: one time step has {_count(cells)} cells, {_about(cells * 8)} as "
             f"float64; the limit is {MAX_STEP_CELLS:,} cells: use a coarser grid")

@@ -93,9 +93,19 @@ MORE: dict = {
                           "products: [monthly_insolation_fixed_day]\n"),
     "huge_gaussian.yaml": spec("experiment: {name: f}\nepoch: 6ka\ngrid: {kind: gaussian, "
                                "nlat: 20000}\nproducts: [daily_insolation]\n"),
+    # 1.2-second steps at 200 points: 72,000 x 366 x 200 rows
     "tiny_step.yaml": spec("experiment: {name: f}\nepoch: 6ka\ntimestep_table: {timestep_minutes: "
-                           "0.0001, points: [{lat_deg: 0, lon_deg: 0}]}\n"
-                           "products: [timestep_table]\n"),
+                           "0.02, points: ["
+                           + ", ".join(f"{{lat_deg: 0, lon_deg: {k}}}" for k in range(200))
+                           + "]}\nproducts: [timestep_table]\n"),
+    "subsecond_step.yaml": spec("experiment: {name: f}\nepoch: 6ka\ntimestep_table: "
+                                "{timestep_minutes: 1e-9, points: [{lat_deg: 0, lon_deg: 0}]}\n"
+                                "products: [timestep_table]\n"),
+    "absurd_grid.yaml": spec("experiment: {name: f}\nepoch: 6ka\ngrid: {kind: regular, "
+                             "resolution_deg: 1e-300}\nproducts: [daily_insolation]\n"),
+    "absurd_transient.yaml": spec("experiment: {name: f}\ntransient: {start_epoch: 6ka, "
+                                  "end_epoch: 5990 BP}\ngrid: {kind: regular, resolution_deg: "
+                                  "1e-300}\nproducts: [daily_insolation]\n"),
     "fine_transient.yaml": spec("experiment: {name: f}\ntransient: {start_epoch: 6ka, end_epoch: "
                                 "5990 BP}\ngrid: {kind: regular, resolution_deg: 0.001}\n"
                                 "products: [daily_insolation]\n"),
@@ -345,9 +355,20 @@ CASES = {
           r"of memory", ["fine_lon.yaml"]),
         C("gaussian-grid-huge", "build huge_gaussian.yaml -o out",
           r"^grid\.nlat 20000: the products need about [\d.]+ TiB", ["huge_gaussian.yaml"]),
-        C("timestep-of-microseconds", "build tiny_step.yaml -o out",
-          r"^timestep_table\.timestep_minutes 0\.0001: the table would have 5,270,400,000 rows, "
+        C("timestep-of-a-second-at-many-points", "build tiny_step.yaml -o out",
+          r"^timestep_table\.timestep_minutes 0\.02: the table would have 5,270,400,000 rows, "
           r"about [\d.]+ GiB; the limit is", ["tiny_step.yaml"]),
+        C("grid-step-beyond-all-reason", "build absurd_grid.yaml -o out",
+          r"^grid\.resolution_deg 1e-300: the products need more than a million PiB of memory "
+          r"\(daily_insolation 366 x more than 10\^15 cells\)", ["absurd_grid.yaml"]),
+        C("transient-grid-step-beyond-all-reason", "build absurd_transient.yaml -o out",
+          r"^grid\.resolution_deg 1e-300: one time step has more than 10\^15 cells, more than "
+          r"a million PiB as float64", ["absurd_transient.yaml"]),
+        C("timestep-below-a-second", "build subsecond_step.yaml -o out",
+          r"^subsecond_step\.yaml:\d+:\d+: timestep_table\.timestep_minutes: 1e-09 minutes is "
+          r"shorter than one second", ["subsecond_step.yaml"]),
+        C("orbit-range-step-overflowing", "orbit 6ka..0ka/1e-320yr",
+          r"^cannot read epoch '6ka\.\.0ka/1e-320yr': the range has more than 10\^15 epochs"),
         C("transient-grid-too-fine", "build fine_transient.yaml -o out",
           r"^grid\.resolution_deg 0\.001: one time step has 64,800,000,000 cells, about "
           r"[\d.]+ GiB as float64; the limit is 1,000,000,000 cells", ["fine_transient.yaml"]),
@@ -358,7 +379,7 @@ CASES = {
           r"^big_template\.yaml:\d+:\d+: templates\[0\]: \S*big\.tmpl: template of 1\.0 MiB; "
           r"templates are limited to 1\.0 MiB", ["big_template.yaml", "big.tmpl"]),
         C("orbit-range-over-the-limit", "orbit 0ka..100000ka/1yr",
-          r"^cannot read epoch '0ka\.\.100000ka/1yr': the range has 100000001 epochs; the limit "
+          r"^cannot read epoch '0ka\.\.100000ka/1yr': the range has 100,000,001 epochs; the limit "
           r"is 50,000,000"),
     ],
     "one-validation-layer": [
@@ -377,7 +398,8 @@ CASES = {
           "--min-valid-fraction 2", r"^--min-valid-fraction: expected a fraction in \(0, 1\]; "
           r"got 2$", ["model.nc"]),
         C("min-valid-fraction-nan", "convert model.nc -o out.nc --epoch 6ka "
-          "--min-valid-fraction nan", r"^--min-valid-fraction: expected finite a fraction",
+          "--min-valid-fraction nan",
+          r"^--min-valid-fraction: expected a fraction in \(0, 1\]; got nan$",
           ["model.nc"]),
         C("epoch-overflows", "orbit 1e400ka", r"^cannot read epoch '1e400ka': the number is too "
           r"large"),

@@ -34,6 +34,12 @@ class TimestepTableSpec:
     def __post_init__(self) -> None:
         p = "timestep_table"
         step = check_number(f"{p}.timestep_minutes", self.timestep_minutes, 0, 1440, lo_open=True)
+        if step < 1.0 / 60.0:
+            raise FieldError(
+                f"{p}.timestep_minutes",
+                f"{step:g} minutes is shorter than one second (model time steps are minutes "
+                "long); expected a divisor of the day such as 10, 15, 20, 30 or 60",
+            )
         per_day = 1440.0 / step
         if abs(per_day - round(per_day)) > 1e-9:
             raise FieldError(
