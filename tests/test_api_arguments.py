@@ -146,6 +146,21 @@ def test_cli_spec_and_api_warn_alike_of_an_implausible_solar_constant(run_cli, s
     assert lines[0].endswith(text.replace("solar_constant_wm2", "--solar-constant"))
 
 
+def test_a_build_warns_once_of_a_spec_s_implausible_solar_constant(run_cli, tmp_path):
+    # The spec reader and every insolation function the build reaches see the same value;
+    # the user is told once (the range is common practice, as above).
+    spec = tmp_path / "s.yaml"
+    spec.write_text("experiment: {name: s}\nepoch: 6ka\nsolar_constant_wm2: 800\n"
+                    "grid: {kind: zonal, resolution_deg: 30}\n"
+                    "products: [daily_insolation, monthly_insolation_fixed_angle]\n",
+                    encoding="utf-8")
+    status, _, err = run_cli(["build", str(spec), "-o", str(tmp_path / "out")])
+    assert status == 0
+    assert [line for line in err.splitlines() if "outside 900-1500" in line] == [
+        "bcgen: warning: solar_constant_wm2: 800 W m-2 is outside 900-1500 W m-2, the range "
+        "expected for the Earth; check the value and its units"]
+
+
 def test_a_plausible_solar_constant_does_not_warn():
     with warnings.catch_warnings():
         warnings.simplefilter("error", bcgen.errors.ImplausibleValueWarning)

@@ -184,7 +184,7 @@ def _main(argv: list[str] | None) -> int:
         warnings.simplefilter("default", BcgenWarning)
         if args.quiet >= 2:
             warnings.simplefilter("ignore")
-        warnings.showwarning = _show_warning  # restored when the block ends
+        warnings.showwarning = _warning_printer()  # restored when the block ends
         try:
             status = int(args._run(args) or 0)
         except BcgenError as exc:
@@ -212,8 +212,21 @@ def _one_line(message: str) -> str:
     return " ".join(message.split())
 
 
-def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
-    print(f"bcgen: warning: {_one_line(str(message))}", file=file or sys.stderr)
+def _warning_printer():
+    """Return a ``warnings.showwarning`` that prints each warning's text once per command.
+
+    The same fact can be warned of on several routes in one run (a spec's implausible
+    solar constant by the spec reader, then by each insolation function it reaches).
+    """
+    shown: set[str] = set()
+
+    def show(message, category, filename, lineno, file=None, line=None) -> None:
+        text = _one_line(str(message))
+        if text not in shown:
+            shown.add(text)
+            print(f"bcgen: warning: {text}", file=file or sys.stderr)
+
+    return show
 
 
 if __name__ == "__main__":  # pragma: no cover
