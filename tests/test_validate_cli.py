@@ -202,3 +202,32 @@ def test_file_calendar_needs_accepting(capsys, files):
     status, out, err = run(capsys, str(files["cal360"]), "--spec", str(files["spec"]),
                            "--accept-file-calendar")
     assert status == 0 and err == "" and "verdict: CONSISTENT" in out
+
+
+@pytest.mark.parametrize(("order", "why"), [
+    (np.arange(365)[::-1], "time values of 'time' do not increase"),  # reversed
+    (np.r_[0:100, 50:365], "time values of 'time' do not increase"),  # days 50-99 twice
+    (np.arange(1), "one time step without bounds: cannot tell which interval it stands for"),
+])
+def test_validate_and_convert_refuse_a_broken_time_axis_alike(run_cli, tmp_path, order, why):
+    # Daily noleap means stamped at noon, no bounds (CF 1.11 §4.4): a series whose times
+    # go back, repeat, or cannot be placed is refused in the same words by both commands.
+    import datetime
+
+    import cftime
+
+    times = [cftime.DatetimeNoLeap(1, 1, 1, 12) + datetime.timedelta(days=int(d)) for d in order]
+    ds = xr.Dataset(
+        {"rsdt": (("time", "lat"), np.full((len(order), 3), 300.0),
+                  {"units": "W m-2", "standard_name": "toa_incoming_shortwave_flux"})},
+        coords={"time": ("time", times), "lat": ("lat", [-45.0, 0.0, 45.0],
+                                                   {"units": "degrees_north"})})
+    path = tmp_path / "broken.nc"
+    ds.to_netcdf(path, encoding={"time": {"units": "days since 0001-01-01",
+                                          "calendar": "noleap"}})
+    spec = write_spec(tmp_path)
+    for argv in (["validate", path, "--spec", spec],
+                 ["convert", path, "-o", tmp_path / "out.nc", "--epoch", "6ka"]):
+        status, _, err = run_cli(argv)
+        assert status == 2 and why in one_error_line(err), err
+    assert not (tmp_path / "out.nc").exists()

@@ -162,6 +162,19 @@ def missing_calendar_error(where, name: str) -> InputFileError:
                           "expected the model's CF calendar (e.g. calendar = \"noleap\")")
 
 
+def check_time_increases(values, where, name: str) -> None:
+    """Refuse an empty time axis or one whose values do not strictly increase.
+
+    CF 1.11 §4.4 does not require it, but a model's output series and climatologies
+    always increase; repeated or reversed times mean a file joined or edited wrongly.
+    """
+    values = np.asarray(values)
+    if values.size == 0:
+        raise InputFileError(f"{where}: the time axis '{name}' is empty")
+    if values.size > 1 and not all(b > a for a, b in zip(values[:-1], values[1:], strict=True)):
+        raise InputFileError(f"{where}: time values of '{name}' do not increase")
+
+
 def bounds_variable(var) -> str | None:
     """Name of a time axis's bounds: ``climatology`` (CF §7.4) or ``bounds`` (§7.1), or None."""
     return var.attrs.get("climatology") or var.attrs.get("bounds")

@@ -35,7 +35,7 @@ from typing import Literal
 import cftime
 import numpy as np
 
-from bcgen.cf.reader import find_time_dim
+from bcgen.cf.reader import check_time_increases, find_time_dim
 from bcgen.errors import InputFileError
 from bcgen.solar_calendar.calendars import (
     DEPRECATED_CALENDAR_NAMES,
@@ -157,10 +157,7 @@ def read_time_axis(ds, source: str = "input", *, cyclic: bool | None = None,
     except Exception as exc:  # CalendarError is a BcgenError already naming the source
         raise InputFileError(str(exc)) from None
     dates = _as_cftime(values, cal.name)
-    if dates.size == 0:
-        raise InputFileError(f"{source}: the time axis '{dim}' is empty")
-    if dates.size > 1 and not all(b > a for a, b in zip(dates[:-1], dates[1:], strict=True)):
-        raise InputFileError(f"{source}: time values of '{dim}' do not increase")
+    check_time_increases(dates, source, dim)
     clim_name = tvar.attrs.get("climatology") or tvar.encoding.get("climatology")
     bounds_name = tvar.attrs.get("bounds") or tvar.encoding.get("bounds")
     climatology = None

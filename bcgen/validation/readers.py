@@ -67,6 +67,7 @@ import numpy as np
 
 from bcgen.cf import LATITUDE_UNITS
 from bcgen.cf.reader import (
+    check_time_increases,
     coordinate_kind,
     is_cf_angle_units,
     missing_calendar_error,
@@ -490,6 +491,7 @@ def _read_time(ds, dim: str, where: str, notes: list[str]):
     t = np.asarray(time.values, dtype=float)
     if t.ndim != 1 or not np.all(np.isfinite(t)):
         raise InputFileError(f"{where}: time values must be a 1-D axis without missing values")
+    check_time_increases(t, where, dim)
     bounds_name = time.attrs.get("bounds") or time.attrs.get("climatology")
     climatology = "climatology" in time.attrs and bounds_name == time.attrs.get("climatology")
     bounds = None
@@ -575,6 +577,9 @@ def _infer_intervals(t, factor, to_dates, day_of_year, cal, where, notes):
         end = np.array([starts[int(y)][m] for y, m in zip(year, months, strict=True)])
         at_midnight = at_midnight and np.allclose(doy, start, atol=1e-6)
         what = "calendar month"
+    elif t.size == 1:
+        raise InputFileError(f"{where}: one time step without bounds: cannot tell which "
+                             "interval it stands for; add a CF bounds variable (CF §7.1)")
     else:
         raise InputFileError(
             f"{where}: the time axis has no bounds and its spacing ({step:g} days) is neither "
