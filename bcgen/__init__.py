@@ -136,6 +136,15 @@ def build(spec: ExperimentSpec, output_dir=None, *, force: bool = False,
         The files written (name, bytes, sha256, product, description) and the
         comparison with the spec's expected orbit values, if any.
     """
+    from bcgen import arguments
+    from bcgen.spec import ExperimentSpec
+
+    if not isinstance(spec, ExperimentSpec):
+        raise SpecError(f"spec: expected an ExperimentSpec (from bcgen.load_spec), got "
+                        f"{type(spec).__name__}")
+    output_dir = arguments.path(output_dir, "output_dir", optional=True)
+    force = arguments.flag(force, "force")
+    command = arguments.text(command, "command", optional=True, what="the command line text")
     if spec.is_transient:
         from bcgen.transient import build_transient
 

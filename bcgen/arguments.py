@@ -40,10 +40,139 @@ MAX_SOLAR_CONSTANT_WM2 = 5000.0
 RADIAN_LIKE_OBLIQUITY_MAX = 1.5708
 
 
+def shown(value) -> str:
+    """Return a value as a message shows it: on one line, at most about 60 characters."""
+    if isinstance(value, np.ndarray) and value.size != 1:
+        return f"an array of shape {value.shape}"
+    text = " ".join(repr(value).split())
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
 def _describe(value) -> str:
     if isinstance(value, str):
-        return f"the string {str(value)!r}"
-    return repr(value)
+        return f"the string {shown(str(value))}"
+    return shown(value)
+
+
+def one_of(value, choices) -> bool:
+    """Tell whether ``value`` is one of the text ``choices`` (False for any non-text value).
+
+    A choice argument given an array, a dict or another unhashable value is refused with
+    the same message as an unknown name, instead of failing inside ``value in choices``.
+    """
+    return isinstance(value, str) and value in choices
+
+
+def choice(value, name: str, choices, error: type[BcgenError] = BcgenError,
+           what: str = "value") -> str:
+    """Return ``value`` if it is one of ``choices``; else refuse it, listing them.
+
+    The message is ``"{name}: unknown {what} {value!r}; expected one of a, b"``.
+    """
+    if not one_of(value, choices):
+        raise error(f"{name}: unknown {what} {shown(value)}; expected one of "
+                    f"{', '.join(choices)}")
+    return value
+
+
+def flag(value, name: str, error: type[BcgenError] = BcgenError) -> bool:
+    """Return a yes/no argument, refusing anything but True or False (numpy's too)."""
+    if not isinstance(value, (bool, np.bool_)):
+        raise error(f"{name}: expected True or False, got {_describe(value)}")
+    return bool(value)
+
+
+def whole_number(value, name: str, error: type[BcgenError] = BcgenError, *,
+                 low: int, high: int, what: str = "a whole number") -> int:
+    """Return a whole number in [low, high]; refuse text, booleans, fractions and arrays."""
+    if isinstance(value, (bool, np.bool_)) or not isinstance(value, (numbers.Real, np.ndarray)):
+        raise error(f"{name}: expected {what} from {low:,} to {high:,}, got {_describe(value)}")
+    n = number(value, name, error, f"{what} from {low:,} to {high:,}")
+    if n != round(n) or not low <= n <= high:
+        raise error(f"{name}: expected {what} from {low:,} to {high:,}, got {n:g}")
+    return int(n)
+
+
+def bounded_number(value, name: str, error: type[BcgenError] = BcgenError, *,
+                   low: float = -np.inf, high: float = np.inf, what: str = "a number",
+                   low_open: bool = False) -> float:
+    """Return one finite number in [low, high] (or (low, high] with ``low_open``)."""
+    x = number(value, name, error, what)
+    if x < low or x > high or (low_open and x == low):
+        lo = "(" if low_open else "["
+        raise error(f"{name}: expected {what} in {lo}{low:g}, {high:g}], got {x:g}")
+    return x
+
+
+def path(value, name: str, error: type[BcgenError] = BcgenError, *,
+         optional: bool = False):
+    """Return a file or folder path as a :class:`pathlib.Path`; refuse other values and ''.
+
+    With ``optional``, None is returned as None.
+    """
+    import os
+    from pathlib import Path
+
+    if value is None and optional:
+        return None
+    if isinstance(value, bytes):
+        value = os.fsdecode(value)
+    if not isinstance(value, (str, os.PathLike)) or str(value) == "":
+        raise error(f"{name}: expected a path{' or None' if optional else ''}, got "
+                    f"{_describe(value)}")
+    return Path(value)
+
+
+def text(value, name: str, error: type[BcgenError] = BcgenError, *,
+         optional: bool = False, what: str = "text") -> str | None:
+    """Return a text argument; refuse other values (None too unless ``optional``)."""
+    if value is None and optional:
+        return None
+    if not isinstance(value, str):
+        raise error(f"{name}: expected {what}{' or None' if optional else ''}, got "
+                    f"{_describe(value)}")
+    return value
+
+
+def epoch_text(value, name: str, error: type[BcgenError] = EpochError) -> None:
+    """Refuse epoch text that :func:`bcgen.epochs.parse_epoch` cannot read, naming ``name``."""
+    from bcgen.epochs import parse_epoch
+
+    try:
+        parse_epoch(value)
+    except EpochError as exc:
+        raise error(f"{name}: {exc}") from None
+
+
+def conversion(ds, error: type[BcgenError], *, method: str, methods, cyclic,
+               min_valid_fraction, source, **orbits) -> None:
+    """Check the arguments every conversion takes (one call at the top of each).
+
+    ``ds`` must be an xarray Dataset, ``method`` one of ``methods``, ``cyclic`` None or a
+    bool, ``min_valid_fraction`` a fraction, ``source`` text; each of ``orbits`` given as
+    text must be an epoch.
+    """
+    import xarray as xr
+
+    if not isinstance(ds, xr.Dataset):
+        raise error(f"ds: expected an xarray.Dataset (for instance xarray.open_dataset(path)), "
+                    f"got {type(ds).__name__}")
+    choice(method, "method", methods, error, "method")
+    if cyclic is not None:
+        flag(cyclic, "cyclic", error)
+    fraction(min_valid_fraction, "min_valid_fraction")
+    text(source, "source", error, what="a name of the input for messages")
+    for name, value in orbits.items():
+        if isinstance(value, str):
+            epoch_text(value, name)
+
+
+def non_empty(arr: np.ndarray, name: str, error: type[BcgenError] = BcgenError,
+              what: str = "at least one value") -> np.ndarray:
+    """Refuse an empty array (it has no value to compute with)."""
+    if arr.size == 0:
+        raise error(f"{name}: expected {what}, got an empty array")
+    return arr
 
 
 def real_array(value, name: str, error: type[BcgenError], what: str) -> np.ndarray:
@@ -91,6 +220,7 @@ def number(value, name: str, error: type[BcgenError] = BcgenError,
 def solar_constant_wm2(value, name: str = "solar_constant_wm2") -> np.ndarray:
     """Check a solar constant: positive, finite, at most :data:`MAX_SOLAR_CONSTANT_WM2` W m-2."""
     s0 = real_array(value, name, InsolationError, "a positive number of W m-2")
+    non_empty(s0, name, InsolationError, "a positive number of W m-2")
     bad = s0[~np.isfinite(s0) | (s0 <= 0)]
     if bad.size:
         raise InsolationError(f"{name}: expected a positive number of W m-2; got "

@@ -210,6 +210,7 @@ def iter_epochs(text: str, chunk: int = 100_000):
 
 
 EpochStyle = Literal["auto", "ka", "bp", "ce"]
+_STYLES = ("auto", "ka", "bp", "ce")
 
 
 def format_epoch(years_from_1950: float, style: EpochStyle = "auto") -> str:
@@ -239,6 +240,9 @@ def format_epoch(years_from_1950: float, style: EpochStyle = "auto") -> str:
         :data:`MAX_EPOCH_YEARS` of 1950 CE.
     """
     t = _epoch_number(years_from_1950)
+    if not isinstance(style, str) or style not in _STYLES:
+        raise EpochError(f"style: unknown epoch style {_one_line(style)}; expected one of "
+                         f"{', '.join(_STYLES)}")
     whole = t == round(t)
     if style == "auto":
         style = "ka" if t <= 0 and t % 1000 == 0 else "ce" if whole and t > -1950 else "bp"
@@ -252,15 +256,21 @@ def format_epoch(years_from_1950: float, style: EpochStyle = "auto") -> str:
     return _readable(t, Decimal(-1), Decimal(0), " BP")
 
 
+def _one_line(value) -> str:
+    """Return a value's repr on one line, at most about 60 characters (as arguments.shown)."""
+    text = " ".join(repr(value).split())
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
 def _epoch_number(years_from_1950) -> float:
     if isinstance(years_from_1950, (str, bytes, bool)) or years_from_1950 is None:
         raise EpochError(f"an epoch in years from 1950 CE must be a number; got "
-                         f"{years_from_1950!r} (parse text with parse_epoch)")
+                         f"{_one_line(years_from_1950)} (parse text with parse_epoch)")
     try:
         t = float(years_from_1950)
     except (TypeError, ValueError):
         raise EpochError(f"an epoch in years from 1950 CE must be a number; got "
-                         f"{years_from_1950!r}") from None
+                         f"{_one_line(years_from_1950)}") from None
     if not abs(t) <= MAX_EPOCH_YEARS:
         raise EpochError(f"an epoch must be a finite number of years within "
                          f"{MAX_EPOCH_YEARS:,.0f} of 1950 CE; got {t:g}")

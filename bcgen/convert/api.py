@@ -57,6 +57,8 @@ from dataclasses import dataclass
 import numpy as np
 import xarray as xr
 
+from bcgen import arguments
+from bcgen.arguments import shown
 from bcgen.convert.aggregate import (
     DEFAULT_MIN_VALID_FRACTION,
     IntervalWeights,
@@ -170,7 +172,7 @@ def _model_calendar(axis: TimeAxis, calendar, anchor, source: str) -> ModelCalen
                               f"calendar {name!r} was given; give the file's calendar or none")
     final = anchor if anchor is not None else (given_anchor or Anchor())
     if not isinstance(final, Anchor):
-        raise ConversionError(f"anchor must be an Anchor or 'MM-DD HH:MM'; got {final!r}")
+        raise ConversionError(f"anchor must be an Anchor or 'MM-DD HH:MM'; got {shown(final)}")
     return ModelCalendar(name, final)
 
 
@@ -581,6 +583,9 @@ def to_fixed_angle_months(
         (for series) ``model_year`` coordinates and global attributes recording the
         method, orbit, reference orbit, anchor and end rule.
     """
+    arguments.conversion(ds, ConversionError, method=method, methods=METHODS, cyclic=cyclic,
+                         min_valid_fraction=min_valid_fraction, source=source, orbit=orbit,
+                         reference=reference)
     axis = read_time_axis(ds, source, cyclic=cyclic)
     cal = _model_calendar(axis, calendar, anchor, source)
     if reference is None:
@@ -635,6 +640,8 @@ def to_fixed_day_months(
     :func:`to_fixed_angle_months`), so no orbit is needed. Interpolation and rules as
     in :func:`to_fixed_angle_months`.
     """
+    arguments.conversion(ds, ConversionError, method=method, methods=METHODS, cyclic=cyclic,
+                         min_valid_fraction=min_valid_fraction, source=source)
     axis = read_time_axis(ds, source, cyclic=cyclic, expect="any_months")
     if axis.cyclic:
         years = [axis.date(0.5 * (axis.edges_days[0] + axis.edges_days[-1])).year]

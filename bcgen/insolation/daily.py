@@ -39,7 +39,7 @@ import numpy as np
 from bcgen import arguments
 from bcgen.errors import InsolationError
 from bcgen.insolation.quadrature import mapped_gauss_legendre
-from bcgen.orbit.elements import OrbitalElements
+from bcgen.orbit.elements import OrbitalElements, check_orbit
 from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.solar_calendar.position import SolarYear
 
@@ -96,11 +96,7 @@ def check_one_solar_constant(solar_constant_wm2, name: str = "solar_constant_wm2
 
 def check_method(method: str) -> str:
     """Refuse an unknown daily method, listing the known ones."""
-    if method not in DAILY_METHODS:
-        raise InsolationError(
-            f"method: unknown daily method {method!r}; expected one of {', '.join(DAILY_METHODS)}"
-        )
-    return method
+    return arguments.choice(method, "method", DAILY_METHODS, InsolationError, "daily method")
 
 
 # --- the physics in terms of true longitude ---------------------------------------------
@@ -213,10 +209,17 @@ def insolation_at_true_longitude_wm2(
     numpy.ndarray
         Shape ``orbit.shape + broadcast(latitude_deg, true_longitude_deg).shape``.
     """
+    check_orbit(orbit)
     lat = check_latitude_deg(latitude_deg)
-    lam = np.deg2rad(np.asarray(true_longitude_deg, dtype=float))
-    shape = np.broadcast_shapes(lat.shape, lam.shape)
-    q = daily_mean_insolation_wm2(lat, lam, expand_orbit(orbit, len(shape)), solar_constant_wm2)
+    lam = np.deg2rad(arguments.finite_array(true_longitude_deg, "true_longitude_deg",
+                                            what="true longitudes in degrees"))
+    s0 = check_solar_constant(solar_constant_wm2)
+    shape = arguments.broadcast_shapes([("latitude_deg", lat), ("true_longitude_deg", lam)])
+    if np.broadcast_shapes(s0.shape, orbit.shape + shape) != orbit.shape + shape:
+        raise InsolationError(
+            f"solar_constant_wm2: expected one positive number of W m-2 or an array of the "
+            f"result's shape {orbit.shape + shape}, got an array of shape {s0.shape}")
+    q = daily_mean_insolation_wm2(lat, lam, expand_orbit(orbit, len(shape)), s0)
     return np.broadcast_to(q, orbit.shape + shape).copy()
 
 
@@ -321,6 +324,7 @@ def daily_insolation(
         Values of shape ``orbit.shape + latitude_deg.shape + (n_days,)`` and
         the method label.
     """
+    check_orbit(orbit)
     check_method(method)
     calendar = as_calendar(calendar)
     lat = check_latitude_deg(latitude_deg)
@@ -432,6 +436,7 @@ def instantaneous_insolation(
     numpy.ndarray
         W m-2, the numpy broadcast of ``t_days``, the position and the orbit.
     """
+    check_orbit(orbit)
     lat_deg = check_latitude_deg(latitude_deg)
     lon_deg = arguments.finite_array(longitude_deg, "longitude_deg",
                                      what="longitudes in degrees east")

@@ -30,10 +30,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bcgen import arguments
 from bcgen.insolation.daily import (
     CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
     InsolationError,
     check_latitude_deg,
+    check_one_solar_constant,
     check_solar_constant,
     daily_factor,
     distance_factor,
@@ -47,12 +49,32 @@ from bcgen.insolation.monthly import (
     orbit_blocks,
 )
 from bcgen.insolation.quadrature import integrate_between_kinks
-from bcgen.orbit.elements import OrbitalElements
+from bcgen.orbit.elements import OrbitalElements, check_orbit
 
 #: Default number of instants per orbit for the time integrals (every 3 hours).
 SAMPLES_PER_YEAR = 2920
 #: Huybers (2006)'s default threshold for summer energy, W m-2.
 HUYBERS_THRESHOLD_WM2 = 275.0
+
+
+#: Most instants per orbit (one every 30 s): the integrals are exact to second order in
+#: the spacing long before, and each instant costs memory per latitude.
+MAX_SAMPLES = 1_000_000
+#: Longest year accepted for the energies, days (about 27 Earth years; any planet a
+#: climate model is run for has a shorter one).
+MAX_YEAR_LENGTH_DAYS = 10_000.0
+
+
+def check_samples(samples) -> int:
+    """Return the number of instants per orbit: a whole number from 16 to :data:`MAX_SAMPLES`."""
+    return arguments.whole_number(samples, "samples", InsolationError, low=16, high=MAX_SAMPLES)
+
+
+def check_year_length_days(year_length_days) -> float:
+    """Return a year length in days: a number in (0, :data:`MAX_YEAR_LENGTH_DAYS`]."""
+    return arguments.bounded_number(year_length_days, "year_length_days", InsolationError,
+                                    low=0.0, high=MAX_YEAR_LENGTH_DAYS, low_open=True,
+                                    what="a year length in days")
 
 
 def _insolation_over_orbit(
@@ -65,8 +87,6 @@ def _insolation_over_orbit(
     year from instant k to instant k + 1 (cyclic), shape ``orbit.shape + (1,) * lat.ndim
     + (samples,)``, from Kepler's equation M = E − e sin E.
     """
-    if int(samples) != samples or samples < 16:
-        raise InsolationError(f"samples: expected a whole number of at least 16; got {samples}")
     lat = np.deg2rad(check_latitude_deg(latitude_deg))
     s0 = check_solar_constant(solar_constant_wm2)
     ecc_anomaly = 2.0 * np.pi * (np.arange(int(samples) + 1) + 0.5) / samples
@@ -102,6 +122,8 @@ def _sampled_rows(orbit: OrbitalElements, latitude_deg, solar_constant_wm2, samp
     """
     lat = check_latitude_deg(latitude_deg).ravel()
     flat = flatten_orbit(orbit)
+    if lat.size == 0:
+        return
     for block in orbit_blocks(flat.shape[0], lat.size * int(samples)):
         q, duration = _insolation_over_orbit(flat[block], lat, solar_constant_wm2, samples)
         rows = q.shape[0] * q.shape[1]
@@ -270,7 +292,11 @@ def caloric_half_years(
     CaloricHalfYears
         Arrays of shape ``orbit.shape + latitude_deg.shape``.
     """
+    check_orbit(orbit)
     lat = check_latitude_deg(latitude_deg)
+    check_one_solar_constant(solar_constant_wm2)
+    year_length_days = check_year_length_days(year_length_days)
+    samples = check_samples(samples)
     n_rows = int(np.prod(orbit.shape)) * lat.size
     threshold, summer, total = np.empty(n_rows), np.empty(n_rows), np.empty(n_rows)
     for index, q, duration in _sampled_rows(orbit, lat, solar_constant_wm2, samples):
@@ -324,9 +350,17 @@ def summer_energy_gj_m2(
     numpy.ndarray
         GJ m-2, shape ``orbit.shape + broadcast(latitude, threshold).shape``.
     """
+    check_orbit(orbit)
     lat = check_latitude_deg(latitude_deg)
-    tau = np.asarray(threshold_wm2, dtype=float)
-    shape = np.broadcast_shapes(lat.shape, tau.shape)
+    tau = arguments.finite_array(threshold_wm2, "threshold_wm2", what="thresholds in W m-2")
+    big = tau[np.abs(tau) > arguments.MAX_SOLAR_CONSTANT_WM2]
+    if big.size:
+        raise InsolationError(f"threshold_wm2: expected thresholds in W m-2 within "
+                              f"±{arguments.MAX_SOLAR_CONSTANT_WM2:g}, got {big.ravel()[0]:g}")
+    check_one_solar_constant(solar_constant_wm2)
+    year_length_days = check_year_length_days(year_length_days)
+    samples = check_samples(samples)
+    shape = arguments.broadcast_shapes([("latitude_deg", lat), ("threshold_wm2", tau)])
     tau_rows = np.broadcast_to(tau, orbit.shape + shape).reshape(-1)
     mean_wm2 = np.empty(tau_rows.size)
     for index, q, duration in _sampled_rows(orbit, np.broadcast_to(lat, shape), solar_constant_wm2,

@@ -38,6 +38,7 @@ from typing import Literal
 
 import numpy as np
 
+from bcgen import arguments
 from bcgen.insolation.daily import (
     CMIP6_PICONTROL_SOLAR_CONSTANT_WM2,
     DAILY_METHODS,
@@ -45,7 +46,6 @@ from bcgen.insolation.daily import (
     InsolationError,
     as_calendar,
     check_latitude_deg,
-    check_method,
     check_one_solar_constant,
     check_solar_constant,
     daily_factor,
@@ -58,7 +58,7 @@ from bcgen.insolation.quadrature import (
     mapped_gauss_legendre,
     pieces_between_kinks,
 )
-from bcgen.orbit.elements import OrbitalElements
+from bcgen.orbit.elements import OrbitalElements, check_orbit
 from bcgen.solar_calendar.kepler import true_to_mean
 from bcgen.solar_calendar.months import MonthTable, fixed_angle_months, fixed_day_months
 from bcgen.solar_calendar.position import SolarYear
@@ -285,6 +285,7 @@ def annual_mean_insolation_wm2(
     numpy.ndarray
         W m-2, shape ``orbit.shape + latitude_deg.shape``.
     """
+    check_orbit(orbit)
     lat = np.deg2rad(check_latitude_deg(latitude_deg))
     s0 = check_solar_constant(solar_constant_wm2)
     sub = expand_orbit(orbit, lat.ndim)
@@ -397,12 +398,8 @@ class MonthlyInsolation:
 
 def check_month_definition(definition: str) -> str:
     """Refuse an unknown month definition, listing the known ones."""
-    if definition not in MONTHLY_AVERAGING:
-        raise InsolationError(
-            f"months: unknown month definition {definition!r}; expected one of "
-            f"{', '.join(MONTHLY_AVERAGING)}"
-        )
-    return definition
+    return arguments.choice(definition, "months", MONTHLY_AVERAGING, InsolationError,
+                            "month definition")
 
 
 def monthly_insolation(
@@ -454,8 +451,10 @@ def monthly_insolation(
     fixed-angle month that contains the anchor is split there and each part
     weighted by the length of its own orbital year.
     """
+    check_orbit(orbit)
     check_month_definition(months)
-    check_method(daily_method)
+    arguments.choice(daily_method, "daily_method", DAILY_METHODS, InsolationError,
+                     "daily method")
     calendar = as_calendar(calendar)
     lat = check_latitude_deg(latitude_deg)
     s0 = check_one_solar_constant(solar_constant_wm2)

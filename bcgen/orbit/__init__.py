@@ -20,6 +20,7 @@ from bcgen.orbit import berger1978, fixed, nbody, table
 from bcgen.orbit.elements import (
     PERIHELION_CONVENTIONS,
     OrbitalElements,
+    check_orbit,
     convert_perihelion,
     wrap_angle,
 )
@@ -52,12 +53,12 @@ def solve(years_from_1950, solution: str = "berger1978", **options) -> OrbitalEl
     OrbitError
         For an unknown solution or an option the solution does not take.
     """
-    try:
-        module = SOLUTIONS[solution]
-    except KeyError:
-        raise OrbitError(
-            f"unknown orbital solution {solution!r}; expected one of {', '.join(SOLUTIONS)}"
-        ) from None
+    from bcgen import arguments
+
+    if not arguments.one_of(solution, SOLUTIONS):
+        raise OrbitError(f"unknown orbital solution {arguments.shown(solution)}; expected one "
+                         f"of {', '.join(SOLUTIONS)}")
+    module = SOLUTIONS[solution]
     accepted = [name for name in inspect.signature(module.solve).parameters][1:]
     unknown = sorted(set(options) - set(accepted))
     if unknown:
@@ -66,9 +67,10 @@ def solve(years_from_1950, solution: str = "berger1978", **options) -> OrbitalEl
             f"it takes {', '.join(accepted) or 'no options'}"
         )
     if years_from_1950 is not None:
-        from bcgen.arguments import epochs_years
-
-        epochs_years(years_from_1950, error=OrbitError)  # numbers; finite; within 1e9 years
+        arguments.epochs_years(years_from_1950, error=OrbitError)
+    elif solution != fixed.NAME:
+        raise OrbitError(f"years_from_1950: the {solution} solution needs epochs (years from "
+                         "1950 CE as numbers); got None")  # numbers; finite; within 1e9 years
     return module.solve(years_from_1950, **options)
 
 
@@ -76,6 +78,7 @@ __all__ = [
     "PERIHELION_CONVENTIONS",
     "SOLUTIONS",
     "OrbitalElements",
+    "check_orbit",
     "convert_perihelion",
     "solve",
     "wrap_angle",

@@ -76,16 +76,19 @@ def convert_perihelion(
         For an unknown convention or unit, or a value that is not finite
         (checked before any arithmetic, so no numpy warning is printed).
     """
-    for conv in (from_convention, to_convention):
-        if conv not in _OFFSET_DEG:
+    from bcgen import arguments
+
+    for name, conv in (("from_convention", from_convention), ("to_convention", to_convention)):
+        if not arguments.one_of(conv, _OFFSET_DEG):
             raise OrbitError(
-                f"unknown perihelion convention {conv!r}; expected one of "
-                f"{', '.join(sorted(_OFFSET_DEG))}"
+                f"{name}: unknown perihelion convention {arguments.shown(conv)}; expected one "
+                f"of {', '.join(sorted(_OFFSET_DEG))}"
             )
-    for unit in (from_unit, to_unit):
-        if unit not in ("deg", "rad"):
-            raise OrbitError(f"unknown angle unit {unit!r}; expected 'deg' or 'rad'")
-    given = np.asarray(value, dtype=float)
+    for name, unit in (("from_unit", from_unit), ("to_unit", to_unit)):
+        if not arguments.one_of(unit, ("deg", "rad")):
+            raise OrbitError(f"{name}: unknown angle unit {arguments.shown(unit)}; expected "
+                             "'deg' or 'rad'")
+    given = arguments.real_array(value, "value", OrbitError, "a longitude of perihelion")
     _check(given, np.isfinite(given), "longitude of perihelion must be finite")
     deg = given
     if from_unit == "rad":
@@ -143,6 +146,7 @@ class OrbitalElements:
     def __post_init__(self) -> None:
         from bcgen import arguments
 
+        arguments.text(self.solution, "solution", OrbitError, what="the name of a solution")
         e, eps, varpi = (
             arguments.real_array(getattr(self, name), name, OrbitError, "numbers")
             for name in ("eccentricity", "obliquity_deg", "perihelion_longitude_deg"))
@@ -261,6 +265,18 @@ class OrbitalElements:
         return convert_perihelion(
             self.perihelion_longitude_deg, "perihelion_longitude", convention, "deg", unit
         )
+
+
+def check_orbit(value, name: str = "orbit") -> OrbitalElements:
+    """Return ``value`` if it is :class:`OrbitalElements`; else refuse it, naming ``name``.
+
+    Every public function that takes an orbit calls this first (the check lives here, not
+    in :mod:`bcgen.arguments`, so that the argument checks do not import the orbit).
+    """
+    if not isinstance(value, OrbitalElements):
+        raise OrbitError(f"{name} must be OrbitalElements (from bcgen.orbit.solve); got "
+                         f"{type(value).__name__}")
+    return value
 
 
 def _check(values: np.ndarray, ok: np.ndarray, what: str) -> None:

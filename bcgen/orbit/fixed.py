@@ -60,10 +60,10 @@ def solve(
         raise OrbitError(
             f"the fixed orbital solution needs {', '.join(given)}; missing {', '.join(missing)}"
         )
-    if perihelion_convention not in PERIHELION_CONVENTIONS:
+    if not arguments.one_of(perihelion_convention, PERIHELION_CONVENTIONS):
         raise OrbitError(
             f"the perihelion convention must be stated as one of "
-            f"{', '.join(PERIHELION_CONVENTIONS)}; got {perihelion_convention!r}"
+            f"{', '.join(PERIHELION_CONVENTIONS)}; got {arguments.shown(perihelion_convention)}"
         )
     obliquity_deg = arguments.obliquity_deg(obliquity_deg, idealized=idealized, earth=True)
     varpi = convert_perihelion(perihelion_deg, perihelion_convention, "perihelion_longitude")

@@ -59,6 +59,7 @@ from typing import Literal, get_args
 import cftime
 import numpy as np
 
+from bcgen.arguments import one_of, shown
 from bcgen.errors import CalendarError, DeprecatedCalendarNameWarning
 
 CalendarName = Literal["noleap", "all_leap", "360_day", "proleptic_gregorian", "standard", "julian"]
@@ -179,7 +180,8 @@ def canonical_calendar(name: str, source: str = "calendar") -> str:
     key = str(name).strip().lower()
     if key not in CALENDARS:
         raise CalendarError(
-            f"{source}: unknown calendar {name!r}; expected one of {', '.join(CALENDAR_NAMES)}"
+            f"{source}: unknown calendar {shown(name)}; expected one of "
+            f"{', '.join(CALENDAR_NAMES)}"
         )
     if key in DEPRECATED_CALENDAR_NAMES:
         warnings.warn(
@@ -280,9 +282,10 @@ class Anchor:
     minute: int = 0
 
     def __post_init__(self) -> None:
-        if self.kind not in get_args(AnchorKind):
+        if not one_of(self.kind, get_args(AnchorKind)):
             raise CalendarError(
-                f"unknown anchor kind {self.kind!r}; expected one of {', '.join(ANCHOR_KINDS)}"
+                f"unknown anchor kind {shown(self.kind)}; expected one of "
+                f"{', '.join(ANCHOR_KINDS)}"
             )
         for field, low, high in (
             ("month", 1, 12),
@@ -297,7 +300,8 @@ class Anchor:
                 or not (low <= value <= high)
             ):
                 raise CalendarError(
-                    f"anchor {field} must be a whole number from {low} to {high}; got {value!r}"
+                    f"anchor {field} must be a whole number from {low} to {high}; got "
+                    f"{shown(value)}"
                 )
 
     @property
@@ -441,7 +445,7 @@ class ModelCalendar:
         ):
             raise CalendarError(
                 f"model year must be a whole number from {-MAX_MODEL_YEAR} to {MAX_MODEL_YEAR}; "
-                f"got {year!r}"
+                f"got {shown(year)}"
             )
         if year == 0 and not self.has_year_zero:
             raise CalendarError(

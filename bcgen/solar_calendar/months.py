@@ -50,7 +50,7 @@ import numpy as np
 
 from bcgen.errors import BcgenError
 from bcgen.orbit import solve
-from bcgen.orbit.elements import OrbitalElements
+from bcgen.orbit.elements import OrbitalElements, check_orbit
 from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.solar_calendar.position import SolarYear
 
@@ -151,12 +151,8 @@ class MonthTable:
         ]
 
 
-def _with_month_axis(orbit: OrbitalElements) -> OrbitalElements:
-    if not isinstance(orbit, OrbitalElements):
-        raise BcgenError(
-            f"orbit must be OrbitalElements (from bcgen.orbit.solve); got {type(orbit).__name__}"
-        )
-    return orbit[..., np.newaxis]
+def _with_month_axis(orbit: OrbitalElements, name: str = "orbit") -> OrbitalElements:
+    return check_orbit(orbit, name)[..., np.newaxis]
 
 
 def _as_calendar(calendar: ModelCalendar | str) -> ModelCalendar:
@@ -229,7 +225,7 @@ def fixed_angle_months(
     if reference is None:
         reference = solve(0.0)
     bounds = calendar.month_starts_days(year)
-    ref_year = SolarYear(_with_month_axis(reference), calendar, year)
+    ref_year = SolarYear(_with_month_axis(reference, "reference"), calendar, year)
     solar = SolarYear(_with_month_axis(orbit), calendar, year)
     reference_lam = ref_year.true_longitude_rad(bounds)
     # Orbital phase of each boundary on the epoch's orbit = its phase on the reference orbit

@@ -37,8 +37,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from bcgen.errors import CalendarError, OrbitError
-from bcgen.orbit.elements import OrbitalElements
+from bcgen.errors import CalendarError
+from bcgen.orbit.elements import OrbitalElements, check_orbit
 from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.solar_calendar.kepler import mean_to_true, true_to_mean
 
@@ -77,11 +77,7 @@ class SolarYear:
     _m0: np.ndarray = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
-        if not isinstance(self.orbit, OrbitalElements):
-            raise OrbitError(
-                f"orbit must be OrbitalElements (from bcgen.orbit.solve); got "
-                f"{type(self.orbit).__name__}"
-            )
+        check_orbit(self.orbit)
         calendar = self.calendar
         if not isinstance(calendar, ModelCalendar):
             if not isinstance(calendar, str):

@@ -16,6 +16,7 @@ from pathlib import Path
 
 import yaml
 
+from bcgen import arguments
 from bcgen.epochs import parse_epoch
 from bcgen.errors import BcgenError, DeprecatedCalendarNameWarning, SpecError
 from bcgen.solar_calendar.calendars import (
@@ -408,6 +409,9 @@ def parse_spec_text(
     SpecError
         One line ``file:line:column: key.path: message`` for any problem.
     """
+    filename = arguments.text(filename, "filename", SpecError, what="a file name for messages")
+    base_dir = arguments.path(base_dir, "base_dir", SpecError, optional=True)
+    path = arguments.path(path, "path", SpecError, optional=True)
     if not isinstance(text, str):
         raise error_at(
             filename, None, "", f"expected the text of a spec, got {type(text).__name__}"
@@ -454,7 +458,7 @@ def load_spec(path: str | Path) -> ExperimentSpec:
         For a missing or unreadable file, or an invalid spec (one line naming
         ``file:line:column`` and the key path).
     """
-    file = Path(path)
+    file = arguments.path(path, "path", SpecError)
     name = one_line(str(file))
     try:
         raw = file.read_bytes()

@@ -31,6 +31,7 @@ from typing import Literal
 
 import numpy as np
 
+from bcgen import arguments
 from bcgen.errors import BcgenError, InputFileError, SpecError
 from bcgen.insolation.daily import daily_mean_from_geometry_wm2
 from bcgen.insolation.daily import distance_factor as _distance_factor
@@ -560,9 +561,18 @@ def validate(
     """
     from bcgen.spec import ExperimentSpec, load_spec
 
+    tolerance_wm2, noise_wm2, n_worst, timestep_minutes = _check_options(
+        var, tolerance_wm2, noise_wm2, daily_method, band_edges_deg, n_worst,
+        accept_file_calendar, timestep_minutes)
     if not isinstance(spec, ExperimentSpec):
-        spec = load_spec(spec)
-    files = [model_file] if isinstance(model_file, (str, bytes, os.PathLike)) else list(model_file)
+        spec = load_spec(arguments.path(spec, "spec", SpecError))
+    if isinstance(model_file, (str, bytes, os.PathLike)):
+        files = [arguments.path(model_file, "model_file", InputFileError)]
+    elif isinstance(model_file, (list, tuple)) and model_file:
+        files = [arguments.path(f, "model_file", InputFileError) for f in model_file]
+    else:
+        raise InputFileError(f"model_file: expected a path or a list of paths, got "
+                             f"{arguments.shown(model_file)}")
     if spec.transient is not None:
         _refuse_time_slice_options(
             spec, noise_wm2=noise_wm2 is not None, accept_file_calendar=accept_file_calendar,
@@ -589,6 +599,44 @@ def validate(
         output = read_model_outputs(files, var)
     return validate_output(output, setup, tolerance_wm2, noise_wm2, band_edges_deg, n_worst,
                            accept_file_calendar, daily_method, timestep_minutes)
+
+
+#: Most places reported in the error table.
+MAX_WORST = 1000
+
+
+def _check_options(var, tolerance_wm2, noise_wm2, daily_method, band_edges_deg, n_worst,
+                   accept_file_calendar, timestep_minutes):
+    """Check the options of :func:`validate` by their API names (the command checks its own).
+
+    Returns the numbers as floats and ints: ``(tolerance_wm2, noise_wm2, n_worst,
+    timestep_minutes)``.
+    """
+    error = ValidateOptionError
+    arguments.text(var, "var", error, optional=True, what="a NetCDF variable name")
+    tolerance_wm2 = arguments.bounded_number(tolerance_wm2, "tolerance_wm2", error, low=0.0,
+                                             what="a number of W m-2 >= 0")
+    if noise_wm2 is not None:
+        noise_wm2 = arguments.bounded_number(noise_wm2, "noise_wm2", error, low=0.0,
+                                             what="a number of W m-2 >= 0 or None")
+    if daily_method is not None:
+        arguments.choice(daily_method, "daily_method", DAILY_CONVENTIONS, error,
+                         "daily-mean convention")
+    edges = arguments.latitudes_deg(band_edges_deg, "band_edges_deg")
+    if edges.ndim != 1 or edges.size < 2 or np.any(np.diff(edges) <= 0):
+        raise error("band_edges_deg: expected at least two increasing latitudes, got "
+                    f"{arguments.shown(band_edges_deg)}")
+    n_worst = arguments.whole_number(n_worst, "n_worst", error, low=0, high=MAX_WORST,
+                                     what="a number of places")
+    arguments.flag(accept_file_calendar, "accept_file_calendar", error)
+    if timestep_minutes is not None:
+        step = arguments.bounded_number(timestep_minutes, "timestep_minutes", error, low=0.0,
+                                        high=1440.0, low_open=True, what="minutes")
+        if abs(1440 / step - round(1440 / step)) > 1e-6:
+            raise error(f"timestep_minutes: expected minutes that divide the day (60, 180, "
+                        f"...), got {step:g}")
+        timestep_minutes = step
+    return tolerance_wm2, noise_wm2, n_worst, timestep_minutes
 
 
 #: Options of a time-slice check only: API name -> command-line option (None: API only).
