@@ -144,13 +144,18 @@ def epoch_text(value, name: str, error: type[BcgenError] = EpochError) -> None:
         raise error(f"{name}: {exc}") from None
 
 
+#: Largest model year (in absolute value) bcgen accepts: far beyond any experiment, and well
+#: inside the years cftime can count (it fails with an OverflowError beyond 2**31 - 1).
+MAX_MODEL_YEAR = 1_000_000
+
+
 def conversion(ds, error: type[BcgenError], *, method: str, methods, cyclic,
-               min_valid_fraction, source, **orbits) -> None:
+               min_valid_fraction, source, model_years=None, **orbits) -> None:
     """Check the arguments every conversion takes (one call at the top of each).
 
     ``ds`` must be an xarray Dataset, ``method`` one of ``methods``, ``cyclic`` None or a
-    bool, ``min_valid_fraction`` a fraction, ``source`` text; each of ``orbits`` given as
-    text must be an epoch.
+    bool, ``min_valid_fraction`` a fraction, ``source`` text, ``model_years`` None or a
+    pair (first, last) of model years; each of ``orbits`` given as text must be an epoch.
     """
     import xarray as xr
 
@@ -162,6 +167,15 @@ def conversion(ds, error: type[BcgenError], *, method: str, methods, cyclic,
         flag(cyclic, "cyclic", error)
     fraction(min_valid_fraction, "min_valid_fraction")
     text(source, "source", error, what="a name of the input for messages")
+    if model_years is not None:
+        if not isinstance(model_years, (tuple, list)) or len(model_years) != 2:
+            raise error(f"model_years: expected (first, last) model years, got "
+                        f"{shown(model_years)}")
+        first, last = (whole_number(y, "model_years", error, low=-MAX_MODEL_YEAR,
+                                    high=MAX_MODEL_YEAR, what="model years")
+                       for y in model_years)
+        if last < first:
+            raise error(f"model_years: the last year {last} is before the first {first}")
     for name, value in orbits.items():
         if isinstance(value, str):
             epoch_text(value, name)

@@ -585,7 +585,7 @@ def to_fixed_angle_months(
     """
     arguments.conversion(ds, ConversionError, method=method, methods=METHODS, cyclic=cyclic,
                          min_valid_fraction=min_valid_fraction, source=source, orbit=orbit,
-                         reference=reference)
+                         reference=reference, model_years=model_years)
     axis = read_time_axis(ds, source, cyclic=cyclic)
     cal = _model_calendar(axis, calendar, anchor, source)
     if reference is None:

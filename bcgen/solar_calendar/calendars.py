@@ -59,7 +59,7 @@ from typing import Literal, get_args
 import cftime
 import numpy as np
 
-from bcgen.arguments import one_of, shown
+from bcgen.arguments import MAX_MODEL_YEAR, one_of, shown
 from bcgen.errors import CalendarError, DeprecatedCalendarNameWarning
 
 CalendarName = Literal["noleap", "all_leap", "360_day", "proleptic_gregorian", "standard", "julian"]
@@ -131,10 +131,6 @@ ANCHOR_KINDS: dict[str, str] = {
     "march_equinox": "the March equinox (true longitude 0) is at the anchor date and time",
     "perihelion": "perihelion (true anomaly 0, true longitude ϖ + 180°) is at the anchor time",
 }
-
-#: Largest model year (in absolute value) bcgen accepts: far beyond any experiment, and well
-#: inside the years cftime can count (it fails with an OverflowError beyond 2**31 - 1).
-MAX_MODEL_YEAR = 1_000_000
 
 _NO_YEAR_ZERO = NO_YEAR_ZERO_CALENDARS
 #: English month names, January first (and their usual three-letter abbreviations).
