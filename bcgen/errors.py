@@ -69,5 +69,9 @@ class ImplausibleValueWarning(BcgenWarning):
     """A value far outside the range expected for the Earth, probably in the wrong unit."""
 
 
+class LongComputationWarning(BcgenWarning):
+    """Work that will take minutes (an integration beyond a bundled table), told beforehand."""
+
+
 class TooLargeError(BcgenError):
     """A request whose memory or output would exceed a stated limit (refused before any work)."""

@@ -9,7 +9,7 @@ import pytest
 from published_tables import CMIP6_PICONTROL_TSI_WM2
 
 import bcgen
-from bcgen.errors import OrbitError, OutsideValidityWarning
+from bcgen.errors import LongComputationWarning, OrbitError, OutsideValidityWarning
 from bcgen.orbit import SOLUTIONS, nbody, nbody_generate, precession
 from bcgen.orbit import nbody_integrate as integ
 
@@ -129,6 +129,39 @@ def test_epochs_beyond_the_table_are_integrated_and_cached(tmp_path, monkeypatch
     monkeypatch.setattr(integ, "integrate_rows", refuse)
     again = nbody.solve(t)
     np.testing.assert_array_equal(again.eccentricity, beyond.eccentricity)
+
+
+class _Stop(Exception):
+    pass
+
+
+@pytest.mark.parametrize(("epoch", "words"), [
+    (-5.2e6, r"beyond its bundled table: 0\.20 Myr of planetary motion, roughly \d+ s of CPU"),
+    (-9.0e6, r"beyond its bundled table: 4\.00 Myr of planetary motion, roughly \d+ min"),
+    (3.0e6, r"forward from 2050 CE: 3\.00 Myr of planetary motion, roughly \d+ min"),
+])
+def test_a_long_integration_is_announced_before_it_starts(monkeypatch, tmp_path, epoch, words):
+    # The user is told the size of the work and where it is kept before waiting for it.
+    def stop(*args):
+        raise _Stop
+
+    monkeypatch.setattr(integ, "integrate_rows", stop)
+    monkeypatch.setattr(integ, "de421_state", lambda: None)
+    nbody._evaluated.cache_clear()
+    nbody._extended.cache_clear()
+    with pytest.warns(LongComputationWarning, match=words) as record, pytest.raises(_Stop):
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", OutsideValidityWarning)
+            nbody.solve(np.array([epoch]))
+    assert str(tmp_path / "cache") in str(record[0].message)
+
+
+def test_a_short_integration_is_not_announced(monkeypatch, tmp_path):
+    monkeypatch.setattr(nbody_generate, "CHUNK_ROWS", 20)  # 2 kyr: seconds of work
+    monkeypatch.setenv("BCGEN_NBODY_TABLE", str(truncated_table(tmp_path)))
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", LongComputationWarning)
+        nbody.solve(np.array([-50_500.0]))
 
 
 # --- after 2050 CE: forward from the DE421 state, cached on disk ------------------------------

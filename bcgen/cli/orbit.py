@@ -16,7 +16,7 @@ import numpy as np
 
 from bcgen.cli.common import json_text
 from bcgen.epochs import ACCEPTED_FORMS, count_epochs, epoch_labels, iter_epochs, parse_epochs
-from bcgen.errors import OrbitError
+from bcgen.errors import LongComputationWarning, OrbitError
 from bcgen.orbit import PERIHELION_CONVENTIONS, SOLUTIONS, OrbitalElements, solve
 
 #: Output columns, in order: the JSON keys and the CSV header.
@@ -317,18 +317,20 @@ def run(args: argparse.Namespace) -> int:
     first = True
     warned: set[type] = set()
     for years, labels in chunks:
-        with warnings.catch_warnings(record=True) as caught:
+        caught = []
+        with warnings.catch_warnings():
             warnings.simplefilter("always")
+            warnings.showwarning = _keep_for_later(caught)
             try:
                 elements = solve(years, args.solution, **options)
             except OrbitError as exc:
                 if args.solution != "fixed":
                     raise
                 raise OrbitError(name_fixed_option(str(exc))) from None
-        for w in caught:  # one warning of each kind for the whole range, not one per chunk
-            if w.category not in warned:
-                warned.add(w.category)
-                warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+        for message, category, filename, lineno in caught:  # one of each kind per range
+            if category not in warned:
+                warned.add(category)
+                warnings.warn_explicit(message, category, filename, lineno)
         records = rows(labels, elements)
         if args.format == "json":
             body = json_text(records)[2:-2]  # the records without the list's brackets
@@ -345,3 +347,19 @@ def run(args: argparse.Namespace) -> int:
     if args.format == "json":
         out.write("\n]\n" if not first else "[]\n")
     return 0
+
+
+def _keep_for_later(caught: list):
+    """Return a ``showwarning`` that keeps warnings in ``caught``, those of long work aside.
+
+    A warning that work will take minutes is shown at once, before the work, not after it.
+    """
+    show_now = warnings.showwarning
+
+    def keep(message, category, filename, lineno, file=None, line=None) -> None:
+        if issubclass(category, LongComputationWarning):
+            show_now(message, category, filename, lineno, file, line)
+        else:
+            caught.append((message, category, filename, lineno))
+
+    return keep

@@ -52,7 +52,7 @@ import numpy as np
 
 from bcgen.arguments import real_array
 from bcgen.epochs import J2000_YEARS_FROM_1950, format_epoch
-from bcgen.errors import OrbitError, OutsideValidityWarning
+from bcgen.errors import LongComputationWarning, OrbitError, OutsideValidityWarning
 from bcgen.orbit.elements import OrbitalElements
 
 NAME = "nbody"
@@ -69,6 +69,10 @@ LIMIT_YEARS = 50e6
 #: are the same whatever epochs were asked for first.
 FUTURE_CHUNK_ROWS = 50
 TABLE_FILE = "nbody_table.npz"
+#: CPU seconds one simulated Myr of integration takes, for the notice given before a long
+#: one (measured by tests/benchmarks/bench_nbody_generate.py: 157-167 s on the project's
+#: 2-core machine; an order of magnitude, not a promise).
+CPU_SECONDS_PER_MYR = 160.0
 
 _COLUMNS = ("eccentricity", "obliquity_deg", "e_sin_varpi", "e_cos_varpi")
 
@@ -360,12 +364,26 @@ def _extended_vectors(source: str, n_rows: int) -> dict[str, np.ndarray]:
         with np.load(path) as saved:
             ext = {name: saved[name] for name in saved.files}
     base = len(raw["eccentricity"])
+    _say_how_long(n_rows - len(ext["ecc_vector"]), path, "beyond its bundled table")
     while len(ext["ecc_vector"]) < n_rows:
         lo = base + len(ext["ecc_vector"])
         epochs = gen.row_epochs(lo + gen.CHUNK_ROWS)[lo:]
         ext = _integrate_and_cache(path, ext, integ.State.from_array(ext["next_state"]),
                                    epochs)
     return ext
+
+
+def _say_how_long(rows: int, path: Path, where: str) -> None:
+    """Warn before an integration of more than about ten seconds, with its size and cache."""
+    from bcgen.orbit import nbody_generate as gen
+
+    myr = rows * abs(gen.STEP_YEARS) / 1e6
+    seconds = myr * CPU_SECONDS_PER_MYR
+    if seconds >= 10.0:
+        took = f"{seconds / 60:.0f} min" if seconds >= 90 else f"{seconds:.0f} s"
+        warnings.warn(f"integrating the nbody solution {where}: {myr:.2f} Myr of planetary "
+                      f"motion, roughly {took} of CPU; the result is kept in {path.parent} "
+                      "for later runs", LongComputationWarning, stacklevel=3)
 
 
 def _integrate_and_cache(path: Path, saved: dict, state, epochs) -> dict[str, np.ndarray]:
@@ -455,6 +473,7 @@ def future_vectors(source: str, n_rows: int) -> dict[str, np.ndarray]:
         with np.load(path) as data:
             saved = {name: data[name] for name in data.files}
     step = -gen.STEP_YEARS
+    _say_how_long(n_rows + 1 - len(saved["ecc_vector"]), path, "forward from 2050 CE")
     while len(saved["ecc_vector"]) < n_rows + 1:
         lo = len(saved["ecc_vector"])
         epochs = gen.FIRST_ROW_YEARS_FROM_1950 + step * np.arange(lo, lo + FUTURE_CHUNK_ROWS)
