@@ -21,8 +21,9 @@ Defaults and where they come from
     The PMIP protocols compute their orbital parameters with Berger (1978).
 ``insolation.reference_epoch: 1950CE``
     Fixed-angle months span the arcs of true longitude that the months of the
-    model calendar span in the 1950 CE orbit (bcgen's convention, see the
-    architecture notes; 1950 CE is the "present" of the BP time scale).
+    model calendar span in the 1950 CE orbit (bcgen's convention, see the README
+    section "Calendars, anchoring and months"; 1950 CE is the "present" of the BP
+    time scale).
 ``insolation.daily_method: midday``
     The daily mean of each calendar day is taken with the Sun's position at
     12:00 of that day; this reproduces the PMIP1 insolation check tables
