@@ -227,11 +227,12 @@ class InputSeries:
             if lo >= hi:
                 continue
             piece = ds.isel({self.dim: slice(int(lo - edges[j]), int(hi - edges[j]))})
-            names = sorted(_time_variables(piece, self.dim))
-            chunks = {d: c for d, c in self.chunks.items() if d != self.dim}
-            pieces.append(piece.assign(
-                {n: piece[n].chunk({d: c for d, c in chunks.items() if d in piece[n].dims})
-                 for n in names}))
+            lazy = {n: piece.variables[n] for n in sorted(_time_variables(piece, self.dim))}
+            # A fresh name for each piece (name=False): dask need not hash the file's
+            # reader to name it, and no two pieces can share a name.
+            pieces.append(piece.assign({n: v.chunk(
+                {d: c for d, c in self.chunks.items() if d in v.dims and d != self.dim},
+                name=False) for n, v in lazy.items()}))
         part = pieces[0] if len(pieces) == 1 else xr.concat(
             pieces, self.dim, data_vars="minimal", coords="minimal", compat="override",
             join="override", combine_attrs="override")

@@ -107,11 +107,10 @@ def main(argv=None) -> int:
               f"{time.perf_counter() - t0:.1f} s")
         spec = folder / "bench.yaml"
         spec.write_text(SPEC.format(end=9000 - 10 * (args.years - 1)))
-        from bcgen.convert.io import open_inputs
+        from bcgen.convert.io import open_series
 
-        ds, _ = open_inputs(paths)  # the spatial chunks bcgen reads with, for both sides
-        with ds:
-            lat_chunk = ds["tas"].chunks[1][0]
+        with open_series(paths) as series:  # the spatial chunks bcgen reads with, for both
+            lat_chunk = series.chunks["lat"]
         contenders = {
             "xarray": (BASELINE, folder / "clim.nc", lat_chunk, *paths),
             "bcgen": (CONVERT, folder / "converted", spec, *paths),
