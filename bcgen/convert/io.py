@@ -9,6 +9,11 @@ the whole time axis of one chunk holds about :data:`CHUNK_BYTES` (as float64); a
 time, one chunk per file (the conversion reads a chunk's pieces in turn, without
 joining them into a new array).
 
+:func:`open_series` checks the same and opens each file once, for a conversion a file
+at a time (a transient run's output): :meth:`InputSeries.window` gives a span of the
+series, with the same spatial chunks, reading from each file only the time steps of
+that span.
+
 :func:`write_output` writes through :func:`bcgen.io.write_netcdf` (atomic,
 refuses to overwrite without ``force``), with the data variables' compression taken
 from the input.
@@ -157,13 +162,7 @@ def open_inputs(paths: Sequence[os.PathLike | str], *, chunk_bytes: int = CHUNK_
         for path in ordered:
             with xr.open_dataset(path, decode_times=False) as other:
                 n_time += other.sizes.get(dim, 0)
-                theirs = _time_variables(other, dim)
-                _check_units(other, dim, path)
-                if theirs != names:
-                    raise InputFileError(
-                        f"{path}: holds the variables {', '.join(sorted(theirs)) or 'none'} "
-                        f"but {ordered[0]} holds {', '.join(sorted(names)) or 'none'}; the "
-                        "files of one conversion must hold the same variables")
+                _check_variables(other, dim, path, names, ordered[0])
         probe = first.isel({dim: slice(0, 1)}).isel({dim: np.zeros(n_time, dtype=int)})
         chunks = conversion_chunks(probe, dim, chunk_bytes)
     try:
