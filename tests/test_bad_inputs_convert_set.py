@@ -155,6 +155,24 @@ def test_two_inputs_of_one_name_are_refused(run_files, tmp_path, run_cli):
     assert not out.exists() and snapshot(run_files) == before
 
 
+def test_a_file_on_another_grid_is_refused_naming_it(run_files, tmp_path, run_cli):
+    # The files of one run share the grid: a file whose points differ is named, no output.
+    import xarray as xr
+
+    inputs = _inputs(run_files)
+    moved = tmp_path / Path(inputs[1]).name
+    with xr.open_dataset(inputs[1], decode_times=False) as ds:
+        ds.assign_coords(site=ds["site"] + 10).to_netcdf(moved)
+    out = tmp_path / "fixed_angle"
+    before = snapshot(run_files)
+    status, _, err = run_cli(["convert", inputs[0], str(moved), inputs[2], "-o", out,
+                              "--spec", run_files / "run.yaml"])
+    assert status == 2
+    assert _one_line(err).endswith(f"{moved}: coordinate 'site' differs from {inputs[0]}'s; "
+                                   "the files of one conversion must share the grid")
+    assert not out.exists() and snapshot(run_files) == before
+
+
 def test_more_input_files_than_the_limit_are_refused_on_the_command_line(tmp_path,
                                                                          bcgen_script):
     """100,001 names (none exists: the count is checked before any is looked at).

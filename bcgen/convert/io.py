@@ -283,6 +283,7 @@ def open_series(paths: Sequence[os.PathLike | str], *,
         names = _time_variables(first, dim)
         for ds, path in zip(datasets, paths_in_order, strict=True):
             _check_variables(ds, dim, path, names, paths_in_order[0])
+            _check_grid(ds, first, dim, path, paths_in_order[0])
         n_time = sum(ds.sizes[dim] for ds in datasets)
         probe = first.isel({dim: slice(0, 1)}).isel({dim: np.zeros(n_time, dtype=int)})
         chunks = conversion_chunks(probe, dim, chunk_bytes)
@@ -293,6 +294,18 @@ def open_series(paths: Sequence[os.PathLike | str], *,
     label = (str(paths_in_order[0]) if len(paths_in_order) == 1
              else f"{paths_in_order[0]} ... {paths_in_order[-1]}")
     return InputSeries(paths_in_order, datasets, dim, chunks, label)
+
+
+def _check_grid(ds: xr.Dataset, first: xr.Dataset, dim: str, path, first_path) -> None:
+    """Refuse a file whose coordinates without time differ from the first file's."""
+    for name, coord in first.coords.items():
+        if dim in coord.dims:
+            continue
+        other = ds.coords.get(name)
+        if other is None or other.dims != coord.dims or not np.array_equal(
+                np.asarray(other.values), np.asarray(coord.values)):
+            raise InputFileError(f"{path}: coordinate '{name}' differs from {first_path}'s; "
+                                 "the files of one conversion must share the grid")
 
 
 def _load_small(ds: xr.Dataset, dim: str) -> None:
