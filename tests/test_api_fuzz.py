@@ -112,6 +112,7 @@ def calls(folder: Path) -> dict:
 ALSO_NAMED = {
     ("load_spec", "path"): ("65",),
     ("validate", "spec"): ("65",),
+    ("solve", "path"): ("65",),
     ("validate", "model_file"): ("65",),
     ("parse_spec_text", "text"): ("<string>",),
     # The words the command line and the spec share for these values.
@@ -119,6 +120,9 @@ ALSO_NAMED = {
     ("OrbitalElements", "obliquity_deg"): ("obliquity",),
     ("OrbitalElements", "perihelion_longitude_deg"): ("longitude of perihelion",),
     ("convert_perihelion", "value"): ("longitude of perihelion",),
+    ("solve", "obliquity_deg"): ("obliquity",),
+    ("solve", "perihelion_deg"): ("longitude of perihelion",),
+    ("solve", "perihelion_convention"): ("perihelion convention",),
     ("format_epoch", "years_from_1950"): ("epoch",),
     ("parse_epoch", "text"): ("epoch",),
     ("parse_epochs", "text"): ("epoch",),
@@ -189,7 +193,7 @@ def check_one(name: str, func, args: tuple, kwargs: dict, param: str, value) -> 
     """Call with ``param`` replaced by ``value``; return what went wrong, or None."""
     params = _parameters(func)
     args, kwargs = list(args), dict(kwargs)
-    index = params.index(param)
+    index = params.index(param) if param in params else len(params)  # else one of **options
     if index < len(args):
         args[index] = value
     else:
@@ -242,4 +246,30 @@ def test_odd_arguments_give_a_result_or_a_bcgen_error(name, public_calls, tmp_pa
         assert non_finite(func(*args, **kwargs)) is None  # the valid call itself
     problems = [problem for param in _parameters(func) for value in WEIRD
                 if (problem := check_one(name, func, args, kwargs, param, value))]
+    assert not problems, f"{len(problems)} calls escape:\n" + "\n".join(problems)
+
+
+def _orbit_csv(folder: Path) -> Path:
+    """A small orbit table of the ``table`` solution (rounded present-day-like values)."""
+    path = folder / "orbit_table.csv"
+    path.write_text("age_ka_bp,eccentricity,obliquity_deg,perihelion_longitude_deg\n"
+                    "0,0.0167,23.45,102.0\n1,0.0172,23.55,84.0\n2,0.0176,23.65,66.0\n",
+                    encoding="utf-8")
+    return path
+
+
+@pytest.mark.parametrize("solution", ["fixed", "table"])
+def test_odd_options_of_a_solution_give_a_result_or_a_bcgen_error(solution, tmp_path,
+                                                                    monkeypatch):
+    # solve's **options reach the solution: each option is fuzzed like a parameter.
+    monkeypatch.chdir(tmp_path)
+    options = {
+        "fixed": {"eccentricity": 0.0187, "obliquity_deg": 24.1, "perihelion_deg": 0.87,
+                  "perihelion_convention": "perihelion_longitude", "idealized": False},
+        "table": {"path": _orbit_csv(tmp_path)},
+    }[solution]
+    args = (-1000.0, solution)
+    assert non_finite(bcgen.solve(*args, **options)) is None  # the valid call itself
+    problems = [problem for param in options for value in WEIRD
+                if (problem := check_one("solve", bcgen.solve, args, options, param, value))]
     assert not problems, f"{len(problems)} calls escape:\n" + "\n".join(problems)

@@ -452,6 +452,8 @@ def monthly_insolation(
     weighted by the length of its own orbital year.
     """
     check_orbit(orbit)
+    if reference is not None:
+        check_orbit(reference, "reference")
     check_month_definition(months)
     arguments.choice(daily_method, "daily_method", DAILY_METHODS, InsolationError,
                      "daily method")

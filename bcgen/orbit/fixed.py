@@ -65,7 +65,10 @@ def solve(
             f"the perihelion convention must be stated as one of "
             f"{', '.join(PERIHELION_CONVENTIONS)}; got {arguments.shown(perihelion_convention)}"
         )
+    idealized = arguments.flag(idealized, "idealized", OrbitError)
     obliquity_deg = arguments.obliquity_deg(obliquity_deg, idealized=idealized, earth=True)
+    perihelion_deg = arguments.real_array(perihelion_deg, "perihelion_deg", OrbitError,
+                                          "a longitude of perihelion in degrees")
     varpi = convert_perihelion(perihelion_deg, perihelion_convention, "perihelion_longitude")
     t = None if years_from_1950 is None else np.asarray(years_from_1950, dtype=float)
     return OrbitalElements(eccentricity, obliquity_deg, varpi, t, NAME)

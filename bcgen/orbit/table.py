@@ -172,6 +172,7 @@ def solve(years_from_1950, *, path=None) -> OrbitalElements:
     """
     if path is None:
         raise OrbitError("the table orbital solution needs the path of a CSV or NetCDF table")
+    path = arguments.path(path, "path", OrbitError)
     try:
         return interpolate(load(path), years_from_1950)
     except OrbitError as exc:  # name the table whose range the epoch is outside
