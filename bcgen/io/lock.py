@@ -19,6 +19,7 @@ from datetime import datetime, timezone
 from pathlib import Path
 
 from bcgen.errors import OutputError
+from bcgen.io.signals import held_signals
 
 #: Name of the lock file in an output folder.
 LOCK_NAME = ".bcgen.lock"
@@ -43,37 +44,42 @@ class FolderLock:
         self._fd: int | None = None
 
     def acquire(self) -> FolderLock:
-        """Take the lock, or raise :class:`FolderLockedError` naming its holder."""
-        while True:
-            try:
-                fd = os.open(self.path, os.O_RDWR | os.O_CREAT, 0o644)
-            except OSError as exc:
-                raise OutputError(f"cannot lock output folder {self.directory}: "
-                                  f"{exc.strerror or exc}") from None
-            try:
-                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
-            except OSError as exc:
-                holder = _read_holder(fd)
+        """Take the lock, or raise :class:`FolderLockedError` naming its holder.
+
+        SIGINT and SIGTERM wait until the lock file is written and held (a stop between
+        creating the file and taking it would leave an empty lock file behind).
+        """
+        with held_signals():
+            while True:
+                try:
+                    fd = os.open(self.path, os.O_RDWR | os.O_CREAT, 0o644)
+                except OSError as exc:
+                    raise OutputError(f"cannot lock output folder {self.directory}: "
+                                      f"{exc.strerror or exc}") from None
+                try:
+                    fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                except OSError as exc:
+                    holder = _read_holder(fd)
+                    os.close(fd)
+                    if exc.errno in (errno.EAGAIN, errno.EACCES, errno.EWOULDBLOCK):
+                        raise FolderLockedError(
+                            f"another bcgen run ({holder}) is writing {self.directory}; wait "
+                            "for it to finish or write elsewhere") from None
+                    raise OutputError(f"cannot lock output folder {self.directory}: "
+                                      f"{exc.strerror or exc}") from None
+                # The holder before us may have deleted the file between our open and our lock:
+                # the lock is good only if the name still points at the file we locked.
+                try:
+                    same = os.path.samestat(os.fstat(fd), os.stat(self.path))
+                except FileNotFoundError:
+                    same = False
+                if same:
+                    break
                 os.close(fd)
-                if exc.errno in (errno.EAGAIN, errno.EACCES, errno.EWOULDBLOCK):
-                    raise FolderLockedError(
-                        f"another bcgen run ({holder}) is writing {self.directory}; wait "
-                        "for it to finish or write elsewhere") from None
-                raise OutputError(f"cannot lock output folder {self.directory}: "
-                                  f"{exc.strerror or exc}") from None
-            # The holder before us may have deleted the file between our open and our lock:
-            # the lock is good only if the name still points at the file we locked.
-            try:
-                same = os.path.samestat(os.fstat(fd), os.stat(self.path))
-            except FileNotFoundError:
-                same = False
-            if same:
-                break
-            os.close(fd)
-        started = datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M:%S UTC")
-        os.ftruncate(fd, 0)
-        os.write(fd, json.dumps({"pid": os.getpid(), "started": started}).encode())
-        self._fd = fd
+            started = datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M:%S UTC")
+            os.ftruncate(fd, 0)
+            os.write(fd, json.dumps({"pid": os.getpid(), "started": started}).encode())
+            self._fd = fd
         return self
 
     def release(self) -> None:

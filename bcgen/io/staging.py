@@ -190,7 +190,8 @@ def output_set(directory, names: Sequence[str], *, force: bool,
     stage = lock = None
     try:
         prepare_output_folder(directory)
-        lock = FolderLock(directory).acquire()
+        with held_signals():  # no stop between taking the lock and knowing we hold it
+            lock = FolderLock(directory).acquire()
         remove = list(previous()) if force else []
         existing = [n for n in names if os.path.lexists(directory / n)]
         if existing and not force:
