@@ -18,7 +18,10 @@ from bcgen.cli import main
 
 
 def run(capsys, *argv):
-    status = main(["insolation", *argv])
+    try:
+        status = main(["insolation", *argv])
+    except SystemExit as exc:  # argparse's usage errors leave through SystemExit
+        status = exc.code
     out, err = capsys.readouterr()
     return status, out, err
 
@@ -137,6 +140,11 @@ def test_equinox_and_calendar_options(capsys):
         (["6ka", "--lat", "nan"], "bcgen: error: --lat: latitudes must be in [-90, 90] degrees "
                                   "north; got nan"),
         (["6ka", "--lat", "10", "nan"], "--lat: latitudes must be in [-90, 90]"),
+        # A value that starts with a minus sign is a value, not an unknown option.
+        (["6ka", "--lat", "-60,-30"], "--lat: expected latitudes in degrees north separated "
+                                      "by spaces (e.g. --lat 65 0 -30), got '-60,-30'"),
+        (["-6ka", "--lat", "10"], "cannot read epoch '-6ka': an age before present cannot be "
+                                  "negative"),
         (["6ka..0ka/1ka", "--lat", "10"], "EPOCH: bcgen insolation takes one epoch"),
         (["6ka", "--lat", "10", "--year", "99999999999999999999"],
          "--year: model year must be a whole number from -1000000 to 1000000"),

@@ -24,6 +24,7 @@ import argparse
 import contextlib
 import importlib
 import os
+import re
 import signal
 import sys
 import threading
@@ -82,7 +83,16 @@ def _interrupted(exc: KeyboardInterrupt) -> int:
 
 
 class _Parser(argparse.ArgumentParser):
-    """An argument parser whose usage errors are one line and exit with status 2."""
+    """An argument parser whose usage errors are one line and exit with status 2.
+
+    Any word that starts with a minus sign and a digit is a value, not an option
+    (bcgen has no option of that shape): ``--lat -60,-30`` and ``-1e3`` reach the
+    value checks, and ``-6ka`` the epoch reader, instead of being taken for options.
+    """
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        self._negative_number_matcher = re.compile(r"^-\.?\d")
 
     def error(self, message: str) -> None:  # noqa: D102
         self.exit(2, f"bcgen: error: {self.prog}: {message} (see '{self.prog} --help')\n")

@@ -33,6 +33,16 @@ EPOCH_SOLUTION_HELP = (
 )
 
 
+def latitude_value(text: str) -> float:
+    """Read one ``--lat`` value (an argparse type): a number of degrees north."""
+    try:
+        return float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(
+            f"expected latitudes in degrees north separated by spaces (e.g. --lat 65 0 -30), "
+            f"got {text!r}") from None
+
+
 def add_calendar_options(parser: argparse.ArgumentParser) -> None:
     """Add --calendar and the mutually exclusive --equinox / --perihelion-date."""
     parser.add_argument("--calendar", default="noleap", metavar="NAME",

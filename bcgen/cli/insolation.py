@@ -24,6 +24,7 @@ from bcgen.cli.common import (
     check_model_year,
     describe_orbit,
     json_text,
+    latitude_value,
     orbit_for_epoch,
 )
 from bcgen.errors import ImplausibleValueWarning
@@ -70,7 +71,7 @@ def register(subparsers) -> argparse.ArgumentParser:
     parser.add_argument("epoch", metavar="EPOCH",
                         help="one epoch such as 6ka, '127 ka BP', 21000BP or 1850CE (not a "
                              "range)")
-    parser.add_argument("--lat", nargs="+", type=float, required=True, metavar="LAT",
+    parser.add_argument("--lat", nargs="+", type=latitude_value, required=True, metavar="LAT",
                         help="latitudes in degrees north (south negative), e.g. --lat 90 65 0 -90")
     parser.add_argument("--months", choices=list(MONTH_OPTIONS), default="fixed-day",
                         help="month definition (default: fixed-day)")

@@ -7,7 +7,7 @@ import json
 import re
 from pathlib import Path
 
-from bcgen.cli.common import MONTH_OPTIONS
+from bcgen.cli.common import MONTH_OPTIONS, latitude_value
 from bcgen.errors import BcgenError
 
 #: Figure kinds, with what each shows.
@@ -89,7 +89,7 @@ def register(subparsers) -> argparse.ArgumentParser:
     parser.add_argument("--months", choices=list(MONTH_OPTIONS),
                         help="month definition of insolation and anomaly (default: fixed-day, "
                              "or the file's)")
-    parser.add_argument("--lat", nargs="+", type=float, metavar="LAT",
+    parser.add_argument("--lat", nargs="+", type=latitude_value, metavar="LAT",
                         help="latitudes in degrees north (south negative)")
     parser.add_argument("--true-longitude-deg", type=float, metavar="DEG",
                         help="orbit: the Sun's true longitude of the insolation panel, degrees "
