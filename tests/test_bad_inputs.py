@@ -47,7 +47,8 @@ NOLEAP_EDGES = np.array([0, 31, 59, 90, 120, 151, 181, 212, 243, 273, 304, 334, 
 def write_model(path: Path, *, var: str = "tas", units: str = "K",
                 standard_name: str = "air_temperature", edges=NOLEAP_EDGES,
                 calendar: str | None = "noleap", bounds: bool = True, with_time: bool = True,
-                first_day: float = 0.0, lat=(-30.0, 30.0), value: float = 280.0) -> None:
+                first_day: float = 0.0, lat=(-30.0, 30.0), value: float = 280.0,
+                cell_methods: str | None = None) -> None:
     """A small CF file of interval means ``var(time, lat)`` (or ``var(lat)`` without time)."""
     edges = np.asarray(edges, dtype=float) + first_day
     lat = np.asarray(lat, dtype=float)
@@ -72,6 +73,8 @@ def write_model(path: Path, *, var: str = "tas", units: str = "K",
             dims = ("time", "lat")
         v = nc.createVariable(var, "f4", dims)
         v.units, v.standard_name = units, standard_name
+        if cell_methods is not None:
+            v.cell_methods = cell_methods
         shape = ((edges.size - 1,) if with_time else ()) + (lat.size,)
         v[:] = np.full(shape, value, dtype="f4")
 
@@ -108,6 +111,9 @@ FILES: dict[str, Path | bytes | Callable[[Path], None]] = {
     "irregular.nc": lambda p: write_model(p, bounds=False, edges=np.array(
         [0, 10, 31, 59, 90, 120, 181, 212, 243, 273, 304, 334, 365.0])),
     "ten_day.nc": lambda p: write_model(p, edges=np.arange(0, 370, 10.0)),
+    # Monthly maxima (CF 1.11 §7.3 "time: maximum"): not re-averageable over other months.
+    "monthly_max.nc": lambda p: write_model(p, var="tasmax", cell_methods="area: mean "
+                                            "time: maximum"),
     "truncated.nc": truncated,
     "text.nc": b"this is not NetCDF at all\n" * 20,
     "zero.nc": b"",
@@ -392,6 +398,10 @@ CASES = [
     C("non-monthly-spacing-validate", "validate rsdt_ten_day.nc --spec ok.yaml",
       r"^rsdt_ten_day\.nc:rsdt: the time axis has no bounds and its spacing \(10 days\) is "
       r"neither daily nor monthly", ["rsdt_ten_day.nc", "ok.yaml"]),
+    C("monthly-maximum-convert", "convert monthly_max.nc -o out.nc --epoch 6ka",
+      r"^monthly_max\.nc: variable 'tasmax' has cell_methods 'area: mean time: maximum': "
+      r"each value is a maximum, not a mean or a sum, so it cannot be re-averaged over other "
+      r"months; leave the variable out of the input$", ["monthly_max.nc"]),
     C("mixed-calendars", "convert model.nc julian_y2.nc -o out.nc --epoch 6ka",
       r"^julian_y2\.nc: calendar julian differs from model\.nc \(noleap\); the files of one "
       r"conversion must share a calendar$", ["model.nc", "julian_y2.nc"]),

@@ -16,7 +16,6 @@ import pytest
 import xarray as xr
 
 from bcgen.convert.api import (
-    CellMethodWarning,
     ConversionError,
     to_fixed_angle_months,
     to_fixed_day_months,
@@ -305,14 +304,6 @@ def test_attributes_variables_and_metadata():
     assert out["time"].attrs["bounds"] == "time_bnds"
     assert list(out["month"].values[:12]) == list(range(1, 13))
     assert list(np.unique(out["model_year"].values)) == [1, 2]
-
-
-def test_non_mean_cell_methods_warn():
-    ds, _ = make_dataset(month_edges("noleap", 1, 1))
-    ds["tas"].attrs["cell_methods"] = "time: maximum"
-    with pytest.warns(CellMethodWarning, match="not a time mean"):
-        out = to_fixed_angle_months(ds, ORBIT_6KA)
-    assert out["tas"].attrs["cell_methods"] == "time: mean"
 
 
 # --- missing data, types, dask ----------------------------------------------------------------

@@ -16,6 +16,8 @@ module                     job
 :mod:`.aggregate`          exact overlap-weighted means of daily (or any interval) means
                            over fractional-day intervals; the missing-data rule
 :mod:`.kernels`            the fast per-block path used under dask
+:mod:`.cellmethods`        what a variable's ``cell_methods`` allows: means re-averaged,
+                           sums as totals, daily extremes averaged, others refused
 :mod:`.timeaxis`           reading a CF time axis: calendar, intervals, monthly or daily,
                            climatology or series
 :mod:`.io`                 opening multi-file sets, writing the result atomically

@@ -42,7 +42,16 @@ applied, ``_FillValue`` as NaN) and stored as float32 when the decoded input was
 float32 or an integer of at most 16 bits, else float64; the packing (scale, offset,
 integer type, fill value) is dropped because means of packed integers need not fit
 the packing, and ``valid_min``/``valid_max``/``valid_range`` are converted to unpacked
-values. ``cell_methods`` gets ``time: mean``.
+values.
+
+What each variable's values are is read from its ``cell_methods``
+(:mod:`bcgen.convert.cellmethods`): means (``time: mean``, and variables without a time
+entry, which get ``time: mean``) are re-averaged; sums (``time: sum``, e.g. an
+accumulated precipitation amount) are converted as their mean rate and multiplied by
+the new month's length (a month's total); daily maxima or minima (one-day steps) are
+averaged into ``time: maximum within days time: mean over days``. Any other time
+statistic (a monthly maximum, an instantaneous ``time: point`` value, a median...) is
+refused with an error naming the variable: re-averaging would falsify it.
 """
 
 from __future__ import annotations
@@ -59,6 +68,7 @@ import xarray as xr
 
 from bcgen import arguments
 from bcgen.arguments import shown
+from bcgen.convert import cellmethods
 from bcgen.convert.aggregate import (
     DEFAULT_MIN_VALID_FRACTION,
     IntervalWeights,
@@ -88,10 +98,6 @@ class ConversionError(BcgenError, ValueError):
 
 class DroppedVariableWarning(BcgenWarning):
     """A time-dependent variable that is not converted (not numeric, or categorical)."""
-
-
-class CellMethodWarning(BcgenWarning):
-    """A variable whose time statistic is not a mean (its conversion is a mean all the same)."""
 
 
 # --- kernels applied to numpy blocks -------------------------------------------------------
@@ -316,21 +322,6 @@ def _out_dtype(var: xr.DataArray) -> np.dtype:
     return np.dtype(np.float64)
 
 
-def _cell_methods(name: str, old: str | None, dim: str) -> str:
-    if not old:
-        return f"{dim}: mean"
-    match = re.search(rf"\b{re.escape(dim)}:\s*(\w+)", old)
-    if match is None:
-        return f"{old} {dim}: mean"
-    if match.group(1) != "mean":
-        warnings.warn(f"variable {name!r}: cell_methods {old!r} is not a time mean; its "
-                      f"conversion averages it over the new months (cell_methods set to "
-                      f"'{dim}: mean')", CellMethodWarning, stacklevel=4)
-        return re.sub(rf"\b{re.escape(dim)}:\s*\w+(\s+(within|over)\s+\w+)*", f"{dim}: mean",
-                      old, count=1)
-    return old
-
-
 def _unpacked_attrs(var: xr.DataArray, dtype: np.dtype) -> dict:
     attrs = dict(var.attrs)
     scale = var.encoding.get("scale_factor", 1.0)
@@ -343,17 +334,24 @@ def _unpacked_attrs(var: xr.DataArray, dtype: np.dtype) -> dict:
     return attrs
 
 
-def _convert_variable(var: xr.DataArray, dim: str, kernel_plan, n_out: int) -> xr.DataArray:
+def _convert_variable(var: xr.DataArray, dim: str, kernel_plan, n_out: int,
+                      decision: cellmethods.ConversionRule, source_days,
+                      target_days) -> xr.DataArray:
     """Convert one variable along ``dim``, lazily (dask.array.blockwise) when it is chunked.
 
     The time axis stays where it is, so the blocks of a (time, lat, lon) variable reach the
     kernel time-first and contiguous; each task gets all the time pieces of one spatial
-    block (one per input file of a multi-file set) as a list, not joined.
+    block (one per input file of a multi-file set) as a list, not joined. A sum
+    (``decision.treatment == "sum"``) is divided by its interval's length in days, the
+    mean rate converted, and multiplied by the new interval's length.
     """
     dtype = _out_dtype(var)
     axis = var.dims.index(dim)
     kernel = _Kernel(kernel_plan, dtype, axis)
     data = var.data
+    along = (-1,) + (1,) * (var.ndim - axis - 1)
+    if decision.treatment == "sum":
+        data = data / np.asarray(source_days, dtype=np.float64).reshape(along)
     if var.chunks is not None:  # dask-backed: each task gets the time pieces of a block
         import dask.array
 
@@ -365,10 +363,12 @@ def _convert_variable(var: xr.DataArray, dim: str, kernel_plan, n_out: int) -> x
             name=f"bcgen-convert-{kernel.token}")
     else:
         data = kernel(np.asarray(data))
+    if decision.treatment == "sum":
+        data = (data * np.asarray(target_days, dtype=np.float64).reshape(along)).astype(dtype)
     out = xr.DataArray(data, dims=var.dims, name=var.name,
                        coords={k: c for k, c in var.coords.items() if dim not in c.dims})
     out.attrs = _unpacked_attrs(var, dtype)
-    out.attrs["cell_methods"] = _cell_methods(str(var.name), var.attrs.get("cell_methods"), dim)
+    out.attrs["cell_methods"] = decision.cell_methods
     fill = np.array(1.0e20, dtype=dtype) if dtype == np.float32 else 1.0e20
     out.encoding = {"_FillValue": fill, "dtype": dtype}
     for key in ("zlib", "complevel", "shuffle"):
@@ -412,8 +412,24 @@ def _ascii(text: str) -> str:
     return text.replace("ϖ", "varpi").replace("°", " deg").encode("ascii", "replace").decode()
 
 
+def _decisions(ds, axis: TimeAxis, names, source: str) -> dict:
+    """How each variable is converted (:mod:`bcgen.convert.cellmethods`); refuse the others."""
+    daily = axis.kind == "daily" and bool(np.all(np.abs(np.diff(axis.edges_days) - 1.0) < 1e-6))
+    out = {}
+    for name in names:
+        cm = ds[name].attrs.get("cell_methods")
+        try:
+            out[name] = cellmethods.conversion_rule(cm, axis.dim, daily=daily)
+        except cellmethods.RefusedStatistic as exc:
+            raise ConversionError(
+                f"{source}: variable '{name}' has cell_methods {str(cm)!r}: {exc}, so it "
+                "cannot be re-averaged over other months; leave the variable out of the "
+                "input") from None
+    return out
+
+
 def _convert(ds, axis: TimeAxis, start, end, month, year, *, method, min_valid_fraction,
-             attrs, out_cyclic_years) -> xr.Dataset:
+             attrs, out_cyclic_years, source: str = "input") -> xr.Dataset:
     from bcgen.arguments import fraction
 
     min_valid_fraction = fraction(min_valid_fraction, "min_valid_fraction")
@@ -427,7 +443,7 @@ def _convert(ds, axis: TimeAxis, start, end, month, year, *, method, min_valid_f
     skip = {dim}
     if axis.bounds_name:
         skip.add(axis.bounds_name)
-    out_vars, dropped = {}, []
+    out_vars, dropped, converted = {}, [], []
     for name, var in ds.variables.items():
         if name in skip:
             continue
@@ -439,7 +455,12 @@ def _convert(ds, axis: TimeAxis, start, end, month, year, *, method, min_valid_f
         if not numeric or "flag_values" in var.attrs or "flag_masks" in var.attrs:
             dropped.append(str(name))
             continue
-        out_vars[name] = _convert_variable(ds[name], dim, plan, start.size)
+        converted.append(name)
+    decisions = _decisions(ds, axis, converted, source)
+    source_days = np.diff(axis.edges_days)
+    for name in converted:
+        out_vars[name] = _convert_variable(ds[name], dim, plan, start.size, decisions[name],
+                                           source_days, end - start)
     if dropped:
         warnings.warn(f"variables not converted and left out (not numeric means along "
                       f"'{dim}'): {', '.join(dropped)}", DroppedVariableWarning, stacklevel=3)
@@ -620,7 +641,7 @@ def to_fixed_angle_months(
     attrs[f"{ATTR_PREFIX}annual_mean"] = ANNUAL_MEAN_NOTE
     out = _convert(ds, dataclasses.replace(axis, calendar=cal), start, end,
                    month, year, method=method, min_valid_fraction=min_valid_fraction,
-                   attrs=attrs, out_cyclic_years=axis.climatology)
+                   attrs=attrs, out_cyclic_years=axis.climatology, source=source)
     comment = ds.attrs.get("comment")
     out.attrs["comment"] = f"{comment}\n{ANNUAL_MEAN_NOTE}" if comment else ANNUAL_MEAN_NOTE
     return out
@@ -672,4 +693,4 @@ def to_fixed_day_months(
     clean = clean.drop_vars(drop)
     return _convert(clean, axis, start, end, month, year, method=method,
                     min_valid_fraction=min_valid_fraction, attrs=attrs,
-                    out_cyclic_years=axis.climatology)
+                    out_cyclic_years=axis.climatology, source=source)
