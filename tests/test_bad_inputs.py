@@ -48,7 +48,8 @@ def write_model(path: Path, *, var: str = "tas", units: str = "K",
                 standard_name: str = "air_temperature", edges=NOLEAP_EDGES,
                 calendar: str | None = "noleap", bounds: bool = True, with_time: bool = True,
                 first_day: float = 0.0, lat=(-30.0, 30.0), value: float = 280.0,
-                cell_methods: str | None = None) -> None:
+                cell_methods: str | None = None,
+                time_units: str = "days since 0001-01-01 00:00:00") -> None:
     """A small CF file of interval means ``var(time, lat)`` (or ``var(lat)`` without time)."""
     edges = np.asarray(edges, dtype=float) + first_day
     lat = np.asarray(lat, dtype=float)
@@ -61,7 +62,7 @@ def write_model(path: Path, *, var: str = "tas", units: str = "K",
         if with_time:
             nc.createDimension("time", edges.size - 1)
             t = nc.createVariable("time", "f8", ("time",))
-            t.units, t.standard_name, t.axis = "days since 0001-01-01 00:00:00", "time", "T"
+            t.units, t.standard_name, t.axis = time_units, "time", "T"
             if calendar is not None:
                 t.calendar = calendar
             t[:] = 0.5 * (edges[:-1] + edges[1:])
@@ -111,6 +112,11 @@ FILES: dict[str, Path | bytes | Callable[[Path], None]] = {
     "irregular.nc": lambda p: write_model(p, bounds=False, edges=np.array(
         [0, 10, 31, 59, 90, 120, 181, 212, 243, 273, 304, 334, 365.0])),
     "ten_day.nc": lambda p: write_model(p, edges=np.arange(0, 370, 10.0)),
+    # CF 1.11 §4.4: "months since" is no fixed length of time (the calendar is not 360_day);
+    # §4.4.1: the CF calendar names.
+    "months_since.nc": lambda p: write_model(p, bounds=False, edges=np.arange(13.0),
+                                             time_units="months since 0001-01-01"),
+    "calendar_typo.nc": lambda p: write_model(p, calendar="no_leap_year"),
     # Monthly maxima (CF 1.11 §7.3 "time: maximum"): not re-averageable over other months.
     "monthly_max.nc": lambda p: write_model(p, var="tasmax", cell_methods="area: mean "
                                             "time: maximum"),
@@ -398,6 +404,12 @@ CASES = [
     C("non-monthly-spacing-validate", "validate rsdt_ten_day.nc --spec ok.yaml",
       r"^rsdt_ten_day\.nc:rsdt: the time axis has no bounds and its spacing \(10 days\) is "
       r"neither daily nor monthly", ["rsdt_ten_day.nc", "ok.yaml"]),
+    C("months-since-convert", "convert months_since.nc -o out.nc --epoch 6ka",
+      r"^months_since\.nc: time: time units 'months since 0001-01-01'; expected "
+      r"'<days\|hours\|minutes\|seconds> since <date>'$", ["months_since.nc"]),
+    C("unknown-calendar-convert", "convert calendar_typo.nc -o out.nc --epoch 6ka",
+      r"^calendar_typo\.nc: time:calendar: unknown calendar 'no_leap_year'; expected one of "
+      r"noleap, ", ["calendar_typo.nc"]),
     C("monthly-maximum-convert", "convert monthly_max.nc -o out.nc --epoch 6ka",
       r"^monthly_max\.nc: variable 'tasmax' has cell_methods 'area: mean time: maximum': "
       r"each value is a maximum, not a mean or a sum, so it cannot be re-averaged over other "

@@ -32,7 +32,7 @@ import xarray as xr
 
 from bcgen.cf.reader import find_time_dim, missing_calendar_error
 from bcgen.convert.timeaxis import read_time_axis
-from bcgen.errors import InputFileError
+from bcgen.errors import BcgenError, InputFileError
 from bcgen.sizes import check_input_count
 
 #: Target size of one chunk of input (all times × a block of space), bytes.
@@ -47,6 +47,8 @@ def _open_one(path: Path, chunks=None) -> xr.Dataset:
     try:
         ds = xr.open_dataset(path, decode_times=_decoder(), chunks=chunks)
     except (OSError, ValueError, RuntimeError) as exc:
+        if "unable to decode time units" in str(exc):
+            _refuse_time_encoding(path)
         raise InputFileError(f"{path}: cannot open as NetCDF ({_open_failure(exc)})") from None
     for name, var in ds.coords.items():  # a model's calendar is never guessed
         if (var.ndim == 1 and var.dims[0] == name and var.dtype == object and var.size
@@ -55,6 +57,40 @@ def _open_one(path: Path, chunks=None) -> xr.Dataset:
             ds.close()
             raise missing_calendar_error(path, name)
     return ds
+
+
+def _refuse_time_encoding(path: Path) -> None:
+    """Name the time variable whose units or calendar cannot be decoded, and what is expected.
+
+    Called when decoding the times failed (the file itself opens): a calendar that is not
+    a CF calendar, or units that are not ``<days|hours|minutes|seconds> since <date>``
+    (CF 1.11 §4.4.1; ``months since`` and ``years since`` are not fixed lengths of time).
+    """
+    from bcgen.cf.reader import time_unit_days
+    from bcgen.solar_calendar.calendars import canonical_calendar
+
+    try:
+        raw = xr.open_dataset(path, decode_times=False)
+    except (OSError, ValueError, RuntimeError):
+        return
+    with raw:
+        for name, var in raw.variables.items():
+            units = var.attrs.get("units")
+            if not isinstance(units, str) or " since " not in units:
+                continue
+            if "calendar" in var.attrs:
+                try:
+                    canonical_calendar(str(var.attrs["calendar"]), f"{path}: {name}:calendar")
+                except BcgenError as exc:
+                    raise InputFileError(str(exc)) from None
+            time_unit_days(units, f"{path}: {name}")
+            try:
+                cftime.num2date(np.asarray(var.values[:1], dtype=float), units,
+                                calendar=str(var.attrs.get("calendar", "standard")))
+            except (ValueError, TypeError, OverflowError) as exc:
+                raise InputFileError(f"{path}: {name}: cannot read time units {units!r} "
+                                     f"({' '.join(str(exc).split())}); expected '<days|hours|"
+                                     "minutes|seconds> since <date>'") from None
 
 
 def _open_failure(exc: BaseException) -> str:
