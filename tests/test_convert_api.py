@@ -150,7 +150,9 @@ def test_monthly_path_matches_truth(epoch):
     ds, pattern = make_dataset(edges)
     out = to_fixed_angle_months(ds, orbit)
     start, end = target_edges(orbit, "noleap", 1, years)
-    np.testing.assert_allclose(bounds_days(out), np.stack([start, end], 1), atol=1e-5)
+    # a month reaching beyond the data is bounded by the data (its covered part)
+    np.testing.assert_allclose(bounds_days(out), np.clip(np.stack([start, end], 1), 0,
+                                                         edges[-1]), atol=1e-5)
     inside = (start >= 0) & (end <= edges[-1])
     truth = exact_mean(start, end)[inside]
     got = out["tas"].values[inside, 0, 0]
@@ -250,7 +252,7 @@ def test_other_calendars_follow_the_month_definition(calendar):
     out = to_fixed_angle_months(ds, ORBIT_6KA)
     start, end = target_edges(ORBIT_6KA, calendar, first, years)
     # per-year anchors: the boundaries are those of bcgen months, year by year
-    np.testing.assert_allclose(bounds_days(out, first)[:, 0], start, atol=1e-5)
+    np.testing.assert_allclose(bounds_days(out, first)[:, 0], np.maximum(start, 0), atol=1e-5)
     inside = (start >= 0) & (end <= edges[-1])
     truth = exact_mean(start, end, period)[inside]
     shift = np.abs(start - edges[:-1]) + np.abs(end - edges[1:])
@@ -421,3 +423,28 @@ def test_refusals():
     pentads, _ = make_dataset(np.arange(0, 366, 5.0))
     with pytest.raises(InputFileError, match="neither calendar months"):
         to_fixed_angle_months(pentads, ORBIT_6KA)
+
+
+# --- months at the ends of a series ------------------------------------------------------------
+@pytest.mark.parametrize("epoch", [-6000.0, -127000.0])
+def test_months_reaching_beyond_a_series_are_bounded_by_the_data(epoch):
+    # At 6 ka and 127 ka the first fixed-angle January starts days before 1 January of
+    # the first year: its value is the mean of the part the data cover, so its time
+    # bounds must be that part (CF 1.11 §7.1: bounds delimit the cell the value stands
+    # for). Analytic check: the integral of a piecewise-constant daily series over the
+    # span of the output is the sum of value × bound length over its months.
+    edges = np.arange(0.0, 731.0)
+    ds, pattern = make_dataset(edges)
+    out = to_fixed_angle_months(ds, solve(epoch))
+    b = bounds_days(out)
+    assert b[0, 0] == 0.0 and b[-1, 1] <= 730.0
+    np.testing.assert_allclose(b[1:, 0], b[:-1, 1], rtol=0, atol=1e-6)  # still contiguous
+    daily = exact_mean(edges[:-1], edges[1:])
+    cum = np.concatenate([[0.0], np.cumsum(daily)])
+    integral = np.interp(b[-1, 1], edges, cum) - np.interp(b[0, 0], edges, cum)
+    lengths = b[:, 1] - b[:, 0]
+    got = float(np.sum(out["tas"].values[:, 0, 0] / pattern[0, 0] * lengths))
+    assert got == pytest.approx(integral, rel=1e-12)
+    # and the file converts back: the shortened first month is a fixed-angle month too
+    back = to_fixed_day_months(out)
+    assert bounds_days(back)[0, 0] == 0.0

@@ -20,7 +20,8 @@ Missing data (the rule a modeller can rely on)
     source is all missing is always missing. Parts of a target interval outside
     the span of the source count as missing, so a fixed-angle month that reaches a
     few days beyond the first or last day of a series is the mean of its covered
-    part. Masks (points missing at every time) stay missing.
+    part (:func:`bcgen.convert.to_fixed_angle_months` then gives it the time bounds
+    of that part). Masks (points missing at every time) stay missing.
 
 The weights are stored as padded sparse rows (:class:`IntervalWeights`, "ELLPACK"
 layout): target ``j`` takes ``weight[j, b] * x[index[j, b]]`` for every ``b``. Each

@@ -631,6 +631,9 @@ def to_fixed_angle_months(
                               + ("" if model_years is None else
                                  f" in model years {model_years[0]}-{model_years[1]}"))
     start, end, month, year = start[keep], end[keep], month[keep], year[keep]
+    if not axis.cyclic:  # a month reaching beyond the series: its covered part (its value's)
+        start = np.maximum(start, axis.edges_days[0])
+        end = np.minimum(end, axis.edges_days[-1])
     attrs = {f"{ATTR_PREFIX}months": "fixed-angle months: each month spans the arc of true "
              "solar longitude that the fixed-day month spans in the reference orbit",
              f"{ATTR_PREFIX}calendar": cal.name,

@@ -102,7 +102,8 @@ END_RULES: dict[str, str] = {
     "extrapolate": (
         "series: Killworth (1996) line through the two nearest adjusted mid-month values "
         "extended over the outer half of the first and last months (and of months next to "
-        "missing ones); new months reaching beyond the data are means over their covered part"
+        "missing ones); new months reaching beyond the data are means over their covered part, "
+        "and their time bounds are that part"
     ),
 }
 

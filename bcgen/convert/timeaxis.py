@@ -140,7 +140,8 @@ def read_time_axis(ds, source: str = "input", *, cyclic: bool | None = None,
         Force a climatology (True) or a series (False); default: detect (module docstring).
     expect : {"fixed_day", "any_months"}
         ``fixed_day``: calendar months or daily/sub-daily means; ``any_months``: any
-        contiguous bounded intervals of 20 to 40 days (fixed-angle months).
+        contiguous bounded intervals of 20 to 40 days (fixed-angle months; the first and last
+        may be shorter, cut to the span of the series they were converted from).
     """
     dim = find_time_dim(ds, source)
     tvar = ds[dim]
@@ -301,7 +302,9 @@ def _years_between(later, earlier, cal: ModelCalendar) -> int:
 def _classify(bounds, edges, expect, source) -> StepKind:
     lengths = np.diff(edges)
     if expect == "any_months":
-        if np.all((lengths > 20) & (lengths < 40)):
+        # The first and last month of a converted series may be cut to the data's span.
+        inner = lengths[1:-1]
+        if np.all((inner > 20) & (inner < 40)) and np.all((lengths > 0) & (lengths < 40)):
             return "any_months"
         raise InputFileError(f"{source}: time intervals of {lengths.min():g} to "
                              f"{lengths.max():g} days are not months")
