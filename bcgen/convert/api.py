@@ -41,8 +41,10 @@ Values are computed in float64 on decoded values (``scale_factor``/``add_offset`
 applied, ``_FillValue`` as NaN) and stored as float32 when the decoded input was
 float32 or an integer of at most 16 bits, else float64; the packing (scale, offset,
 integer type, fill value) is dropped because means of packed integers need not fit
-the packing, and ``valid_min``/``valid_max``/``valid_range`` are converted to unpacked
-values.
+the packing; ``valid_min``/``valid_max``/``valid_range`` are converted to unpacked
+values for daily means (averaged, so they stay inside) and dropped otherwise (an
+interpolation may overshoot them, and readers would mask those values);
+``actual_range`` is dropped.
 
 What each variable's values are is read from its ``cell_methods``
 (:mod:`bcgen.convert.cellmethods`): means (``time: mean``, and variables without a time
@@ -322,14 +324,26 @@ def _out_dtype(var: xr.DataArray) -> np.dtype:
     return np.dtype(np.float64)
 
 
-def _unpacked_attrs(var: xr.DataArray, dtype: np.dtype) -> dict:
+def _unpacked_attrs(var: xr.DataArray, dtype: np.dtype, keep_valid: bool) -> dict:
+    """Attributes of a converted variable: packing dropped, valid range in unpacked values.
+
+    ``actual_range`` is dropped (the converted values have another range, CF 1.11 §2.5.1).
+    ``valid_min``/``valid_max``/``valid_range`` are kept only when the converted values
+    are weighted means of the input values (``keep_valid``: daily means averaged): a
+    mean-preserving interpolation may overshoot a bound next to a month at it (sea ice
+    at 0 %, a dry month), and readers that mask values outside the valid range would
+    then lose those months; a total over a longer month may exceed a monthly maximum.
+    """
     attrs = dict(var.attrs)
     scale = var.encoding.get("scale_factor", 1.0)
     offset = var.encoding.get("add_offset", 0.0)
-    for key in ("valid_min", "valid_max", "valid_range", "actual_range"):
-        if key in attrs:
+    for key in ("valid_min", "valid_max", "valid_range"):
+        if key in attrs and keep_valid:
             attrs[key] = (np.asarray(attrs[key], dtype=np.float64) * scale + offset).astype(dtype)
-    for key in ("missing_value", "_FillValue", "scale_factor", "add_offset", "_Unsigned"):
+        else:
+            attrs.pop(key, None)
+    for key in ("actual_range", "missing_value", "_FillValue", "scale_factor", "add_offset",
+                "_Unsigned"):
         attrs.pop(key, None)
     return attrs
 
@@ -367,7 +381,8 @@ def _convert_variable(var: xr.DataArray, dim: str, kernel_plan, n_out: int,
         data = (data * np.asarray(target_days, dtype=np.float64).reshape(along)).astype(dtype)
     out = xr.DataArray(data, dims=var.dims, name=var.name,
                        coords={k: c for k, c in var.coords.items() if dim not in c.dims})
-    out.attrs = _unpacked_attrs(var, dtype)
+    out.attrs = _unpacked_attrs(var, dtype, keep_valid=isinstance(kernel_plan, _AggregatePlan)
+                                and decision.treatment == "mean")
     out.attrs["cell_methods"] = decision.cell_methods
     fill = np.array(1.0e20, dtype=dtype) if dtype == np.float32 else 1.0e20
     out.encoding = {"_FillValue": fill, "dtype": dtype}
