@@ -105,7 +105,12 @@ with χ²₀.₉₉₉₉ = 15.14 for one parameter and 21.11 for three (standar
 from memory; a strict level, because the special case is the likelier mistake).
 So a day-of-year origin off by one is not reported as an equinox 1.05 days late
 because noise moved the fitted shift; the description says when two
-explanations cannot be told apart from the output.
+explanations cannot be told apart from the output. The general explanation
+must also lower the RMS misfit by more than :data:`MISFIT_FLOOR_WM2`: with tens
+of thousands of values the test alone would take the general one's fit to a
+smooth error far below any tolerance (the sampling error of a zonal mean of
+instantaneous fluxes over 48 longitudes, about 0.2 W m-2) as significant, and
+name ``orbital_elements_differ`` for a perihelion 180° off.
 
 References
 ----------
@@ -625,13 +630,18 @@ class Diagnosis:
         return found
 
     def _general_needed(self, special: Finding, general: Finding) -> bool:
-        """Test nested models: whether the general one fits significantly better (LR test)."""
+        """Whether the general explanation is needed (module docstring, "Ranking").
+
+        It must fit significantly better (likelihood-ratio test) and lower the RMS
+        misfit by more than :data:`MISFIT_FLOOR_WM2`.
+        """
         floor = self.n * MISFIT_FLOOR_WM2**2
         rss_s = max(self.n * special.misfit_after_wm2**2, floor)
         rss_g = max(self.n * general.misfit_after_wm2**2, floor)
         dof = general.free_parameters - special.free_parameters
         sigma2 = rss_g / max(self.n - general.free_parameters, 1)
-        return (rss_s - rss_g) / sigma2 > CHI2_9999[dof]
+        gain_wm2 = special.misfit_after_wm2 - general.misfit_after_wm2
+        return (rss_s - rss_g) / sigma2 > CHI2_9999[dof] and gain_wm2 > MISFIT_FLOOR_WM2
 
     def unexplained(self, partial: Finding | None = None) -> Finding:
         """Return the finding reported when nothing in the catalogue explains an inconsistency.
