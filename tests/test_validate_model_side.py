@@ -313,3 +313,23 @@ def test_convention_and_dates_in_the_reports(folder, run_cli):
     # the closing line names the worst place with its dates whole
     assert re.search(r"bcgen: check failed: .*\(year 1, days? [\d.-]+ \(\d+ \w+ \d\d:\d\d", err)
     assert "(23 March " in out
+
+
+# --- instantaneous fluxes without time bounds (cell_methods "time: point") ------------------
+@pytest.mark.parametrize("mistake", [None, "equinox_day_shift"])
+def test_hourly_instantaneous_latlon_without_bounds(folder, mistake):
+    # hourly instantaneous cos Z on 48 longitudes through March and April, as a model's
+    # radiation output: no time bounds, cell_methods "time: point" (CF 1.11 §7.3)
+    model = model_routine(mistake, "noleap")
+    lon = np.arange(48) * 7.5
+    t = np.arange(59.0, 120.0, 1.0 / 24.0)  # days after 1 January 00:00
+    values = model.instantaneous_wm2(t + 1.0, LATS_POLES, lon)  # the routine counts from 1
+    path = write_netcdf(folder / f"hourly_point_{mistake}.nc", values, t, t,
+                        np.ones(t.size, int), LATS_POLES, "noleap", bounds=False,
+                        attrs={"cell_methods": "area: mean time: point"})
+    result = validate(path, spec_path(folder, "noleap"))
+    assert result.output.frequency == "instant"
+    if mistake is None:
+        assert result.verdict == "consistent", result.reasons
+        return
+    _check_first(result, mistake, "noleap")

@@ -17,6 +17,8 @@ NetCDF model output
 
     Each value covers the interval given by the time bounds (CF §7.1), or, for a
     climatological axis, by the ``climatology`` bounds (CF §7.4). Without bounds,
+    values whose ``cell_methods`` say ``time: point`` (CF §7.3) are instantaneous
+    at their time stamps, at any spacing (hourly radiation output); otherwise
     daily and monthly spacing is recognised and each value is taken to cover the
     day or calendar month that contains its time stamp; a stamp exactly at 00:00
     is taken as the *start* of its day or month, with a warning, because models
@@ -256,7 +258,9 @@ def read_model_output(path, var: str | None = None) -> ModelOutput:
         else:
             values = np.asarray(da.values, dtype=float)
         values[~np.isfinite(values)] = np.nan
-        calendar, year, start, end, month, frequency = _read_time(ds, time_dim, where, notes)
+        point = _time_is_point(da.attrs.get("cell_methods"), time_dim)
+        calendar, year, start, end, month, frequency = _read_time(ds, time_dim, where, notes,
+                                                                  point)
     order_idx = np.lexsort((start, year))
     lat_order = np.argsort(lat)
     return ModelOutput(
@@ -474,8 +478,24 @@ def _find_dims(ds, da, where: str) -> tuple[str, str, str | None]:
     return found["time"], found["latitude"], found.get("longitude")
 
 
-def _read_time(ds, dim: str, where: str, notes: list[str]):
-    """Calendar, year, start_day, end_day, month and frequency of each time step."""
+def _time_is_point(cell_methods, dim: str) -> bool:
+    """Whether ``cell_methods`` says the values are instantaneous (CF §7.3 ``time: point``).
+
+    Parsed as ``bcgen convert`` parses it (:func:`bcgen.convert.cellmethods.parse`);
+    entries naming the time dimension or ``time`` are the time entries.
+    """
+    from bcgen.convert.cellmethods import parse
+
+    return any(e.method == "point" for e in parse(str(cell_methods or ""))
+               if dim in e.names or "time" in e.names)
+
+
+def _read_time(ds, dim: str, where: str, notes: list[str], point: bool = False):
+    """Calendar, year, start_day, end_day, month and frequency of each time step.
+
+    ``point``: the values are instantaneous (``cell_methods`` ``time: point``), read
+    as instants at their stamps when the axis has no bounds.
+    """
     time = ds[dim]
     units = time.attrs.get("units")
     factor = time_unit_days(units, where)
@@ -535,6 +555,11 @@ def _read_time(ds, dim: str, where: str, notes: list[str]):
             length = np.where(length <= 1e-9, lengths, length)
             notes.append("climatological time axis: each value folded into one model year")
         end = start + length
+    elif point:
+        year, start = day_of_year(t, to_dates(t))
+        end = start.copy()
+        notes.append("cell_methods time: point: each value taken as the instantaneous flux "
+                     "at its time stamp")
     else:
         year, start, end = _infer_intervals(t, factor, to_dates, day_of_year, cal, where, notes)
     mid_dates = to_dates((start + end) / 2.0 / factor + _offsets(year, jan1_cache))
@@ -583,7 +608,8 @@ def _infer_intervals(t, factor, to_dates, day_of_year, cal, where, notes):
     else:
         raise InputFileError(
             f"{where}: the time axis has no bounds and its spacing ({step:g} days) is neither "
-            f"daily nor monthly; add time bounds (CF §7.1) so each value's interval is known")
+            f"daily nor monthly; add time bounds (CF §7.1) so each value's interval is known, "
+            f"or cell_methods \"time: point\" (CF §7.3) if the values are instantaneous")
     if at_midnight:
         warnings.warn(
             f"{where}: time stamps at 00:00 without time bounds; each value is taken as the "
