@@ -11,13 +11,19 @@ each construction or published protocol values (named beside each check).
 from __future__ import annotations
 
 import dataclasses
+import datetime
 import re
 from pathlib import Path
 
 import numpy as np
 import pytest
 from model_side_orbit import ModelOrbit, berger1978_elements
-from published_tables import CMIP6_PICONTROL_TSI_WM2, PMIP4, PMIP_SOLAR_CONSTANT_WM2
+from published_tables import (
+    CMIP6_PICONTROL_TSI_WM2,
+    PMIP4,
+    PMIP_SOLAR_CONSTANT_WM2,
+    TROPICAL_YEAR_DAYS,
+)
 from validate_synthetic import write_netcdf
 
 import bcgen
@@ -333,3 +339,52 @@ def test_hourly_instantaneous_latlon_without_bounds(folder, mistake):
         assert result.verdict == "consistent", result.reasons
         return
     _check_first(result, mistake, "noleap")
+
+
+# --- an orbit running freely through several years, never anchored again ---------------------
+def free_running_file(folder: Path, calendar: str, years: range, frequency: str) -> Path:
+    """The routine fed continuous day numbers over ``years``: its orbital year is the tropical
+    year and its March equinox is on 21 March 12:00 of the first year only (real dates)."""
+    import cftime
+
+    first = cftime.datetime(years[0], 1, 1, calendar=calendar)
+    n_days = int((cftime.datetime(years[-1] + 1, 1, 1, calendar=calendar) - first).days)
+    equinox = (cftime.datetime(years[0], 3, 21, 12, calendar=calendar) - first).days + 1.5
+    model = ModelOrbit.for_epoch(EPOCH_YEARS, year_days=TROPICAL_YEAR_DAYS,
+                                 equinox_day=equinox)
+    daily = model.daily_means_wm2(n_days, LATS_POLES, "midday")
+    dates = [first + datetime.timedelta(days=d) for d in range(n_days)]
+    year_of = np.array([d.year for d in dates])
+    start = np.array([float(d.dayofyr - 1) for d in dates])
+    if frequency == "monthly":
+        month = np.array([d.month for d in dates])
+        keys = sorted(set(zip(year_of, month, strict=True)))
+        daily = np.stack([daily[(year_of == y) & (month == m)].mean(axis=0) for y, m in keys])
+        bounds = {y: ModelCalendar(calendar).month_starts_days(y) for y in years}
+        start = np.array([bounds[y][m - 1] for y, m in keys])
+        end = np.array([bounds[y][m] for y, m in keys])
+        year_of = np.array([y for y, _ in keys])
+    else:
+        end = start + 1.0
+    name = f"free_{calendar}_{frequency}_{years[0]}-{years[-1]}.nc"
+    return write_netcdf(folder / name, daily, start, end, year_of, LATS_POLES, calendar)
+
+
+@pytest.mark.parametrize("calendar, years, frequency", [
+    ("proleptic_gregorian", range(2001, 2005), "daily"),
+    ("noleap", range(1, 4), "monthly"),
+])
+def test_equinox_drifting_with_a_free_running_orbit_is_named(folder, calendar, years,
+                                                              frequency):
+    # real dates: the equinox 0.2422 day later each year of 365 days and a day earlier at a
+    # leap day (the mean tropical year, the Astronomical Almanac: TROPICAL_YEAR_DAYS)
+    path = free_running_file(folder, calendar, years, frequency)
+    result = validate(path, spec_path(folder, calendar))
+    assert result.verdict == "inconsistent"
+    first = result.findings[0]
+    assert first.code == "equinox_drift", [(f.code, f.explains) for f in result.findings]
+    assert first.explains is True
+    assert first.fitted_value == pytest.approx(TROPICAL_YEAR_DAYS, abs=1e-6)
+    # the construction: the equinox on 21 March 12:00 of the first year
+    assert first.details["anchor_shift_days_first_year"] == pytest.approx(0.0, abs=0.02)
+    assert first.details["equinox_dates"][str(years[0])] == "21 March 12:00"

@@ -24,6 +24,16 @@ Codes
     The orbit runs on a year of another length than the calendar (360 versus
     365 days ...). Fitted value: the model's orbital year, days (chosen from
     360, 365, 366), with its anchor shift in ``details``. One free parameter.
+``equinox_drift``
+    The orbit runs freely on a year of L' days from the first year's anchor and
+    is never anchored again, so the equinox drifts through the calendar: the
+    tropical year in a ``noleap`` calendar (0.24 day later each year), real
+    equinox dates in ``proleptic_gregorian`` (they move with the leap cycle), a
+    365-day orbit in a leap-year calendar. Fitted value: L', days (chosen from
+    :data:`FREE_YEAR_LENGTHS_DAYS`), with the first year's anchor shift and the
+    equinox of each year in ``details``. One free parameter (the shift). In
+    one model year it is told from ``year_length_mismatch`` only for years
+    within half a day of the calendar's, which that one leaves out.
 ``day_origin_off_by_one``
     Day of the year counted from another origin: the model's Sun is exactly one
     day early (−1) or late (+1). Fitted value: ±1, days. No free parameter.
@@ -133,6 +143,7 @@ from functools import cache
 import numpy as np
 
 from bcgen.epochs import format_epoch
+from bcgen.insolation.monthly import TROPICAL_YEAR_DAYS
 from bcgen.orbit import solve as solve_orbit
 from bcgen.orbit.elements import OrbitalElements
 from bcgen.validation.compare import max_abs_allowed_wm2, noise_estimate, rms_allowed_wm2
@@ -153,6 +164,11 @@ MATCH_DISTANCE = 3.0
 #: Orbital-year lengths tried by ``year_length_mismatch``, days.
 #: A length within half a day of the calendar's is left out (it acts like a shift).
 YEAR_LENGTHS_DAYS = (360.0, 365.0, 366.0)
+#: Years tried by ``equinox_drift`` for a freely running orbit, days: the mean tropical
+#: year (bcgen.insolation.monthly.TROPICAL_YEAR_DAYS) and the calendar years.
+FREE_YEAR_LENGTHS_DAYS = (TROPICAL_YEAR_DAYS, 365.0, 366.0, 360.0)
+#: Half-range of the scan for the first year's anchor shift of ``equinox_drift``, days.
+DRIFT_SHIFT_RANGE_DAYS = 6.0
 #: Epochs (years from 1950 CE, with their labels) taken as "the modern orbit" by
 #: ``orbit_not_applied``: PMIP4 piControl (1850 CE), the BP "present" (1950 CE), and 2000 CE.
 MODERN_EPOCHS = {-100.0: "1850CE", 0.0: "1950CE", 50.0: "2000CE"}
@@ -172,6 +188,8 @@ CODES: dict[str, str] = {
     "equinox_day_shift": "orbit anchored on another day (shift fitted, days)",
     "solar_constant_ratio": "another solar constant (ratio fitted)",
     "year_length_mismatch": "orbital year of another length than the calendar year",
+    "equinox_drift": "orbit running freely on a year of its own, never anchored again "
+                     "(the equinox drifts through the calendar)",
     "day_origin_off_by_one": "day of the year counted from another origin (one day off)",
     "sun_at_day_start": "the Sun evaluated at 00:00 instead of 12:00 of each day",
     "orbit_not_applied": "the modern orbit instead of the experiment's",
@@ -521,6 +539,55 @@ class Diagnosis:
             {"anchor_shift_days": round(shift, 4)},
             replay={"shift_days": shift, "orbit_year_days": length})
 
+    def equinox_drift(self) -> Finding | None:
+        """Fit ``equinox_drift``: each free year length, with the first year's anchor shift."""
+        years = np.unique(self.model.output.year)
+        fixed = self.calendar.name in ("noleap", "all_leap", "360_day")
+        step = 0.5
+        grid = np.arange(-DRIFT_SHIFT_RANGE_DAYS, DRIFT_SHIFT_RANGE_DAYS + 0.5 * step, step)
+        best = None  # the year length and shift of the coarse scans, then refined once
+        for length in FREE_YEAR_LENGTHS_DAYS:
+            if fixed and abs(length - self.calendar_year_days) < 1e-9:
+                continue  # the calendar's own year: the spec's orbit
+            if years.size == 1 and abs(length - self.calendar_year_days) >= 0.5:
+                continue  # one year: year_length_mismatch already tries it
+            coarse = self._shift_rss(True, free_year_days=length)
+            rss = [coarse(x) for x in grid]
+            i = int(np.argmin(rss))
+            if best is None or rss[i] < best[2]:
+                best = (length, float(grid[i]), rss[i])
+        if best is None:
+            return None
+        length, shift, _ = best
+        shift, _ = golden_section(self._shift_rss(free_year_days=length), shift - step,
+                                  shift + step)
+        pred = self.predict(shift_days=shift, free_year_days=length)
+        y0, y1 = int(years[0]), int(years[-1])
+        equinoxes, drift = {}, shift
+        for y in range(y0, y1 + 1):
+            if y == 0 and not self.calendar.has_year_zero:
+                continue
+            anchor = float(self.calendar.anchor_day(y))
+            if len(equinoxes) < 8 or y == y1:
+                equinoxes[str(y)] = date_of_day(anchor + drift, self.calendar, year=y)
+            drift += length - float(self.calendar.anchor_day(y + 1) + self._year_days(y)
+                                    - anchor)
+        what = ("the tropical year" if abs(length - TROPICAL_YEAR_DAYS) < 1e-6
+                else f"a {length:g}-day year")
+        first, last = equinoxes[str(y0)], equinoxes[str(y1)]
+        return self._finding(
+            "equinox_drift",
+            f"the orbit runs freely on {what} ({length:g} days) and is not anchored again "
+            f"each calendar year: the March equinox drifts from {first} in year {y0} to "
+            f"{last} in year {y1} instead of staying on "
+            f"{date_of_day(self.anchor_day, self.calendar)}",
+            length, "anchored every year", "days", pred, 1,
+            {"anchor_shift_days_first_year": round(shift, 4), "equinox_dates": equinoxes},
+            replay={"shift_days": shift, "free_year_days": length})
+
+    def _year_days(self, year: int) -> float:
+        return float(self.calendar.year_length_days(year))
+
     def day_origin_off_by_one(self) -> Finding:
         """Fit ``day_origin_off_by_one``: the better of shifts of -1 and +1 day."""
         options = [(s, self.predict(shift_days=s)) for s in (-1.0, 1.0)]
@@ -613,7 +680,7 @@ class Diagnosis:
         """Every explanation, best first (lowest ΔBIC; ties: fewer parameters first)."""
         found = [self.perihelion_opposite(), self.equinox_day_shift(),
                  self.solar_constant_ratio(), self.year_length_mismatch(),
-                 self.day_origin_off_by_one(), self.sun_at_day_start(),
+                 self.equinox_drift(), self.day_origin_off_by_one(), self.sun_at_day_start(),
                  self.orbit_not_applied(),
                  self.orbital_elements_differ()]
         order = list(CODES)

@@ -13,7 +13,9 @@ prediction under the assumptions of a mistaken orbit code:
   day, or day numbers counted from another origin);
 * an orbital year of another length than the calendar year (a 365-day orbit in
   a 360-day calendar, or the reverse);
-* the daily-mean formula taken at 00:00 of each day instead of its middle.
+* the daily-mean formula taken at 00:00 of each day instead of its middle;
+* an orbit that runs freely on a year of L' days from the first year's anchor
+  and is never anchored again (:class:`FreeRunningSolarYear`).
 
 Anchor shifts and year lengths enter as a remapping of model time t to the time
 t' at which bcgen's orbit (anchored at day a, year length L) is evaluated,
@@ -25,6 +27,21 @@ t' at which bcgen's orbit (anchored at day a, year length L) is evaluated,
 with Δ the anchor shift and L' the model's orbital year: the model's Sun is at
 t where bcgen's is at t'. Both are exact for a uniformly advancing mean anomaly
 (Kepler's second law), which is how every orbit code places the Sun.
+
+A free-running orbit places the model's Sun at the orbital phase
+2π (T − E₀)/L' of continuous model time T, E₀ its first March equinox. In model
+year y, with aᵧ the spec's anchor and Lₖ the spec's orbital year that starts at
+the anchor of year k, the model's equinox falls
+
+.. math::
+
+    \Delta_y = \Delta_{y_0} + \sum_{k=y_0}^{y-1} (L' - L_k)
+
+days after aᵧ (y₀ the first year of the output): 0.2422 day more each year for
+the tropical year in a ``noleap`` calendar, a wobble with the leap cycle in
+``proleptic_gregorian``. The phase is mapped through bcgen's orbital phase, so the
+model's Sun at t is bcgen's Sun at the time of phase 2π (t − aᵧ − Δᵧ)/L', exactly
+also before the anchor when the two orbital years around it differ in length.
 
 Daily-mean conventions
     A value covering [t₁, t₂) is the time mean of the zonal-mean insolation
@@ -150,6 +167,39 @@ class RemappedSolarYear:
         return a + self.shift_days + (t - a) / self.scale
 
 
+@dataclass(frozen=True, eq=False)
+class FreeRunningSolarYear:
+    """The Sun of a :class:`SolarYear` for an orbit running on a year of ``year_days``.
+
+    The model's orbital phase is 2π (t − a − Δ)/L' with ``a`` the anchor day of
+    the year, Δ = ``shift_days`` and L' = ``year_days`` (module docstring); the
+    Sun is where bcgen's is at that orbital phase. Offers the two methods the
+    engine's interval means need.
+    """
+
+    solar_year: SolarYear
+    shift_days: float
+    year_days: float
+
+    def _phase(self, t):
+        a = self.solar_year.anchor_day
+        return 2.0 * np.pi * (np.asarray(t, dtype=float) - a - self.shift_days) / self.year_days
+
+    def true_longitude_rad(self, t_days) -> np.ndarray:
+        """Return the Sun's true longitude at model times, radians."""
+        sy = self.solar_year
+        return sy.true_longitude_rad(sy.time_of_orbital_phase_days(self._phase(t_days)))
+
+    def time_of_true_longitude_days(self, true_longitude_rad, near_days=None) -> np.ndarray:
+        """Model time at which the Sun reaches a true longitude (nearest ``near_days``)."""
+        phase = self.solar_year.orbital_phase_of_true_longitude_rad(true_longitude_rad)
+        if near_days is not None:
+            near = self._phase(near_days)
+            phase = near + (np.mod(phase - near + np.pi, 2.0 * np.pi) - np.pi)
+        a = self.solar_year.anchor_day
+        return a + self.shift_days + phase / (2.0 * np.pi) * self.year_days
+
+
 class ForwardModel:
     """Predicted zonal-mean insolation on a model output's intervals and latitudes.
 
@@ -193,6 +243,7 @@ class ForwardModel:
         shift_days: float = 0.0,
         orbit_year_days: float | None = None,
         method: str | None = None,
+        free_year_days: float | None = None,
     ) -> np.ndarray:
         """Insolation (W m-2) of shape (n_times, n_latitudes) under the given assumptions.
 
@@ -210,9 +261,15 @@ class ForwardModel:
         method : str, optional
             A method of the engine (:data:`bcgen.insolation.daily.INTERVAL_MEAN_METHODS`)
             instead of the setup's convention (``start_of_day`` for the Sun at 00:00).
+        free_year_days : float, optional
+            Length of the year on which the model's orbit runs freely from the
+            first year's anchor (shifted by ``shift_days``), never anchored again
+            (module docstring); ``orbit_year_days`` is then ignored.
         """
         orbit = self.setup.orbit if orbit is None else orbit
         method = self.setup.daily_method if method is None else method
+        if free_year_days is not None:
+            return solar_ratio * self._predict_free(orbit, shift_days, free_year_days, method)
         out = np.empty((self.n_unique, self.latitude_deg.size))
         for year in self._years:
             sel = self._unique[:, 0] == year
@@ -224,6 +281,29 @@ class ForwardModel:
                 position, orbit, self.latitude_deg, self._unique[sel, 1], self._unique[sel, 2],
                 self.setup.solar_constant_wm2, method, self.setup.timestep_days)
         return solar_ratio * out[self._inverse]
+
+    def _predict_free(self, orbit: OrbitalElements, shift_days: float, year_days: float,
+                      method: str) -> np.ndarray:
+        """Prediction for an orbit running freely on ``year_days`` (see :meth:`predict`)."""
+        out = np.empty((self.output.year.size, self.latitude_deg.size))
+        years = np.unique(self.output.year)
+        drift = 0.0  # Δ_y − Δ_y0: L' − L_k summed over the years before y
+        for year in range(int(years[0]), int(years[-1]) + 1):
+            if year == 0 and not self.setup.calendar.has_year_zero:
+                continue  # no year 0 in these calendars
+            solar_year = SolarYear(orbit, self.setup.calendar, year=year)
+            rows = np.flatnonzero(self.output.year == year)
+            if rows.size:
+                key = np.stack([np.round(self.output.start_day[rows], 6),
+                                np.round(self.output.end_day[rows], 6)], axis=1)
+                unique, inverse = np.unique(key, axis=0, return_inverse=True)
+                position = FreeRunningSolarYear(solar_year, shift_days + drift, year_days)
+                values = interval_mean_insolation_wm2(
+                    position, orbit, self.latitude_deg, unique[:, 0], unique[:, 1],
+                    self.setup.solar_constant_wm2, method, self.setup.timestep_days)
+                out[rows] = values[inverse.ravel()]
+            drift += year_days - solar_year.orbital_year_length_days
+        return out
 
     def geometry(self, t_days: np.ndarray, year: np.ndarray) -> dict[str, np.ndarray]:
         """Return the reference true longitude (deg), declination (deg), (a/r)² at model times."""
