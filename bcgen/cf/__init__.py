@@ -3,6 +3,8 @@
 - :mod:`bcgen.cf.attributes`: the attributes of every variable bcgen writes (data only);
 - :mod:`bcgen.cf.time_axes`: time axes on a model calendar (a repeating year, a series);
 - :mod:`bcgen.cf.provenance`: the global attributes that record what made a file;
+- :mod:`bcgen.cf.cellmethods`: ``cell_methods`` split into entries (what statistic over
+  which dimension);
 - :mod:`bcgen.cf.reader`: how a file written by anyone (a model's output, a grid file, a
   file bcgen built) is read: the time axis with or without bounds, latitude and
   longitude found by CF rules, and time units.

@@ -265,7 +265,7 @@ def _fixed_angle_targets(axis: TimeAxis, cal: ModelCalendar, orbits: OrbitalElem
     """
     from bcgen.solar_calendar.months import fixed_angle_months
 
-    if cal.name in ("noleap", "all_leap", "360_day"):  # every year alike: all orbits at once
+    if cal.every_year_alike:  # all orbits at once
         table = fixed_angle_months(orbits, cal, reference=reference, year=years[0])
         start_days, end_days = table.start_day, table.end_day
     else:

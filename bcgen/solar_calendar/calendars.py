@@ -420,6 +420,14 @@ class ModelCalendar:
 
     # --- year arithmetic ------------------------------------------------------------------
     @property
+    def every_year_alike(self) -> bool:
+        """Whether every year has the same length (``noleap``, ``all_leap``, ``360_day``).
+
+        In such a calendar the days map to an anchored orbit in the same way every year.
+        """
+        return self.name in ("noleap", "all_leap", "360_day")
+
+    @property
     def has_year_zero(self) -> bool:
         """Whether year 0 exists (all CF calendars except ``julian`` and ``standard``)."""
         return self.name not in _NO_YEAR_ZERO

@@ -542,12 +542,11 @@ class Diagnosis:
     def equinox_drift(self) -> Finding | None:
         """Fit ``equinox_drift``: each free year length, with the first year's anchor shift."""
         years = np.unique(self.model.output.year)
-        fixed = self.calendar.name in ("noleap", "all_leap", "360_day")
         step = 0.5
         grid = np.arange(-DRIFT_SHIFT_RANGE_DAYS, DRIFT_SHIFT_RANGE_DAYS + 0.5 * step, step)
         best = None  # the year length and shift of the coarse scans, then refined once
         for length in FREE_YEAR_LENGTHS_DAYS:
-            if fixed and abs(length - self.calendar_year_days) < 1e-9:
+            if self.calendar.every_year_alike and abs(length - self.calendar_year_days) < 1e-9:
                 continue  # the calendar's own year: the spec's orbit
             if years.size == 1 and abs(length - self.calendar_year_days) >= 0.5:
                 continue  # one year: year_length_mismatch already tries it
@@ -570,8 +569,8 @@ class Diagnosis:
             anchor = float(self.calendar.anchor_day(y))
             if len(equinoxes) < 8 or y == y1:
                 equinoxes[str(y)] = date_of_day(anchor + drift, self.calendar, year=y)
-            drift += length - float(self.calendar.anchor_day(y + 1) + self._year_days(y)
-                                    - anchor)
+            drift += length - float(self.calendar.anchor_day(y + 1)
+                                    + self.calendar.year_length_days(y) - anchor)
         what = ("the tropical year" if abs(length - TROPICAL_YEAR_DAYS) < 1e-6
                 else f"a {length:g}-day year")
         first, last = equinoxes[str(y0)], equinoxes[str(y1)]
@@ -584,9 +583,6 @@ class Diagnosis:
             length, "anchored every year", "days", pred, 1,
             {"anchor_shift_days_first_year": round(shift, 4), "equinox_dates": equinoxes},
             replay={"shift_days": shift, "free_year_days": length})
-
-    def _year_days(self, year: int) -> float:
-        return float(self.calendar.year_length_days(year))
 
     def day_origin_off_by_one(self) -> Finding:
         """Fit ``day_origin_off_by_one``: the better of shifts of -1 and +1 day."""

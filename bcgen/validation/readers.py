@@ -68,6 +68,7 @@ import cftime
 import numpy as np
 
 from bcgen.cf import LATITUDE_UNITS
+from bcgen.cf.cellmethods import parse as parse_cell_methods
 from bcgen.cf.reader import (
     check_time_increases,
     coordinate_kind,
@@ -481,12 +482,10 @@ def _find_dims(ds, da, where: str) -> tuple[str, str, str | None]:
 def _time_is_point(cell_methods, dim: str) -> bool:
     """Whether ``cell_methods`` says the values are instantaneous (CF §7.3 ``time: point``).
 
-    Parsed as ``bcgen convert`` parses it (:func:`bcgen.convert.cellmethods.parse`);
+    Parsed as ``bcgen convert`` parses it (:func:`bcgen.cf.cellmethods.parse`);
     entries naming the time dimension or ``time`` are the time entries.
     """
-    from bcgen.convert.cellmethods import parse
-
-    return any(e.method == "point" for e in parse(str(cell_methods or ""))
+    return any(e.method == "point" for e in parse_cell_methods(str(cell_methods or ""))
                if dim in e.names or "time" in e.names)
 
 

@@ -66,9 +66,6 @@ from bcgen.solar_calendar.calendars import ModelCalendar
 from bcgen.solar_calendar.position import SolarYear
 from bcgen.validation.readers import ModelOutput
 
-#: Calendars whose days map to the orbit in the same way every year.
-_FIXED_LENGTH = ("noleap", "all_leap", "360_day")
-
 #: The legitimate daily-mean conventions a model's output may follow (engine methods).
 DAILY_CONVENTIONS: dict[str, str] = {name: INTERVAL_MEAN_METHODS[name]
                                for name in ("midday", "day_average", "timestep_mean")}
@@ -222,7 +219,7 @@ class ForwardModel:
         self.setup = setup
         self.latitude_deg = output.latitude_deg
         cal = setup.calendar
-        years = output.year if cal.name not in _FIXED_LENGTH else np.ones_like(output.year)
+        years = np.ones_like(output.year) if cal.every_year_alike else output.year
         key = np.stack([years.astype(float), np.round(output.start_day, 6),
                         np.round(output.end_day, 6)], axis=1)
         unique, inverse = np.unique(key, axis=0, return_inverse=True)
